@@ -1,0 +1,37 @@
+// Package lm solves nonlinear least-squares problems
+//
+//	minimise  S(x) = Σᵢ wᵢ·rᵢ(x)²
+//
+// by the Levenberg–Marquardt method with Marquardt's parameter scaling,
+// fixed parameters and box bounds.
+//
+// Each iteration factors the weighted Jacobian J = QR by Householder
+// reflections and finds the damped step δ from the small least-squares problem
+//
+//	min ‖ [R; √λ·D] δ + [Qᵀr; 0] ‖
+//
+// as in Moré (1978), "The Levenberg–Marquardt algorithm: implementation and
+// theory", in Numerical Analysis (G. A. Watson, ed.), Springer LNM 630,
+// pp. 105–116, so that JᵀJ is never
+// formed and the conditioning of the step is that of J, not of JᵀJ. D holds the
+// running maximum of the Jacobian's column norms (Moré 1978, eq. 6.3).
+// The damping λ is chosen so that the scaled step stays inside a trust
+// region ‖Dδ‖ ≤ Δ, and Δ grows or shrinks with the ratio of actual to
+// predicted reduction (Moré 1978, §5–§6, as in MINPACK's lmder).
+//
+// Bounds are kept by projection: a parameter at a bound whose descent
+// direction points outward is held for that iteration (an active set), and a
+// step is clipped to the box.
+//
+// The covariance of the estimate is NIST's
+//
+//	Cov = σ²·(JᵀWJ)⁻¹,  σ² = S/(M − p),
+//
+// with p the number of parameters that are neither fixed nor at a bound,
+// computed from the QR factors of the column-scaled Jacobian. A solution whose
+// scaled Jacobian is numerically rank-deficient is reported as Singular, never
+// as converged.
+//
+// A Workspace holds every buffer a solve needs; reusing one for many problems
+// of the same size makes a solve free of heap allocation.
+package lm

@@ -1,0 +1,81 @@
+package lm
+
+import "math"
+
+// householderQR factors the m×k column-major matrix a (a[j*m+i]) in place as
+// a = QR. On return the upper triangle of a holds R, the part below the
+// diagonal holds the Householder vectors (their first element implicit, as
+// stored in beta and the diagonal saved in vdiag), and each reflector is also
+// applied to the vectors in rhs (length m each).
+//
+// The reflector for column j is H = I − τvvᵀ with v = [1, a[j+1:m, j]/(a_jj − α)],
+// α = −sign(a_jj)·‖a[j:m, j]‖ (Golub & Van Loan, Matrix Computations, 4th
+// ed., Algorithm 5.1.1 and §5.2.2).
+func householderQR(a []float64, m, k int, tau []float64, rhs ...[]float64) {
+	for j := 0; j < k; j++ {
+		col := a[j*m : j*m+m]
+		// Norm of col[j:], scaled against overflow.
+		var scale, ssq float64 = 0, 1
+		for i := j; i < m; i++ {
+			if v := col[i]; v != 0 {
+				av := math.Abs(v)
+				if scale < av {
+					ssq = 1 + ssq*(scale/av)*(scale/av)
+					scale = av
+				} else {
+					ssq += (av / scale) * (av / scale)
+				}
+			}
+		}
+		norm := scale * math.Sqrt(ssq)
+		if norm == 0 {
+			tau[j] = 0
+			continue
+		}
+		alpha := -math.Copysign(norm, col[j])
+		v0 := col[j] - alpha
+		// v = [1, col[j+1:]/v0]; τ = (α − a_jj)/α... written as −v0/α.
+		inv := 1 / v0
+		for i := j + 1; i < m; i++ {
+			col[i] *= inv
+		}
+		t := -v0 / alpha
+		tau[j] = t
+		col[j] = alpha
+		// Apply H to the remaining columns.
+		for c := j + 1; c < k; c++ {
+			applyReflector(col, a[c*m:c*m+m], j, m, t)
+		}
+		for _, r := range rhs {
+			applyReflector(col, r, j, m, t)
+		}
+	}
+}
+
+// applyReflector applies H = I − τvvᵀ, v = [1, v[j+1:m]], to y[j:m].
+func applyReflector(v, y []float64, j, m int, tau float64) {
+	if tau == 0 {
+		return
+	}
+	s := y[j]
+	for i := j + 1; i < m; i++ {
+		s += v[i] * y[i]
+	}
+	s *= tau
+	y[j] -= s
+	for i := j + 1; i < m; i++ {
+		y[i] -= s * v[i]
+	}
+}
+
+// backSubstitute solves Rx = b for the k×k upper-triangular R stored in the
+// first k rows of the column-major m×k matrix a, writing x into b[:k].
+func backSubstitute(a []float64, m, k int, b []float64) {
+	for i := k - 1; i >= 0; i-- {
+		s := b[i]
+		for c := i + 1; c < k; c++ {
+			s -= a[c*m+i] * b[c]
+		}
+		b[i] = s / a[i*m+i]
+	}
+}

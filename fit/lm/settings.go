@@ -1,0 +1,71 @@
+package lm
+
+// Settings are the solver's tunables. A nil *Settings, and any zero field,
+// means the documented default.
+type Settings struct {
+	// MaxIterations bounds the number of accepted steps. Zero means the
+	// default, 200; it must not be negative.
+	MaxIterations int
+	// MaxEvaluations bounds the number of residual evaluations, counting the
+	// Jacobian ones. Zero means 10·MaxIterations.
+	MaxEvaluations int
+	// GradientTol stops the solve when the largest cosine between the
+	// residual vector and a column of the Jacobian,
+	// |Jⱼᵀr|/(‖Jⱼ‖·‖r‖), is at most this (MINPACK's gtol). Zero means
+	// 1e-12; range (0, 1).
+	GradientTol float64
+	// StepTol stops the solve after an accepted, nearly undamped step when
+	// the scaled step is small: ‖Dδ‖ ≤ StepTol·(‖Dx‖ + StepTol). Zero means
+	// 1e-10; range (0, 1).
+	StepTol float64
+	// FuncTol stops the solve after an accepted, nearly undamped step when
+	// both the actual and the predicted relative reduction of S are at most
+	// this. Zero means 1e-15; range (0, 1).
+	FuncTol float64
+	// InitialTrust sets the first trust radius, InitialTrust·‖Dx₀‖ (MINPACK's
+	// factor). Zero means 1; range [0.1, 100]. MINPACK suggests 100, but with
+	// Jacobian scaling a radius that large lets the first steps throw a
+	// parameter whose column is small far out onto an asymptote (NIST BoxBOD
+	// from start 1 lands on b2 ≈ 111 and stays there); 1 solves all 27 NIST
+	// problems from both starts.
+	InitialTrust float64
+}
+
+// Defaults.
+const (
+	DefaultMaxIterations = 200
+	DefaultGradientTol   = 1e-12
+	DefaultStepTol       = 1e-10
+	DefaultFuncTol       = 1e-15
+	DefaultInitialTrust  = 1
+)
+
+// resolved returns s with every zero field replaced by its default.
+func (s *Settings) resolved() Settings {
+	var r Settings
+	if s != nil {
+		r = *s
+	}
+	if r.MaxIterations < 0 {
+		panic("lm: negative MaxIterations")
+	}
+	if r.MaxIterations == 0 {
+		r.MaxIterations = DefaultMaxIterations
+	}
+	if r.MaxEvaluations <= 0 {
+		r.MaxEvaluations = 10 * r.MaxIterations
+	}
+	if r.GradientTol <= 0 {
+		r.GradientTol = DefaultGradientTol
+	}
+	if r.StepTol <= 0 {
+		r.StepTol = DefaultStepTol
+	}
+	if r.FuncTol <= 0 {
+		r.FuncTol = DefaultFuncTol
+	}
+	if r.InitialTrust <= 0 {
+		r.InitialTrust = DefaultInitialTrust
+	}
+	return r
+}

@@ -1,0 +1,154 @@
+package fit
+
+import (
+	"math"
+
+	"sluice/fit/lm"
+)
+
+// Status words of a Result.
+const (
+	// StatusConverged: the solver found a least-squares solution.
+	StatusConverged = "converged"
+	// StatusNotFitted: the data cannot determine the model (see Flags).
+	StatusNotFitted = "not_fitted"
+)
+
+// Param is one fitted parameter.
+type Param struct {
+	Name     string
+	Estimate float64
+	// SE is the asymptotic standard error, NaN for a fixed or at-bound
+	// parameter or a failed fit.
+	SE float64
+	// WaldLo and WaldHi are Estimate ∓ t(dof, (1+confidence)/2)·SE.
+	WaldLo, WaldHi float64
+	// BootLo and BootHi are the bootstrap interval, NaN without bootstrap.
+	BootLo, BootHi float64
+	Fixed, AtBound bool
+}
+
+// Result is a fitted curve.
+type Result struct {
+	Curve string
+	Model Model
+	// Status is StatusConverged, StatusNotFitted, or the solver's status
+	// word (lm.Status.String) when it did not converge.
+	Status string
+	// Solver is the solver's own status.
+	Solver lm.Status
+	Params []Param
+	// Cov is the covariance σ²(JᵀWJ)⁻¹, row-major over Params, with zero
+	// rows and columns for fixed and at-bound parameters.
+	Cov []float64
+	// N counts points, Levels distinct concentrations, DOF = N − p for p
+	// estimated parameters.
+	N, Levels, DOF int
+	// RSS is Σw(y − f)²; Sigma = √(RSS/DOF); R2 = 1 − RSS/TSS; AICc as in
+	// FACTS §1 (Hurvich & Tsai 1989), with K = p + 1.
+	RSS, Sigma, R2, AICc float64
+	Iterations           int
+	Confidence           float64
+	// Flags are plain-word warnings, e.g. FlagTopNotReached.
+	Flags []string
+	// Boot is the bootstrap summary, nil without resampling.
+	Boot *BootSummary
+
+	set    *resolved
+	design *design
+}
+
+// Flags a Result may carry.
+const (
+	FlagTooFewPoints      = "too_few_points"
+	FlagFitFailed         = "fit_failed"
+	FlagParameterAtBound  = "parameter_at_bound"
+	FlagHillAtBound       = "hill_at_bound"
+	FlagEC50OutsideRange  = "ec50_outside_tested_range"
+	FlagTopNotReached     = "top_not_reached"
+	FlagBottomNotReached  = "bottom_not_reached"
+	FlagNoResponse        = "no_response"
+	FlagBootstrapFailures = "bootstrap_refits_failed"
+	FlagBootstrapAtBound  = "bootstrap_resamples_at_bound"
+)
+
+// Converged reports whether the fit found a least-squares solution.
+func (r *Result) Converged() bool { return r.Status == StatusConverged }
+
+// Param returns the named parameter.
+func (r *Result) Param(name string) (Param, bool) {
+	for _, p := range r.Params {
+		if p.Name == name {
+			return p, true
+		}
+	}
+	return Param{}, false
+}
+
+// Estimates returns the parameter estimates in model order.
+func (r *Result) Estimates() []float64 {
+	v := make([]float64, len(r.Params))
+	for i, p := range r.Params {
+		v[i] = p.Estimate
+	}
+	return v
+}
+
+// LogEC50 returns log10(EC50/M); for every model it is the parameter
+// log_ec50 (for Hill5 the half-maximal concentration; for Bell that of the
+// rising term).
+func (r *Result) LogEC50() Param { return r.Params[iLogEC] }
+
+// EC50 returns the EC50 in molar with its interval: the bootstrap interval
+// of log_ec50 when there is one, else the Wald interval, back-transformed
+// (FACTS §8: a log interval back-transforms asymmetrically).
+func (r *Result) EC50() (est, lo, hi float64) {
+	p := r.LogEC50()
+	lo, hi = p.WaldLo, p.WaldHi
+	if r.Boot != nil {
+		lo, hi = p.BootLo, p.BootHi
+	}
+	return math.Pow(10, p.Estimate), math.Pow(10, lo), math.Pow(10, hi)
+}
+
+// LogECF returns log10 of the concentration giving F % of the response from
+// the zero-concentration plateau to the other one, 0 < F < 100, for the Hill
+// and Hill5 models (FACTS §1 for Hill: log EC_F = log EC50 + log10(F/(100 −
+// F))/|hill|; for Hill5 by solving the curve for the fraction). It returns
+// NaN for Bell and for F outside (0, 100).
+func (r *Result) LogECF(F float64) float64 {
+	if !(F > 0 && F < 100) {
+		return math.NaN()
+	}
+	th := r.Estimates()
+	return logECF(r.Model, th, F)
+}
+
+func logECF(m Model, th []float64, F float64) float64 {
+	L, h := th[iLogEC], th[iHill]
+	switch m {
+	case Hill:
+		return L + math.Log10(F/(100-F))/math.Abs(h)
+	case Hill5:
+		// Fraction toward top: q = (1 + k·u)^(−s), u = 10^((L − x)h). For a
+		// rising curve q = F/100; for a falling one q = 1 − F/100.
+		s := th[iAsym]
+		q := F / 100
+		if h < 0 {
+			q = 1 - q
+		}
+		k := math.Exp2(1/s) - 1
+		u := (math.Pow(q, -1/s) - 1) / k
+		return L - math.Log10(u)/h
+	}
+	return math.NaN()
+}
+
+func (r *Result) addFlag(f string) {
+	for _, g := range r.Flags {
+		if g == f {
+			return
+		}
+	}
+	r.Flags = append(r.Flags, f)
+}

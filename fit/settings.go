@@ -1,0 +1,155 @@
+package fit
+
+import (
+	"math"
+	"sort"
+
+	"sluice/fit/lm"
+)
+
+// Settings control a fit. A nil *Settings, and any zero field, means the
+// documented default.
+type Settings struct {
+	// Model is the curve family; "" means Hill.
+	Model Model
+	// Fixed holds parameters by name at the given values: the
+	// three-parameter variants are {"hill": 1}, {"bottom": 0},
+	// {"top": 100}, and any combination. Nil means none.
+	Fixed map[string]float64
+	// Confidence is the level of every interval. Zero means 0.95; range (0, 1).
+	Confidence float64
+	// MaxHill bounds the magnitude of the slopes hill and hill_block. A
+	// curve whose whole rise falls between two tested concentrations has no
+	// identifiable slope and would otherwise run away; such a fit ends at
+	// the bound and is flagged hill_at_bound. Zero means 10; range (0, 1000].
+	MaxHill float64
+	// PotencyMargin bounds log_ec50 (and log_ic50) to the tested range
+	// widened by this many decades on each side, so that a curve with no
+	// response cannot send its potency to infinity. Zero means 3; range (0, 20].
+	PotencyMargin float64
+	// Solver tunes the least-squares solver; nil means fit/lm's defaults.
+	Solver *lm.Settings
+}
+
+// Defaults for Settings.
+const (
+	DefaultConfidence    = 0.95
+	DefaultMaxHill       = 10
+	DefaultPotencyMargin = 3
+)
+
+// Asymmetry bounds for Hill5: beyond them the curve is a step on one side.
+const (
+	minAsymmetry = 0.05
+	maxAsymmetry = 20
+)
+
+// minBellSlope keeps the bell curve's slopes positive, so that it always
+// rises before it falls.
+const minBellSlope = 0.01
+
+// resolved is Settings with defaults applied and names mapped to indices.
+type resolved struct {
+	model      Model
+	curve      curveModel
+	fixed      []bool
+	fixedValue []float64
+	confidence float64
+	maxHill    float64
+	margin     float64
+	solver     *lm.Settings
+}
+
+func (s *Settings) resolve() (*resolved, error) {
+	var in Settings
+	if s != nil {
+		in = *s
+	}
+	m, err := ParseModel(string(in.Model))
+	if err != nil {
+		return nil, &SettingError{"model", err}
+	}
+	r := &resolved{model: m, curve: m.curve(), confidence: in.Confidence, maxHill: in.MaxHill,
+		margin: in.PotencyMargin, solver: in.Solver}
+	if r.confidence == 0 {
+		r.confidence = DefaultConfidence
+	}
+	if !(r.confidence > 0 && r.confidence < 1) {
+		return nil, &SettingError{"confidence", invalid("%g is outside (0, 1)", in.Confidence)}
+	}
+	if r.maxHill == 0 {
+		r.maxHill = DefaultMaxHill
+	}
+	if !(r.maxHill > 0 && r.maxHill <= 1000) {
+		return nil, &SettingError{"max_hill", invalid("%g is outside (0, 1000]", in.MaxHill)}
+	}
+	if r.margin == 0 {
+		r.margin = DefaultPotencyMargin
+	}
+	if !(r.margin > 0 && r.margin <= 20) {
+		return nil, &SettingError{"potency_margin", invalid("%g is outside (0, 20]", in.PotencyMargin)}
+	}
+	names := r.curve.names()
+	r.fixed = make([]bool, len(names))
+	r.fixedValue = make([]float64, len(names))
+	keys := make([]string, 0, len(in.Fixed))
+	for k := range in.Fixed {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		v := in.Fixed[k]
+		j := indexOf(names, k)
+		if j < 0 {
+			return nil, &SettingError{"fixed." + k, invalid("model %s has no parameter %q (it has %v)", m, k, names)}
+		}
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, &SettingError{"fixed." + k, invalid("value is not a finite number")}
+		}
+		r.fixed[j], r.fixedValue[j] = true, v
+	}
+	return r, nil
+}
+
+func indexOf(names []string, s string) int {
+	for i, n := range names {
+		if n == s {
+			return i
+		}
+	}
+	return -1
+}
+
+// freeCount returns the number of parameters not fixed.
+func (r *resolved) freeCount() int {
+	k := 0
+	for _, f := range r.fixed {
+		if !f {
+			k++
+		}
+	}
+	return k
+}
+
+// bounds writes the box for each parameter given the design.
+func (r *resolved) bounds(d *design, lower, upper []float64) {
+	lo, hi, ok := d.finiteRange()
+	if !ok {
+		lo, hi = 0, 0
+	}
+	for j := range lower {
+		lower[j], upper[j] = math.Inf(-1), math.Inf(1)
+	}
+	lower[iLogEC], upper[iLogEC] = lo-r.margin, hi+r.margin
+	switch r.model {
+	case Hill:
+		lower[iHill], upper[iHill] = -r.maxHill, r.maxHill
+	case Hill5:
+		lower[iHill], upper[iHill] = -r.maxHill, r.maxHill
+		lower[iAsym], upper[iAsym] = minAsymmetry, maxAsymmetry
+	case Bell:
+		lower[iHill], upper[iHill] = minBellSlope, r.maxHill
+		lower[iLogIC], upper[iLogIC] = lo-r.margin, hi+r.margin
+		lower[iHillBlock], upper[iHillBlock] = minBellSlope, r.maxHill
+	}
+}

@@ -141,7 +141,7 @@ func Bootstrap(r *Result, bs *BootSettings) error {
 	failed := make([]bool, B)
 	atBound := make([]bool, B)
 	boot.Run(B, s.Workers, func() func(int) {
-		sv := newSolver(set, d)
+		sv := newSolver(set, d, true)
 		st := boot.NewStream()
 		return func(b int) {
 			st.Reset(s.Seed, b)
@@ -177,7 +177,7 @@ func Bootstrap(r *Result, bs *BootSettings) error {
 	if s.Interval == IntervalBCa {
 		jack = make([]float64, d.n*np)
 		boot.Run(d.n, s.Workers, func() func(int) {
-			sv := newSolver(set, d)
+			sv := newSolver(set, d, true)
 			return func(i int) {
 				d.leaveOneOut(i, fitted, sv.ybuf, sv.wbuf)
 				if jackOK[i] = sv.refit(theta, starts); jackOK[i] {

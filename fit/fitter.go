@@ -47,7 +47,7 @@ func fitDesign(id string, set *resolved, d *design) *Result {
 		r.addFlag(FlagFitFailed)
 		return r
 	}
-	sv := newSolver(set, d)
+	sv := newSolver(set, d, false)
 	var best lm.Result
 	haveBest := false
 	iters := 0

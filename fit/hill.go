@@ -17,15 +17,17 @@ func (hillCurve) names() []string { return hillNames }
 // derivatives with respect to L and h vanish.
 func (hillCurve) value(t []float64, x float64, g []float64) float64 {
 	b, top, L, h := t[iBottom], t[iTop], t[iLogEC], t[iHill]
-	s := hillFraction(L, h, x)
-	if g != nil {
-		g[iBottom], g[iTop] = 1-s, s
-		if math.IsInf(x, -1) {
-			g[iLogEC], g[iHill] = 0, 0
-		} else {
-			q := (top - b) * s * (1 - s) * ln10
-			g[iLogEC], g[iHill] = -q*h, -q*(L-x)
+	if math.IsInf(x, -1) {
+		s := hillFraction(L, h, x)
+		if g != nil {
+			g[iBottom], g[iTop], g[iLogEC], g[iHill] = 1-s, s, 0, 0
 		}
+		return b + (top-b)*s
+	}
+	s := 1 / (1 + math.Exp(ln10*(L-x)*h))
+	if g != nil {
+		q := (top - b) * s * (1 - s) * ln10
+		g[iBottom], g[iTop], g[iLogEC], g[iHill] = 1-s, s, -q*h, -q*(L-x)
 	}
 	return b + (top-b)*s
 }

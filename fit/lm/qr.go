@@ -14,20 +14,16 @@ import "math"
 func householderQR(a []float64, m, k int, tau []float64, rhs ...[]float64) {
 	for j := 0; j < k; j++ {
 		col := a[j*m : j*m+m]
-		// Norm of col[j:], scaled against overflow.
-		var scale, ssq float64 = 0, 1
+		// Norm of col[j:]; the plain sum of squares, redone with scaling
+		// only when it overflows or underflows.
+		var ssq float64
 		for i := j; i < m; i++ {
-			if v := col[i]; v != 0 {
-				av := math.Abs(v)
-				if scale < av {
-					ssq = 1 + ssq*(scale/av)*(scale/av)
-					scale = av
-				} else {
-					ssq += (av / scale) * (av / scale)
-				}
-			}
+			ssq += col[i] * col[i]
 		}
-		norm := scale * math.Sqrt(ssq)
+		norm := math.Sqrt(ssq)
+		if math.IsInf(norm, 1) || (norm < 1e-150 && norm > 0) {
+			norm = scaledNorm(col[j:m])
+		}
 		if norm == 0 {
 			tau[j] = 0
 			continue
@@ -78,4 +74,23 @@ func backSubstitute(a []float64, m, k int, b []float64) {
 		}
 		b[i] = s / a[i*m+i]
 	}
+}
+
+// scaledNorm returns ‖v‖ without overflow or underflow (LAPACK dnrm2's
+// scaling).
+func scaledNorm(v []float64) float64 {
+	var scale, ssq float64 = 0, 1
+	for _, x := range v {
+		if x == 0 {
+			continue
+		}
+		ax := math.Abs(x)
+		if scale < ax {
+			ssq = 1 + ssq*(scale/ax)*(scale/ax)
+			scale = ax
+		} else {
+			ssq += (ax / scale) * (ax / scale)
+		}
+	}
+	return scale * math.Sqrt(ssq)
 }

@@ -29,6 +29,10 @@ type Settings struct {
 	// from start 1 lands on b2 ≈ 111 and stays there); 1 solves all 27 NIST
 	// problems from both starts.
 	InitialTrust float64
+	// EstimateOnly skips the covariance (Result.Unscaled and Cov are NaN and
+	// a rank-deficient Jacobian is not detected), for callers that need only
+	// the estimate, such as bootstrap refits.
+	EstimateOnly bool
 }
 
 // Defaults.

@@ -100,6 +100,8 @@ func (w *Workspace) eval(p *Problem, x, r, jac []float64) float64 {
 		s += r[i] * r[i]
 	}
 	if jac != nil {
+		// A NaN or ±Inf anywhere in the Jacobian makes this sum NaN or Inf.
+		var check float64
 		for j := 0; j < p.N; j++ {
 			if p.fixed(j) {
 				continue
@@ -107,10 +109,11 @@ func (w *Workspace) eval(p *Problem, x, r, jac []float64) float64 {
 			col := jac[j*m : j*m+m]
 			for i, sw := range w.sw[:m] {
 				col[i] *= sw
-				if math.IsNaN(col[i]) || math.IsInf(col[i], 0) {
-					s = posInf
-				}
+				check += col[i] * 0
 			}
+		}
+		if check != 0 {
+			s = posInf
 		}
 	}
 	if math.IsNaN(s) {
@@ -299,7 +302,7 @@ outer:
 	}
 	// The buffers may have been swapped; keep the workspace's view current.
 	w.x = x
-	w.finish(p, dst, status, S, iters, nfev)
+	w.finish(p, dst, status, S, iters, nfev, set.EstimateOnly)
 	return dst.Status.Err()
 }
 
@@ -452,7 +455,7 @@ func (w *Workspace) dampedStep(m, k int, lambda float64) {
 }
 
 // finish fills dst with the estimate, the at-bound set and the covariance.
-func (w *Workspace) finish(p *Problem, dst *Result, status Status, S float64, iters, nfev int) {
+func (w *Workspace) finish(p *Problem, dst *Result, status Status, S float64, iters, nfev int, estimateOnly bool) {
 	m, n := p.M, p.N
 	dst.X = grow(dst.X, n)
 	copy(dst.X, w.x)
@@ -489,7 +492,7 @@ func (w *Workspace) finish(p *Problem, dst *Result, status Status, S float64, it
 		k++
 	}
 	dst.DOF = m - k
-	if status == NumericalFailure || status == NotTerminated {
+	if status == NumericalFailure || status == NotTerminated || estimateOnly {
 		fillNaN(dst.Unscaled)
 		fillNaN(dst.Cov)
 		return

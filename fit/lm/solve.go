@@ -27,7 +27,7 @@ type Result struct {
 	RSS float64
 	// DOF is M − p, p the number of parameters neither fixed nor at a bound.
 	DOF int
-	// AtBound marks free parameters held at a bound at the estimate.
+	// AtBound marks free parameters that end exactly on a bound.
 	AtBound []bool
 	// Unscaled is (JᵀWJ)⁻¹ over the estimated parameters, N×N row-major,
 	// with zero rows and columns for fixed and at-bound parameters. It is
@@ -65,7 +65,7 @@ type Workspace struct {
 	r, rt, sw, qtr        []float64
 	jac, jact, a          []float64
 	act                   []int
-	held                  []bool
+	held, pinned          []bool
 	aug, b, tau           []float64
 }
 
@@ -85,8 +85,12 @@ func (w *Workspace) reset(m, n int) {
 	if cap(w.act) < n {
 		w.act = make([]int, n)
 		w.held = make([]bool, n)
+		w.pinned = make([]bool, n)
 	}
-	w.act, w.held = w.act[:n], w.held[:n]
+	w.act, w.held, w.pinned = w.act[:n], w.held[:n], w.pinned[:n]
+	for j := range w.pinned {
+		w.pinned[j] = false
+	}
 }
 
 // eval computes the weighted residuals and, when jac is not nil, the weighted
@@ -174,8 +178,9 @@ outer:
 			}
 			cn = math.Sqrt(cn)
 			w.g[j], w.cn[j] = g, cn
-			// Descent is along −g: held at the lower bound when g > 0.
-			if (x[j] <= p.lower(j) && g > 0) || (x[j] >= p.upper(j) && g < 0) {
+			// Descent is along −g: held at the lower bound when g > 0;
+			// also held when pinned, below.
+			if w.pinned[j] || (x[j] <= p.lower(j) && g > 0) || (x[j] >= p.upper(j) && g < 0) {
 				w.held[j] = true
 				continue
 			}
@@ -217,14 +222,46 @@ outer:
 		for {
 			par = w.levenbergParameter(m, k, delta, par)
 			lastPar = par
-			// Full step, clipped to the box.
+			// A parameter on a bound whose step points out of the box is
+			// pinned there and the step recomputed without it: dropping
+			// the component alone would leave the others solved for a
+			// move that cannot happen. (Its gradient can point inward, or
+			// vanish, when its Jacobian column is negligible.)
+			repin := false
+			for c := 0; c < k; c++ {
+				j := w.act[c]
+				if (x[j] >= p.upper(j) && w.b[c] > 0) || (x[j] <= p.lower(j) && w.b[c] < 0) {
+					w.pinned[j] = true
+					repin = true
+				}
+			}
+			if repin {
+				continue outer
+			}
+			// The step, shortened to stop at the first bound it would
+			// cross. Clipping each component instead would bend the step
+			// away from the trust-region solution, and a parameter with a
+			// small scaled column (a steep slope) would sit clipped on its
+			// bound while every other component shrinks without end.
+			// Components pointing out of a bound already reached are
+			// dropped.
+			alpha := 1.0
+			for c := 0; c < k; c++ {
+				j := w.act[c]
+				lo, hi, xj, bc := p.lower(j), p.upper(j), x[j], w.b[c]
+				if bc > 0 && xj < hi && xj+bc > hi {
+					alpha = math.Min(alpha, (hi-xj)/bc)
+				} else if bc < 0 && xj > lo && xj+bc < lo {
+					alpha = math.Min(alpha, (lo-xj)/bc)
+				}
+			}
 			for j := range w.step {
 				w.step[j] = 0
 				w.xt[j] = x[j]
 			}
 			for c := 0; c < k; c++ {
 				j := w.act[c]
-				xt := math.Min(math.Max(x[j]+w.b[c], p.lower(j)), p.upper(j))
+				xt := math.Min(math.Max(x[j]+alpha*w.b[c], p.lower(j)), p.upper(j))
 				w.xt[j] = xt
 				w.step[j] = xt - x[j]
 			}
@@ -276,6 +313,9 @@ outer:
 				S = St
 				xnorm = w.scaledNorm(x, k)
 				iters++
+				for j := range w.pinned {
+					w.pinned[j] = false
+				}
 			}
 			if nearlyUndamped && math.Abs(actual) <= set.FuncTol && predRel <= set.FuncTol && ratio <= 2 {
 				status = FunctionConvergence
@@ -478,12 +518,14 @@ func (w *Workspace) finish(p *Problem, dst *Result, status Status, S float64, it
 			continue
 		}
 		col := w.jac[j*m : j*m+m]
-		var g, cn float64
-		for i, v := range col {
-			g += v * w.r[i]
+		var cn float64
+		for _, v := range col {
 			cn += v * v
 		}
-		if (w.x[j] <= p.lower(j) && g > 0) || (w.x[j] >= p.upper(j) && g < 0) {
+		// A parameter that ends exactly on a bound is held there, whether
+		// its gradient points out of the box or, with a negligible
+		// Jacobian column, nowhere in particular.
+		if w.x[j] <= p.lower(j) || w.x[j] >= p.upper(j) {
 			dst.AtBound[j] = true
 			continue
 		}

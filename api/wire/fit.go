@@ -1,0 +1,142 @@
+package wire
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"math"
+
+	"sluice/fit"
+)
+
+// FitResult is the result object of one fitted curve, the same from
+// `sluice fit --format json` and from POST /v1/fits. Its field names are a
+// contract.
+type FitResult struct {
+	Curve         string         `json:"curve"`
+	Model         string         `json:"model"`
+	Status        string         `json:"status"`
+	Params        Params         `json:"params"`
+	EC50          Potency        `json:"ec50"`
+	PEC50         Num            `json:"pec50"`
+	Stats         Stats          `json:"stats"`
+	Bootstrap     *BootstrapInfo `json:"bootstrap"`
+	Flags         []string       `json:"flags"`
+	EngineVersion string         `json:"engine_version"`
+	Caution       string         `json:"caution"`
+}
+
+// Param is one parameter of a FitResult.
+type Param struct {
+	Estimate Num     `json:"estimate"`
+	SE       Num     `json:"se"`
+	WaldCI   [2]Num  `json:"wald_ci"`
+	BootCI   *[2]Num `json:"boot_ci,omitempty"`
+	Fixed    bool    `json:"fixed"`
+	AtBound  bool    `json:"at_bound"`
+}
+
+// NamedParam is a parameter with its name.
+type NamedParam struct {
+	Name string
+	Param
+}
+
+// Params encodes as a JSON object whose keys keep the model's parameter order.
+type Params []NamedParam
+
+// MarshalJSON writes {"bottom": {...}, "top": {...}, ...} in order.
+func (ps Params) MarshalJSON() ([]byte, error) {
+	var b bytes.Buffer
+	b.WriteByte('{')
+	for i, p := range ps {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		k, _ := json.Marshal(p.Name)
+		v, err := json.Marshal(p.Param)
+		if err != nil {
+			return nil, err
+		}
+		b.Write(k)
+		b.WriteByte(':')
+		b.Write(v)
+	}
+	b.WriteByte('}')
+	return b.Bytes(), nil
+}
+
+// UnmarshalJSON reads the object back, keeping its key order.
+func (ps *Params) UnmarshalJSON(data []byte) error {
+	dec := json.NewDecoder(bytes.NewReader(data))
+	if t, err := dec.Token(); err != nil || t != json.Delim('{') {
+		return fmt.Errorf("params: want an object")
+	}
+	*ps = (*ps)[:0]
+	for dec.More() {
+		t, err := dec.Token()
+		if err != nil {
+			return err
+		}
+		var p NamedParam
+		p.Name, _ = t.(string)
+		if err := dec.Decode(&p.Param); err != nil {
+			return err
+		}
+		*ps = append(*ps, p)
+	}
+	_, err := dec.Token()
+	return err
+}
+
+// Potency is a concentration in molar with its interval.
+type Potency struct {
+	Estimate Num    `json:"estimate"`
+	CI       [2]Num `json:"ci"`
+}
+
+// Stats are the goodness-of-fit figures.
+type Stats struct {
+	N          int `json:"n"`
+	DOF        int `json:"dof"`
+	RSS        Num `json:"rss"`
+	Sigma      Num `json:"sigma"`
+	R2         Num `json:"r2"`
+	AICc       Num `json:"aicc"`
+	Iterations int `json:"iterations"`
+}
+
+// BootstrapInfo describes the resampling behind boot_ci.
+type BootstrapInfo struct {
+	Resamples       int    `json:"resamples"`
+	Failed          int    `json:"failed"`
+	AtBound         int    `json:"at_bound"`
+	JackknifeFailed int    `json:"jackknife_failed"`
+	Scheme          string `json:"scheme"`
+	Interval        string `json:"interval"`
+	Seed            uint64 `json:"seed"`
+}
+
+// FromFit converts a fit.Result.
+func FromFit(r *fit.Result) FitResult {
+	out := FitResult{Curve: r.Curve, Model: string(r.Model), Status: r.Status,
+		Flags: append([]string{}, r.Flags...), EngineVersion: fit.EngineVersion, Caution: Caution}
+	for _, p := range r.Params {
+		np := NamedParam{Name: p.Name, Param: Param{Estimate: Num(p.Estimate), SE: Num(p.SE),
+			WaldCI: [2]Num{Num(p.WaldLo), Num(p.WaldHi)}, Fixed: p.Fixed, AtBound: p.AtBound}}
+		if r.Boot != nil {
+			np.BootCI = &[2]Num{Num(p.BootLo), Num(p.BootHi)}
+		}
+		out.Params = append(out.Params, np)
+	}
+	est, lo, hi := r.EC50()
+	out.EC50 = Potency{Estimate: Num(est), CI: [2]Num{Num(lo), Num(hi)}}
+	out.PEC50 = Num(-math.Log10(est))
+	out.Stats = Stats{N: r.N, DOF: r.DOF, RSS: Num(r.RSS), Sigma: Num(r.Sigma), R2: Num(r.R2),
+		AICc: Num(r.AICc), Iterations: r.Iterations}
+	if b := r.Boot; b != nil {
+		out.Bootstrap = &BootstrapInfo{Resamples: b.Resamples, Failed: b.Failed, AtBound: b.AtBound,
+			JackknifeFailed: b.JackknifeFailed, Scheme: string(b.Scheme), Interval: string(b.Interval), Seed: b.Seed}
+	}
+	return out
+}

@@ -1,0 +1,40 @@
+package fit_test
+
+import (
+	"fmt"
+
+	"sluice/fit"
+)
+
+// Example fits an invented agonist curve in triplicate, with a vehicle point,
+// and bootstraps it.
+func Example() {
+	conc := []float64{0, 1e-8, 3e-8, 1e-7, 3e-7, 1e-6, 3e-6, 1e-5}
+	resp := [][]float64{{1, -2, 0.5}, {3, 6, 4}, {12, 9, 14}, {31, 35, 28}, {62, 58, 66}, {84, 88, 81}, {95, 92, 97}, {99, 101, 96}}
+	var c fit.Curve
+	for i, x := range conc {
+		for _, y := range resp[i] {
+			c.Points = append(c.Points, fit.Point{Conc: x, Response: y})
+		}
+	}
+	r, err := fit.Fit(c, nil)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	if err := fit.Bootstrap(r, &fit.BootSettings{Resamples: 2000, Seed: 1}); err != nil {
+		fmt.Println(err)
+		return
+	}
+	ec50, lo, hi := r.EC50()
+	fmt.Printf("%s, %d points, %d flags\n", r.Status, r.N, len(r.Flags))
+	fmt.Printf("EC50 %.0f nM (95%% BCa %.0f–%.0f nM), pEC50 %.2f\n", ec50*1e9, lo*1e9, hi*1e9, -r.LogEC50().Estimate)
+	h, _ := r.Param("hill")
+	fmt.Printf("hill %.2f ± %.2f\n", h.Estimate, h.SE)
+	fmt.Printf("log EC90 − log EC50 = %.3f\n", r.LogECF(90)-r.LogEC50().Estimate)
+	// Output:
+	// converged, 24 points, 0 flags
+	// EC50 198 nM (95% BCa 175–221 nM), pEC50 6.70
+	// hill 1.09 ± 0.06
+	// log EC90 − log EC50 = 0.877
+}

@@ -1,0 +1,108 @@
+package db
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"time"
+
+	"github.com/jackc/pgx/v5"
+	"github.com/jackc/pgx/v5/pgconn"
+	"github.com/jackc/pgx/v5/pgxpool"
+	"github.com/jackc/pgx/v5/stdlib"
+)
+
+// pgEngine is PostgreSQL through a pgx pool.
+type pgEngine struct {
+	pool *pgxpool.Pool
+}
+
+// openPostgres connects a pool to url and applies the migrations. The pool
+// comes from pgxpool.ParseConfig, so the URL's pool_* parameters apply.
+func openPostgres(ctx context.Context, url string) (*sqlStore, error) {
+	cfg, err := pgxpool.ParseConfig(url)
+	if err != nil {
+		return nil, fmt.Errorf("database URL: %w", err)
+	}
+	pool, err := pgxpool.NewWithConfig(ctx, cfg)
+	if err != nil {
+		return nil, fmt.Errorf("connect to PostgreSQL: %w", err)
+	}
+	if err := pool.Ping(ctx); err != nil {
+		pool.Close()
+		return nil, fmt.Errorf("connect to PostgreSQL: %w", err)
+	}
+	// goose works on database/sql; open one over the same pool.
+	sqlDB := stdlib.OpenDBFromPool(pool)
+	err = migrate(ctx, sqlDB, "postgres")
+	sqlDB.Close()
+	if err != nil {
+		pool.Close()
+		return nil, err
+	}
+	return &sqlStore{e: &pgEngine{pool: pool}}, nil
+}
+
+func (e *pgEngine) exec(ctx context.Context, q string, args ...any) error {
+	_, err := e.pool.Exec(ctx, q, args...)
+	return err
+}
+
+func (e *pgEngine) queryRow(ctx context.Context, q string, args ...any) rowScanner {
+	return e.pool.QueryRow(ctx, q, args...)
+}
+
+func (e *pgEngine) query(ctx context.Context, q string, args ...any) (rowsScanner, error) {
+	return e.pool.Query(ctx, q, args...)
+}
+
+func (e *pgEngine) inTx(ctx context.Context, fn func(querier) error) error {
+	return pgx.BeginFunc(ctx, e.pool, func(tx pgx.Tx) error { return fn(pgTx{tx}) })
+}
+
+func (e *pgEngine) ping(ctx context.Context) error { return e.pool.Ping(ctx) }
+func (e *pgEngine) close()                         { e.pool.Close() }
+func (e *pgEngine) name() string                   { return "postgres" }
+func (e *pgEngine) timeArg(t time.Time) any        { return t.UTC() }
+
+func (e *pgEngine) stats() PoolStats {
+	s := e.pool.Stat()
+	return PoolStats{Max: int(s.MaxConns()), Open: int(s.TotalConns()), InUse: int(s.AcquiredConns()), Idle: int(s.IdleConns())}
+}
+
+// translate maps pgx's errors and SQLSTATEs (PostgreSQL Appendix A) to the
+// store's.
+func (e *pgEngine) translate(err error) error {
+	if err == nil {
+		return nil
+	}
+	if errors.Is(err, pgx.ErrNoRows) {
+		return fmt.Errorf("%w (%v)", ErrNotFound, err)
+	}
+	var pe *pgconn.PgError
+	if errors.As(err, &pe) {
+		switch pe.Code {
+		case "23505": // unique_violation
+			return fmt.Errorf("%w: %s", ErrExists, pe.Message)
+		case "23503": // foreign_key_violation
+			return fmt.Errorf("%w: %s", ErrReference, pe.Detail)
+		}
+	}
+	return err
+}
+
+// pgTx adapts a transaction.
+type pgTx struct{ tx pgx.Tx }
+
+func (t pgTx) exec(ctx context.Context, q string, args ...any) error {
+	_, err := t.tx.Exec(ctx, q, args...)
+	return err
+}
+
+func (t pgTx) queryRow(ctx context.Context, q string, args ...any) rowScanner {
+	return t.tx.QueryRow(ctx, q, args...)
+}
+
+func (t pgTx) query(ctx context.Context, q string, args ...any) (rowsScanner, error) {
+	return t.tx.Query(ctx, q, args...)
+}

@@ -1,0 +1,103 @@
+package db
+
+import "time"
+
+// Assay is an assay: what is measured on which target.
+type Assay struct {
+	ID        string
+	Name      string
+	Target    string // e.g. the receptor and subunits
+	Readout   string // e.g. "membrane potential dye", "whole-cell current"
+	Units     string // response units, e.g. "% of max", "pA"
+	CreatedAt time.Time
+	CreatedBy string
+}
+
+// Compound is a compound tested in assays.
+type Compound struct {
+	ID        string
+	Name      string
+	Target    string // intended target, free text
+	Readout   string
+	Units     string
+	CreatedAt time.Time
+	CreatedBy string
+}
+
+// FitRun is one stored fit with its provenance. It is immutable once
+// stored: a re-fit is a new run whose RefitOf names the old one.
+type FitRun struct {
+	ID            string
+	CreatedAt     time.Time
+	SubmittedBy   string
+	AssayID       string // "" for none
+	CompoundID    string // "" for none
+	RefitOf       string // "" for none
+	Model         string
+	Status        string
+	LogEC50       *float64 // nil when not estimated
+	EngineVersion string
+	InputSHA256   string
+	// Settings, Input and Result are JSON documents: the fit settings as
+	// requested (model, fixed, confidence, unit, bootstrap with its seed),
+	// the points as submitted, and the result object as returned.
+	Settings []byte
+	Input    []byte
+	Result   []byte
+	Labels   []byte // a JSON object
+	Params   []FitParam
+}
+
+// FitParam is one parameter of a stored run, for queries across runs.
+type FitParam struct {
+	Name           string
+	Estimate, SE   *float64
+	WaldLo, WaldHi *float64
+	BootLo, BootHi *float64
+	Fixed, AtBound bool
+}
+
+// FitFilter selects runs for FitRuns; zero fields do not filter.
+type FitFilter struct {
+	AssayID, CompoundID string
+	From, To            time.Time // created_at in [From, To)
+	// Limit is 1–1000; zero means 100.
+	Limit int
+	// Cursor continues a listing: the NextCursor of the previous page.
+	Cursor string
+}
+
+// Token is an API token. Only the SHA-256 of the secret is stored.
+type Token struct {
+	ID        string
+	Name      string
+	Scope     string // read, submit or admin
+	Hash      string // hex SHA-256 of the secret
+	CreatedAt time.Time
+	RevokedAt *time.Time
+}
+
+// AuditEntry records who did what.
+type AuditEntry struct {
+	At     time.Time
+	Actor  string // the token's name
+	Action string // e.g. "fit.create"
+	Target string // e.g. the run's ID
+	Detail []byte // a JSON object
+}
+
+// Idempotent is the stored response to a POST carrying an Idempotency-Key.
+type Idempotent struct {
+	Actor         string
+	Key           string
+	RequestSHA256 string // of method, path and body
+	Status        int
+	ContentType   string
+	Body          []byte
+	CreatedAt     time.Time
+}
+
+// PoolStats describe the store's connections, for metrics.
+type PoolStats struct {
+	Max, Open, InUse, Idle int
+}

@@ -20,6 +20,10 @@ type FitResult struct {
 	EC50          Potency        `json:"ec50"`
 	PEC50         Num            `json:"pec50"`
 	Stats         Stats          `json:"stats"`
+	Confidence    Num            `json:"confidence"`
+	// Covariance is σ²(JᵀWJ)⁻¹ over params, in their order, zero for
+	// fixed and at-bound parameters.
+	Covariance [][]Num `json:"covariance"`
 	Bootstrap     *BootstrapInfo `json:"bootstrap"`
 	Flags         []string       `json:"flags"`
 	EngineVersion string         `json:"engine_version"`
@@ -132,6 +136,19 @@ func FromFit(r *fit.Result) FitResult {
 	est, lo, hi := r.EC50()
 	out.EC50 = Potency{Estimate: Num(est), CI: [2]Num{Num(lo), Num(hi)}}
 	out.PEC50 = Num(-math.Log10(est))
+	np := len(r.Params)
+	out.Covariance = make([][]Num, np)
+	for i := range out.Covariance {
+		out.Covariance[i] = make([]Num, np)
+		for j := range out.Covariance[i] {
+			if len(r.Cov) == np*np {
+				out.Covariance[i][j] = Num(r.Cov[i*np+j])
+			} else {
+				out.Covariance[i][j] = Num(math.NaN())
+			}
+		}
+	}
+	out.Confidence = Num(r.Confidence)
 	out.Stats = Stats{N: r.N, DOF: r.DOF, RSS: Num(r.RSS), Sigma: Num(r.Sigma), R2: Num(r.R2),
 		AICc: Num(r.AICc), Iterations: r.Iterations}
 	if b := r.Boot; b != nil {
@@ -139,4 +156,18 @@ func FromFit(r *fit.Result) FitResult {
 			JackknifeFailed: b.JackknifeFailed, Scheme: string(b.Scheme), Interval: string(b.Interval), Seed: b.Seed}
 	}
 	return out
+}
+
+// StoredFit is a FitResult as the API returns it: with its ID and
+// provenance when stored.
+type StoredFit struct {
+	ID          string            `json:"id,omitempty"`
+	CreatedAt   string            `json:"created_at,omitempty"` // RFC 3339, UTC
+	SubmittedBy string            `json:"submitted_by,omitempty"`
+	AssayID     string            `json:"assay_id,omitempty"`
+	CompoundID  string            `json:"compound_id,omitempty"`
+	RefitOf     string            `json:"refit_of,omitempty"`
+	InputSHA256 string            `json:"input_sha256,omitempty"`
+	Labels      map[string]string `json:"labels,omitempty"`
+	FitResult
 }

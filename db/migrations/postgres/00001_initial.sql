@@ -34,7 +34,7 @@ CREATE TABLE fit_runs (
     input_sha256   TEXT NOT NULL,
     settings       JSONB NOT NULL,             -- as requested, with the bootstrap seed
     input          JSONB NOT NULL,             -- the points as submitted
-    result         JSONB NOT NULL,             -- the result object as returned
+    result         JSON NOT NULL,              -- the result object, byte for byte as returned
     labels         JSONB NOT NULL DEFAULT '{}'
 );
 CREATE INDEX fit_runs_assay_compound ON fit_runs (assay_id, compound_id, id);

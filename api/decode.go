@@ -1,0 +1,184 @@
+package api
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"mime"
+	"net/http"
+	"strconv"
+	"strings"
+
+	"github.com/gin-gonic/gin"
+)
+
+// readBody reads the whole request body, within the server's limit.
+func readBody(c *gin.Context) ([]byte, error) {
+	b, err := io.ReadAll(c.Request.Body)
+	var mbe *http.MaxBytesError
+	if errors.As(err, &mbe) {
+		return nil, &requestError{kind: errTooLarge, detail: fmt.Sprintf("the body is larger than the limit of %d bytes", mbe.Limit)}
+	}
+	if err != nil {
+		return nil, &requestError{kind: errBadRequest, detail: "reading the body: " + err.Error()}
+	}
+	return b, nil
+}
+
+// requireJSON checks the Content-Type of a JSON body (absent is accepted).
+func requireJSON(c *gin.Context) error {
+	ct := c.GetHeader("Content-Type")
+	if ct == "" {
+		return nil
+	}
+	mt, _, err := mime.ParseMediaType(ct)
+	if err != nil || (mt != "application/json" && !strings.HasSuffix(mt, "+json")) {
+		return &requestError{kind: errUnsupportedType, detail: fmt.Sprintf("Content-Type %q: want application/json", ct)}
+	}
+	return nil
+}
+
+// decodeJSON decodes body into dst strictly: unknown fields, trailing data
+// and wrong types are errors that point at the field (RFC 6901).
+func decodeJSON(body []byte, dst any) error {
+	if len(bytes.TrimSpace(body)) == 0 {
+		return &requestError{kind: errBadRequest, detail: "the body is empty; want a JSON object"}
+	}
+	dec := json.NewDecoder(bytes.NewReader(body))
+	dec.DisallowUnknownFields()
+	err := dec.Decode(dst)
+	if err == nil {
+		if _, terr := dec.Token(); terr != io.EOF {
+			return &requestError{kind: errBadRequest, detail: "unexpected data after the JSON object"}
+		}
+		return nil
+	}
+	var se *json.SyntaxError
+	var te *json.UnmarshalTypeError
+	switch {
+	case errors.As(err, &se):
+		return &requestError{kind: errBadRequest, detail: fmt.Sprintf("malformed JSON at byte %d: %v", se.Offset, se)}
+	case errors.As(err, &te):
+		ptr := pointerAt(body, te.Offset)
+		d := fmt.Sprintf("%s is not a valid %s", te.Value, te.Type)
+		if strings.HasPrefix(te.Value, "number") && te.Type.String() == "float64" {
+			d = te.Value + " is out of range"
+		}
+		return &requestError{kind: errInvalid, detail: ptr + ": " + d, fields: []FieldError{{Pointer: ptr, Detail: d}}}
+	case strings.HasPrefix(err.Error(), "json: unknown field "):
+		name, _ := strconv.Unquote(strings.TrimPrefix(err.Error(), "json: unknown field "))
+		ptr := pointerOfKey(body, name)
+		d := fmt.Sprintf("unknown field %q", name)
+		return &requestError{kind: errInvalid, detail: d, fields: []FieldError{{Pointer: ptr, Detail: d}}}
+	case errors.Is(err, io.ErrUnexpectedEOF):
+		return &requestError{kind: errBadRequest, detail: "the JSON body ends early"}
+	}
+	return &requestError{kind: errBadRequest, detail: err.Error()}
+}
+
+// pointerAt returns the JSON Pointer of the value that ends at byte offset
+// off of doc (as encoding/json reports it), by walking the tokens.
+func pointerAt(doc []byte, off int64) string {
+	dec := json.NewDecoder(bytes.NewReader(doc))
+	var stack []ptrFrame
+	path := func() string { return framesPath(stack) }
+	for {
+		tok, err := dec.Token()
+		if err != nil {
+			return path()
+		}
+		top := len(stack) - 1
+		if d, ok := tok.(json.Delim); ok && (d == '}' || d == ']') {
+			stack = stack[:top]
+			if top > 0 {
+				stack[top-1].next()
+			}
+			continue
+		}
+		if top >= 0 && stack[top].expectKey {
+			stack[top].key, stack[top].expectKey = tok.(string), false
+			continue
+		}
+		if dec.InputOffset() >= off {
+			return path()
+		}
+		if d, ok := tok.(json.Delim); ok {
+			stack = append(stack, ptrFrame{array: d == '[', expectKey: d == '{'})
+			continue
+		}
+		if top >= 0 {
+			stack[top].next()
+		}
+	}
+}
+
+// pointerOfKey returns the JSON Pointer of the first member named name.
+func pointerOfKey(doc []byte, name string) string {
+	dec := json.NewDecoder(bytes.NewReader(doc))
+	var stack []ptrFrame
+	for {
+		tok, err := dec.Token()
+		if err != nil {
+			return "/" + escapePointer(name)
+		}
+		top := len(stack) - 1
+		if d, ok := tok.(json.Delim); ok && (d == '}' || d == ']') {
+			stack = stack[:top]
+			if top > 0 {
+				stack[top-1].next()
+			}
+			continue
+		}
+		if top >= 0 && stack[top].expectKey {
+			stack[top].key, stack[top].expectKey = tok.(string), false
+			if stack[top].key == name {
+				return framesPath(stack)
+			}
+			continue
+		}
+		if d, ok := tok.(json.Delim); ok {
+			stack = append(stack, ptrFrame{array: d == '[', expectKey: d == '{'})
+			continue
+		}
+		if top >= 0 {
+			stack[top].next()
+		}
+	}
+}
+
+// framesPath is the JSON Pointer of the open containers.
+func framesPath(stack []ptrFrame) string {
+	var b strings.Builder
+	for _, f := range stack {
+		b.WriteByte('/')
+		if f.array {
+			b.WriteString(strconv.Itoa(f.index))
+		} else {
+			b.WriteString(escapePointer(f.key))
+		}
+	}
+	return b.String()
+}
+
+// ptrFrame is one open container while walking tokens.
+type ptrFrame struct {
+	array     bool
+	index     int    // array: the current element
+	key       string // object: the current member
+	expectKey bool   // object: the next token is a member name
+}
+
+// next moves past the current element or member.
+func (f *ptrFrame) next() {
+	if f.array {
+		f.index++
+	} else {
+		f.expectKey = true
+	}
+}
+
+func escapePointer(s string) string {
+	return strings.ReplaceAll(strings.ReplaceAll(s, "~", "~0"), "/", "~1")
+}

@@ -1,0 +1,98 @@
+package api
+
+import (
+	"strconv"
+	"time"
+
+	"github.com/gin-gonic/gin"
+	"github.com/prometheus/client_golang/prometheus"
+	"github.com/prometheus/client_golang/prometheus/collectors"
+
+	"sluice/db"
+)
+
+// metrics are the service's Prometheus collectors, on an injected registry.
+// Names follow Prometheus conventions: sluice_ prefix, base units, _total
+// for counters.
+type metrics struct {
+	requests     *prometheus.CounterVec
+	duration     *prometheus.HistogramVec
+	fits         *prometheus.CounterVec
+	fitDuration  *prometheus.HistogramVec
+	resamples    prometheus.Counter
+	failedRefits prometheus.Counter
+}
+
+func newMetrics(reg prometheus.Registerer, store db.Store) (*metrics, error) {
+	m := &metrics{
+		requests: prometheus.NewCounterVec(prometheus.CounterOpts{
+			Name: "sluice_http_requests_total", Help: "HTTP requests by route, method and status code.",
+		}, []string{"route", "method", "code"}),
+		duration: prometheus.NewHistogramVec(prometheus.HistogramOpts{
+			Name: "sluice_http_request_duration_seconds", Help: "HTTP request latency by route and method.",
+			Buckets: []float64{0.0005, 0.001, 0.002, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10},
+		}, []string{"route", "method"}),
+		fits: prometheus.NewCounterVec(prometheus.CounterOpts{
+			Name: "sluice_fits_total", Help: "Curves fitted, by model and status.",
+		}, []string{"model", "status"}),
+		fitDuration: prometheus.NewHistogramVec(prometheus.HistogramOpts{
+			Name: "sluice_fit_duration_seconds", Help: "Time to fit one curve, bootstrap included, by model.",
+			Buckets: prometheus.ExponentialBuckets(1e-5, 4, 10),
+		}, []string{"model"}),
+		resamples: prometheus.NewCounter(prometheus.CounterOpts{
+			Name: "sluice_bootstrap_resamples_total", Help: "Bootstrap resamples refitted.",
+		}),
+		failedRefits: prometheus.NewCounter(prometheus.CounterOpts{
+			Name: "sluice_bootstrap_failed_refits_total", Help: "Bootstrap resamples whose refit did not converge.",
+		}),
+	}
+	cs := []prometheus.Collector{m.requests, m.duration, m.fits, m.fitDuration, m.resamples, m.failedRefits,
+		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{})}
+	if store != nil {
+		cs = append(cs, poolCollector{store})
+	}
+	for _, c := range cs {
+		if err := reg.Register(c); err != nil {
+			return nil, err
+		}
+	}
+	return m, nil
+}
+
+// middleware counts and times every request by its route template.
+func (m *metrics) middleware(c *gin.Context) {
+	start := time.Now()
+	c.Next()
+	route := c.FullPath()
+	if route == "" {
+		route = "unmatched"
+	}
+	m.requests.WithLabelValues(route, c.Request.Method, strconv.Itoa(c.Writer.Status())).Inc()
+	m.duration.WithLabelValues(route, c.Request.Method).Observe(time.Since(start).Seconds())
+}
+
+// poolCollector reports the store's connection pool.
+type poolCollector struct{ store db.Store }
+
+var (
+	poolMaxDesc   = prometheus.NewDesc("sluice_db_connections_max", "Largest number of database connections the pool opens.", []string{"engine"}, nil)
+	poolOpenDesc  = prometheus.NewDesc("sluice_db_connections_open", "Open database connections.", []string{"engine"}, nil)
+	poolInUseDesc = prometheus.NewDesc("sluice_db_connections_in_use", "Database connections in use.", []string{"engine"}, nil)
+	poolIdleDesc  = prometheus.NewDesc("sluice_db_connections_idle", "Idle database connections.", []string{"engine"}, nil)
+)
+
+func (p poolCollector) Describe(ch chan<- *prometheus.Desc) {
+	ch <- poolMaxDesc
+	ch <- poolOpenDesc
+	ch <- poolInUseDesc
+	ch <- poolIdleDesc
+}
+
+func (p poolCollector) Collect(ch chan<- prometheus.Metric) {
+	s := p.store.Stats()
+	e := p.store.Engine()
+	ch <- prometheus.MustNewConstMetric(poolMaxDesc, prometheus.GaugeValue, float64(s.Max), e)
+	ch <- prometheus.MustNewConstMetric(poolOpenDesc, prometheus.GaugeValue, float64(s.Open), e)
+	ch <- prometheus.MustNewConstMetric(poolInUseDesc, prometheus.GaugeValue, float64(s.InUse), e)
+	ch <- prometheus.MustNewConstMetric(poolIdleDesc, prometheus.GaugeValue, float64(s.Idle), e)
+}

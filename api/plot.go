@@ -1,0 +1,78 @@
+package api
+
+import (
+	"encoding/json"
+	"fmt"
+	"math"
+	"net/http"
+	"strings"
+
+	"github.com/gin-gonic/gin"
+
+	"sluice/api/ingest"
+	"sluice/api/plot"
+	"sluice/api/wire"
+	"sluice/fit"
+)
+
+// fitPlot is GET /v1/fits/{id}/plot.svg: the points, the fitted curve and
+// its pointwise confidence band on a log-concentration axis.
+func (s *Server) fitPlot(c *gin.Context) {
+	run, err := s.store.FitRun(c.Request.Context(), c.Param("id"))
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	var res wire.StoredFit
+	var input struct {
+		ConcUnit string    `json:"conc_unit"`
+		Points   []PointIn `json:"points"`
+	}
+	if err := json.Unmarshal(run.Result, &res); err != nil {
+		s.writeProblem(c, fmt.Errorf("stored result %s: %w", run.ID, err))
+		return
+	}
+	if err := json.Unmarshal(run.Input, &input); err != nil {
+		s.writeProblem(c, fmt.Errorf("stored input %s: %w", run.ID, err))
+		return
+	}
+	unit, _ := ingest.ParseUnit(input.ConcUnit)
+	fig := &plot.Curve{Title: "Fit " + run.ID, YLabel: "response", Footnote: wire.Caution}
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, p := range input.Points {
+		cm := unit.ToMolar(*p.Conc)
+		fig.PointConc = append(fig.PointConc, cm)
+		fig.PointResp = append(fig.PointResp, *p.Response)
+		if cm > 0 {
+			lo, hi = math.Min(lo, cm), math.Max(hi, cm)
+		}
+	}
+	parts := []string{res.Model, res.Status}
+	if res.Status == fit.StatusConverged && !math.IsInf(lo, 0) {
+		theta := make([]float64, len(res.Params))
+		for i, p := range res.Params {
+			theta[i] = float64(p.Estimate)
+		}
+		np := len(theta)
+		cov := make([]float64, np*np)
+		for i := range res.Covariance {
+			for j, v := range res.Covariance[i] {
+				cov[i*np+j] = float64(v)
+			}
+		}
+		const n = 200
+		a, b := math.Log10(lo)-0.5, math.Log10(hi)+0.5
+		for k := 0; k < n; k++ {
+			fig.LineConc = append(fig.LineConc, math.Pow(10, a+(b-a)*float64(k)/(n-1)))
+		}
+		fig.Line, fig.BandLo, fig.BandHi = fit.Band(fit.Model(res.Model), theta, cov, res.Stats.DOF, float64(res.Confidence), fig.LineConc)
+		parts = append(parts, fmt.Sprintf("pEC50 %.2f", float64(res.PEC50)), fmt.Sprintf("%.0f%% band", 100*float64(res.Confidence)))
+	}
+	if len(res.Flags) > 0 {
+		parts = append(parts, "flags: "+strings.Join(res.Flags, ", "))
+	}
+	fig.Subtitle = strings.Join(parts, " · ")
+	c.Status(http.StatusOK)
+	c.Header("Content-Type", "image/svg+xml")
+	fig.Write(c.Writer)
+}

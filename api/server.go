@@ -1,0 +1,87 @@
+// Package api is Sluice's HTTP edge: the gin router, handlers, request
+// validation into RFC 9457 problem details, authentication, idempotency and
+// metrics. It depends on a db.Store and on the fit engine.
+package api
+
+import (
+	"crypto/rand"
+	"log/slog"
+	"net/http"
+	"time"
+
+	"github.com/gin-gonic/gin"
+	"github.com/google/uuid"
+	"github.com/prometheus/client_golang/prometheus"
+
+	"sluice/db"
+)
+
+// Config holds the settings the handlers need.
+type Config struct {
+	// BodyLimit bounds a request body in bytes; zero means 10 MiB.
+	BodyLimit int64
+	// AuthDisabled lets every request in as "anonymous" with every scope.
+	// The command refuses it on a non-loopback address.
+	AuthDisabled bool
+	// FitWorkers is the goroutines one fit's bootstrap may use; zero
+	// means GOMAXPROCS.
+	FitWorkers int
+}
+
+// DefaultBodyLimit is the request-body limit when Config.BodyLimit is zero.
+const DefaultBodyLimit = 10 << 20
+
+// Deps are the server's collaborators.
+type Deps struct {
+	Store    db.Store
+	Registry *prometheus.Registry // metrics are registered here, not globally
+	Log      *slog.Logger
+	// Now and NewID default to the clock and UUIDv7; tests may fix them.
+	Now   func() time.Time
+	NewID func() string
+}
+
+// Server serves the API.
+type Server struct {
+	cfg     Config
+	store   db.Store
+	log     *slog.Logger
+	metrics *metrics
+	now     func() time.Time
+	newID   func() string
+	engine  *gin.Engine
+}
+
+// New builds the server and its routes.
+func New(cfg Config, d Deps) (*Server, error) {
+	if cfg.BodyLimit == 0 {
+		cfg.BodyLimit = DefaultBodyLimit
+	}
+	s := &Server{cfg: cfg, store: d.Store, log: d.Log, now: d.Now, newID: d.NewID}
+	if s.log == nil {
+		s.log = slog.New(slog.DiscardHandler)
+	}
+	if s.now == nil {
+		s.now = func() time.Time { return time.Now().UTC().Truncate(time.Microsecond) }
+	}
+	if s.newID == nil {
+		s.newID = func() string { return uuid.Must(uuid.NewV7()).String() }
+	}
+	reg := d.Registry
+	if reg == nil {
+		reg = prometheus.NewRegistry()
+	}
+	m, err := newMetrics(reg, d.Store)
+	if err != nil {
+		return nil, err
+	}
+	s.metrics = m
+	s.engine = s.routes(reg)
+	return s, nil
+}
+
+// Handler returns the HTTP handler.
+func (s *Server) Handler() http.Handler { return s.engine }
+
+// randomBytes fills b from the system's secure source.
+func randomBytes(b []byte) { rand.Read(b) }

@@ -13,17 +13,17 @@ import (
 // `sluice fit --format json` and from POST /v1/fits. Its field names are a
 // contract.
 type FitResult struct {
-	Curve         string         `json:"curve"`
-	Model         string         `json:"model"`
-	Status        string         `json:"status"`
-	Params        Params         `json:"params"`
-	EC50          Potency        `json:"ec50"`
-	PEC50         Num            `json:"pec50"`
-	Stats         Stats          `json:"stats"`
-	Confidence    Num            `json:"confidence"`
+	Curve      string  `json:"curve"`
+	Model      string  `json:"model"`
+	Status     string  `json:"status"`
+	Params     Params  `json:"params"`
+	EC50       Potency `json:"ec50"`
+	PEC50      Num     `json:"pec50"`
+	Stats      Stats   `json:"stats"`
+	Confidence Num     `json:"confidence"`
 	// Covariance is σ²(JᵀWJ)⁻¹ over params, in their order, zero for
 	// fixed and at-bound parameters.
-	Covariance [][]Num `json:"covariance"`
+	Covariance    [][]Num        `json:"covariance"`
 	Bootstrap     *BootstrapInfo `json:"bootstrap"`
 	Flags         []string       `json:"flags"`
 	EngineVersion string         `json:"engine_version"`

@@ -180,6 +180,7 @@ func (s *Server) createFit(c *gin.Context) {
 		}
 	}
 
+	in.curve.ID = req.CompoundID
 	start := time.Now()
 	res, err := fit.Fit(in.curve, &in.settings)
 	if err == nil && in.boot != nil {

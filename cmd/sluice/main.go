@@ -1,22 +1,31 @@
-// Command sluice is the Sluice binary: the fit engine on the command line
-// and, in later subcommands, the service.
+// Command sluice is the Sluice binary: the fit engine on the command line,
+// the HTTP service, and the tools that set its store up.
 package main
 
 import (
 	"fmt"
 	"io"
 	"os"
+
+	"github.com/gin-gonic/gin"
 )
 
 const usage = `sluice — concentration–response fitting for ligand-gated ion channels
 
 Usage:
-  sluice fit FILE|- [flags]   fit curves from a CSV file (conc,response[,weight][,curve])
+  sluice fit FILE|- [flags]        fit curves from a CSV file (conc,response[,weight][,curve])
+  sluice serve [flags]             run the HTTP API (SLUICE_* environment variables, see README)
+  sluice migrate                   apply the database migrations
+  sluice token create --scope S --name N
+                                   print a new API token (read, submit or admin)
+  sluice demo                      load the invented demo scenario into the store
 
 Run "sluice COMMAND -h" for a command's flags.
 `
 
 func main() {
+	// gin's mode is process-wide; set it once, before any router is built.
+	gin.SetMode(gin.ReleaseMode)
 	os.Exit(run(os.Args[1:], os.Stdin, os.Stdout, os.Stderr))
 }
 
@@ -30,6 +39,14 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	switch args[0] {
 	case "fit":
 		return runFit(args[1:], stdin, stdout, stderr)
+	case "serve":
+		return runServe(args[1:], os.Getenv, stderr)
+	case "migrate":
+		return runMigrate(args[1:], os.Getenv, stdout, stderr)
+	case "token":
+		return runToken(args[1:], os.Getenv, stdout, stderr)
+	case "demo":
+		return runDemo(args[1:], os.Getenv, stdout, stderr)
 	case "-h", "--help", "help":
 		fmt.Fprint(stdout, usage)
 		return 0

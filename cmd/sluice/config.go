@@ -1,0 +1,153 @@
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"log/slog"
+	"net"
+	"net/url"
+
+	"strconv"
+	"strings"
+)
+
+// serveConfig is the effective configuration of `sluice serve`: defaults,
+// then SLUICE_* environment variables, then flags.
+type serveConfig struct {
+	Addr         string // SLUICE_ADDR, --addr
+	DataDir      string // SLUICE_DATA, --data
+	DatabaseURL  string // SLUICE_DATABASE_URL
+	BodyLimit    int64  // SLUICE_BODY_LIMIT, --body-limit (bytes)
+	AdminToken   string // SLUICE_ADMIN_TOKEN
+	AuthDisabled bool   // SLUICE_AUTH=off, --auth=false
+	Demo         bool   // --demo
+	LogLevel     string // SLUICE_LOG_LEVEL, --log-level
+	FitWorkers   int    // SLUICE_FIT_WORKERS, --fit-workers
+}
+
+// maxBodyLimit bounds --body-limit.
+const maxBodyLimit = 1 << 30
+
+// envOr returns the variable's value or def.
+func envOr(getenv func(string) string, name, def string) string {
+	if v := getenv(name); v != "" {
+		return v
+	}
+	return def
+}
+
+// loadServeConfig reads the environment and the flags and validates the
+// result; every error names the variable or flag.
+func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet) (*serveConfig, error) {
+	c := &serveConfig{}
+	var errs []error
+	limit, err := strconv.ParseInt(envOr(getenv, "SLUICE_BODY_LIMIT", "10485760"), 10, 64)
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_BODY_LIMIT: %q is not a whole number of bytes", getenv("SLUICE_BODY_LIMIT")))
+	}
+	workers, err := strconv.Atoi(envOr(getenv, "SLUICE_FIT_WORKERS", "0"))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_FIT_WORKERS: %q is not a whole number", getenv("SLUICE_FIT_WORKERS")))
+	}
+	auth := true
+	switch v := strings.ToLower(getenv("SLUICE_AUTH")); v {
+	case "", "on", "true", "1":
+	case "off", "false", "0":
+		auth = false
+	default:
+		errs = append(errs, fmt.Errorf("SLUICE_AUTH: %q is not on or off", v))
+	}
+	fs.StringVar(&c.Addr, "addr", envOr(getenv, "SLUICE_ADDR", "127.0.0.1:8080"), "listen address (SLUICE_ADDR)")
+	fs.StringVar(&c.DataDir, "data", envOr(getenv, "SLUICE_DATA", "./sluice-data"), "data directory of the embedded store (SLUICE_DATA)")
+	fs.Int64Var(&c.BodyLimit, "body-limit", limit, "largest request body in bytes (SLUICE_BODY_LIMIT)")
+	fs.BoolVar(&auth, "auth", auth, "require bearer tokens (SLUICE_AUTH=off to disable; loopback only)")
+	fs.BoolVar(&c.Demo, "demo", false, "load the invented demo scenario if the store has none")
+	fs.StringVar(&c.LogLevel, "log-level", envOr(getenv, "SLUICE_LOG_LEVEL", "info"), "debug, info, warn or error (SLUICE_LOG_LEVEL)")
+	fs.IntVar(&c.FitWorkers, "fit-workers", workers, "goroutines per bootstrap; 0 = one per CPU (SLUICE_FIT_WORKERS)")
+	if err := fs.Parse(args); err != nil {
+		return nil, err
+	}
+	if fs.NArg() > 0 {
+		errs = append(errs, fmt.Errorf("unexpected arguments %q", fs.Args()))
+	}
+	c.AuthDisabled = !auth
+	c.DatabaseURL = getenv("SLUICE_DATABASE_URL")
+	c.AdminToken = getenv("SLUICE_ADMIN_TOKEN")
+	errs = append(errs, c.validate()...)
+	return c, errors.Join(errs...)
+}
+
+func (c *serveConfig) validate() []error {
+	var errs []error
+	host, port, err := net.SplitHostPort(c.Addr)
+	if err != nil {
+		errs = append(errs, fmt.Errorf("--addr / SLUICE_ADDR: %q is not host:port", c.Addr))
+	} else if p, err := strconv.Atoi(port); err != nil || p < 0 || p > 65535 {
+		errs = append(errs, fmt.Errorf("--addr / SLUICE_ADDR: port %q is not 0–65535", port))
+	}
+	if c.AuthDisabled && !isLoopback(host) {
+		errs = append(errs, fmt.Errorf("--auth=false / SLUICE_AUTH=off: refused on %q; serving without tokens is allowed only on a loopback address", c.Addr))
+	}
+	if c.BodyLimit < 1024 || c.BodyLimit > maxBodyLimit {
+		errs = append(errs, fmt.Errorf("--body-limit / SLUICE_BODY_LIMIT: %d is outside 1024–%d bytes", c.BodyLimit, maxBodyLimit))
+	}
+	if c.FitWorkers < 0 {
+		errs = append(errs, fmt.Errorf("--fit-workers / SLUICE_FIT_WORKERS: %d is negative", c.FitWorkers))
+	}
+	if _, err := parseLevel(c.LogLevel); err != nil {
+		errs = append(errs, fmt.Errorf("--log-level / SLUICE_LOG_LEVEL: %v", err))
+	}
+	if c.DatabaseURL != "" {
+		u, err := url.Parse(c.DatabaseURL)
+		if err != nil || (u.Scheme != "postgres" && u.Scheme != "postgresql") {
+			errs = append(errs, errors.New("SLUICE_DATABASE_URL: want a postgres:// URL"))
+		}
+	} else if c.DataDir == "" {
+		errs = append(errs, errors.New("--data / SLUICE_DATA: empty; the embedded store needs a directory"))
+	}
+	if c.AdminToken != "" && len(c.AdminToken) < 16 {
+		errs = append(errs, errors.New("SLUICE_ADMIN_TOKEN: shorter than 16 characters"))
+	}
+	return errs
+}
+
+func isLoopback(host string) bool {
+	if host == "localhost" {
+		return true
+	}
+	ip := net.ParseIP(host)
+	return ip != nil && ip.IsLoopback()
+}
+
+func parseLevel(s string) (slog.Level, error) {
+	var l slog.Level
+	err := l.UnmarshalText([]byte(s))
+	if err != nil {
+		return 0, fmt.Errorf("%q is not debug, info, warn or error", s)
+	}
+	return l, nil
+}
+
+// logValue is the configuration for the start-up log, secrets hidden.
+func (c *serveConfig) logAttrs() []any {
+	store := "sqlite:" + c.DataDir
+	if c.DatabaseURL != "" {
+		store = redactURL(c.DatabaseURL)
+	}
+	admin := "unset"
+	if c.AdminToken != "" {
+		admin = "set (hidden)"
+	}
+	return []any{"addr", c.Addr, "store", store, "body_limit", c.BodyLimit, "auth", !c.AuthDisabled,
+		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers}
+}
+
+// redactURL hides a URL's password.
+func redactURL(s string) string {
+	u, err := url.Parse(s)
+	if err != nil {
+		return "(unparseable URL hidden)"
+	}
+	return u.Redacted()
+}

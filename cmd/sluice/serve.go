@@ -1,0 +1,185 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"log/slog"
+	"net"
+	"net/http"
+	"os"
+	"os/signal"
+	"syscall"
+	"time"
+
+	"github.com/prometheus/client_golang/prometheus"
+
+	"sluice/api"
+	"sluice/db"
+)
+
+// runServe is `sluice serve`: the HTTP API on the configured store, until
+// SIGINT or SIGTERM, then a graceful shutdown.
+func runServe(args []string, getenv func(string) string, stderr io.Writer) int {
+	fs := flag.NewFlagSet("serve", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	cfg, err := loadServeConfig(args, getenv, fs)
+	if errors.Is(err, flag.ErrHelp) {
+		return 0
+	}
+	if err != nil {
+		fmt.Fprintf(stderr, "sluice serve: configuration:\n%v\n", err)
+		return 2
+	}
+	level, _ := parseLevel(cfg.LogLevel)
+	log := slog.New(slog.NewJSONHandler(stderr, &slog.HandlerOptions{Level: level}))
+	log.Info("starting", cfg.logAttrs()...)
+
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	store, err := db.Open(ctx, cfg.DatabaseURL, cfg.DataDir)
+	if err != nil {
+		log.Error("open store", "err", err)
+		return 1
+	}
+	defer store.Close()
+	if cfg.AdminToken != "" {
+		if err := seedAdminToken(ctx, store, cfg.AdminToken); err != nil {
+			log.Error("seed admin token", "err", err)
+			return 1
+		}
+	}
+	if cfg.Demo {
+		n, err := loadDemo(ctx, store)
+		if err != nil {
+			log.Error("demo", "err", err)
+			return 1
+		}
+		log.Info("demo scenario", "fits_loaded", n)
+	}
+	srv, err := api.New(api.Config{BodyLimit: cfg.BodyLimit, AuthDisabled: cfg.AuthDisabled, FitWorkers: cfg.FitWorkers},
+		api.Deps{Store: store, Registry: prometheus.NewRegistry(), Log: log})
+	if err != nil {
+		log.Error("build server", "err", err)
+		return 1
+	}
+	hs := &http.Server{
+		Addr:              cfg.Addr,
+		Handler:           srv.Handler(),
+		ReadHeaderTimeout: 10 * time.Second,
+		ReadTimeout:       60 * time.Second,
+		WriteTimeout:      5 * time.Minute, // a large bootstrap is computed before the reply
+		IdleTimeout:       2 * time.Minute,
+		ErrorLog:          slog.NewLogLogger(log.Handler(), slog.LevelWarn),
+	}
+	ln, err := net.Listen("tcp", cfg.Addr)
+	if err != nil {
+		log.Error("listen", "addr", cfg.Addr, "err", err)
+		return 1
+	}
+	log.Info("listening", "addr", ln.Addr().String(), "store", store.Engine())
+	errc := make(chan error, 1)
+	go func() { errc <- hs.Serve(ln) }()
+	select {
+	case err := <-errc:
+		log.Error("serve", "err", err)
+		return 1
+	case <-ctx.Done():
+	}
+	log.Info("shutting down")
+	shutCtx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
+	defer cancel()
+	if err := hs.Shutdown(shutCtx); err != nil {
+		log.Error("shutdown", "err", err)
+		return 1
+	}
+	log.Info("stopped")
+	return 0
+}
+
+// seedAdminToken makes SLUICE_ADMIN_TOKEN a valid admin token named
+// "env-admin", replacing the one seeded before.
+func seedAdminToken(ctx context.Context, store db.Store, secret string) error {
+	return store.Write(ctx, func(w db.Writer) error {
+		return w.UpsertToken(ctx, &db.Token{ID: "env-admin", Name: "env-admin", Scope: api.ScopeAdmin,
+			Hash: api.HashToken(secret), CreatedAt: time.Now().UTC()})
+	})
+}
+
+// storeFlags adds --data to a command that opens the store; the database
+// URL comes from SLUICE_DATABASE_URL as for serve.
+func storeFlags(fs *flag.FlagSet, getenv func(string) string) *string {
+	return fs.String("data", envOr(getenv, "SLUICE_DATA", "./sluice-data"), "data directory of the embedded store (SLUICE_DATA)")
+}
+
+// runMigrate is `sluice migrate`: apply the migrations and exit.
+func runMigrate(args []string, getenv func(string) string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("migrate", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	data := storeFlags(fs, getenv)
+	if err := fs.Parse(args); err != nil {
+		return 2
+	}
+	store, err := db.Open(context.Background(), getenv("SLUICE_DATABASE_URL"), *data)
+	if err != nil {
+		fmt.Fprintf(stderr, "sluice migrate: %v\n", err)
+		return 1
+	}
+	defer store.Close()
+	fmt.Fprintf(stdout, "sluice migrate: %s store is up to date\n", store.Engine())
+	return 0
+}
+
+// runToken is `sluice token create --scope S --name N`: print a new token
+// once; only its hash is stored.
+func runToken(args []string, getenv func(string) string, stdout, stderr io.Writer) int {
+	if len(args) == 0 || args[0] != "create" {
+		fmt.Fprintln(stderr, "usage: sluice token create --scope read|submit|admin --name NAME")
+		return 2
+	}
+	fs := flag.NewFlagSet("token create", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	scope := fs.String("scope", api.ScopeRead, "read, submit or admin")
+	name := fs.String("name", "", "a name for the token, e.g. pipeline-3 (shown in the audit log)")
+	data := storeFlags(fs, getenv)
+	if err := fs.Parse(args[1:]); err != nil {
+		return 2
+	}
+	if !api.ValidScope(*scope) {
+		fmt.Fprintf(stderr, "sluice token create: --scope: %q is not read, submit or admin\n", *scope)
+		return 2
+	}
+	if *name == "" {
+		fmt.Fprintln(stderr, "sluice token create: --name is required")
+		return 2
+	}
+	ctx := context.Background()
+	store, err := db.Open(ctx, getenv("SLUICE_DATABASE_URL"), *data)
+	if err != nil {
+		fmt.Fprintf(stderr, "sluice token create: %v\n", err)
+		return 1
+	}
+	defer store.Close()
+	secret, hash := api.NewToken()
+	now := time.Now().UTC()
+	err = store.Write(ctx, func(w db.Writer) error {
+		if err := w.InsertToken(ctx, &db.Token{ID: hash[:16], Name: *name, Scope: *scope, Hash: hash, CreatedAt: now}); err != nil {
+			return err
+		}
+		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: "cli", Action: "token.create", Target: *name,
+			Detail: []byte(fmt.Sprintf(`{"scope":%q}`, *scope))})
+	})
+	if errors.Is(err, db.ErrExists) {
+		fmt.Fprintf(stderr, "sluice token create: a token named %q exists; choose another name\n", *name)
+		return 2
+	}
+	if err != nil {
+		fmt.Fprintf(stderr, "sluice token create: %v\n", err)
+		return 1
+	}
+	fmt.Fprintln(stdout, secret)
+	fmt.Fprintf(stderr, "token %q (scope %s) created; it is shown only this once\n", *name, *scope)
+	return 0
+}

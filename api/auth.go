@@ -1,12 +1,15 @@
 package api
 
 import (
+	"context"
 	"crypto/sha256"
 	"encoding/base64"
 	"encoding/hex"
 	"errors"
 	"fmt"
 	"strings"
+	"sync"
+	"time"
 
 	"github.com/gin-gonic/gin"
 
@@ -62,7 +65,7 @@ func (s *Server) authenticate(scope string) gin.HandlerFunc {
 			s.writeProblem(c, &requestError{kind: errUnauthenticated, detail: "send Authorization: Bearer <token>"})
 			return
 		}
-		tok, err := s.store.TokenByHash(c.Request.Context(), HashToken(strings.TrimSpace(secret)))
+		tok, err := s.tokens.lookup(c.Request.Context(), HashToken(strings.TrimSpace(secret)))
 		if errors.Is(err, db.ErrNotFound) {
 			c.Header("WWW-Authenticate", `Bearer realm="sluice", error="invalid_token"`)
 			s.writeProblem(c, &requestError{kind: errUnauthenticated, detail: "the token is not valid"})
@@ -80,4 +83,48 @@ func (s *Server) authenticate(scope string) gin.HandlerFunc {
 		c.Set(actorKey, tok.Name)
 		c.Next()
 	}
+}
+
+// tokenTTL is how long a looked-up token is trusted without asking the
+// store again: a revoked token stops working within this time.
+const tokenTTL = 10 * time.Second
+
+// tokenCache remembers valid tokens by hash for tokenTTL, saving a
+// database round trip on every request. Unknown hashes are not cached, so
+// a new token works at once.
+type tokenCache struct {
+	store db.Store
+	now   func() time.Time
+	mu    sync.Mutex
+	byKey map[string]cachedToken
+}
+
+type cachedToken struct {
+	tok     db.Token
+	expires time.Time
+}
+
+// maxCachedTokens bounds the cache; past it the cache starts again.
+const maxCachedTokens = 10000
+
+func (tc *tokenCache) lookup(ctx context.Context, hash string) (*db.Token, error) {
+	now := tc.now()
+	tc.mu.Lock()
+	ct, ok := tc.byKey[hash]
+	tc.mu.Unlock()
+	if ok && now.Before(ct.expires) {
+		t := ct.tok
+		return &t, nil
+	}
+	tok, err := tc.store.TokenByHash(ctx, hash)
+	if err != nil {
+		return nil, err
+	}
+	tc.mu.Lock()
+	if tc.byKey == nil || len(tc.byKey) >= maxCachedTokens {
+		tc.byKey = map[string]cachedToken{}
+	}
+	tc.byKey[hash] = cachedToken{tok: *tok, expires: now.Add(tokenTTL)}
+	tc.mu.Unlock()
+	return tok, nil
 }

@@ -49,6 +49,7 @@ type Server struct {
 	metrics *metrics
 	now     func() time.Time
 	newID   func() string
+	tokens  *tokenCache
 	engine  *gin.Engine
 }
 
@@ -67,6 +68,7 @@ func New(cfg Config, d Deps) (*Server, error) {
 	if s.newID == nil {
 		s.newID = func() string { return uuid.Must(uuid.NewV7()).String() }
 	}
+	s.tokens = &tokenCache{store: d.Store, now: time.Now}
 	reg := d.Registry
 	if reg == nil {
 		reg = prometheus.NewRegistry()

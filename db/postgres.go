@@ -56,9 +56,55 @@ func (e *pgEngine) query(ctx context.Context, q string, args ...any) (rowsScanne
 	return e.pool.Query(ctx, q, args...)
 }
 
+// inTx runs fn atomically. A write that only executes statements (every
+// Writer method today) is sent as one pipelined batch: PostgreSQL runs the
+// statements before a Sync as one implicit transaction, rolled back whole on
+// any error (PostgreSQL docs, "Pipelining" in the frontend/backend
+// protocol), so the write costs one round trip instead of one per statement
+// plus BEGIN and COMMIT. A write that reads is run again inside an explicit
+// transaction.
 func (e *pgEngine) inTx(ctx context.Context, fn func(querier) error) error {
-	return pgx.BeginFunc(ctx, e.pool, func(tx pgx.Tx) error { return fn(pgTx{tx}) })
+	rec := &pgRecorder{}
+	err := fn(rec)
+	if err != nil && !errors.Is(err, errNeedsTx) {
+		return err
+	}
+	if rec.read || errors.Is(err, errNeedsTx) {
+		return pgx.BeginFunc(ctx, e.pool, func(tx pgx.Tx) error { return fn(pgTx{tx}) })
+	}
+	if rec.batch.Len() == 0 {
+		return nil
+	}
+	return e.pool.SendBatch(ctx, &rec.batch).Close()
 }
+
+// errNeedsTx stops a recorded write that tries to read.
+var errNeedsTx = errors.New("write reads: needs a transaction")
+
+// pgRecorder queues a write's statements into a batch.
+type pgRecorder struct {
+	batch pgx.Batch
+	read  bool
+}
+
+func (r *pgRecorder) exec(ctx context.Context, q string, args ...any) error {
+	r.batch.Queue(q, args...)
+	return nil
+}
+
+func (r *pgRecorder) queryRow(ctx context.Context, q string, args ...any) rowScanner {
+	r.read = true
+	return errRow{errNeedsTx}
+}
+
+func (r *pgRecorder) query(ctx context.Context, q string, args ...any) (rowsScanner, error) {
+	r.read = true
+	return nil, errNeedsTx
+}
+
+type errRow struct{ err error }
+
+func (r errRow) Scan(...any) error { return r.err }
 
 func (e *pgEngine) ping(ctx context.Context) error { return e.pool.Ping(ctx) }
 func (e *pgEngine) close()                         { e.pool.Close() }

@@ -48,12 +48,31 @@ func TestCatalogue(t *testing.T) {
 	})
 }
 
-// A failed write leaves nothing behind.
+// A failed write leaves nothing behind: whether the caller gives up or the
+// database refuses a later statement.
 func TestWriteIsAtomic(t *testing.T) {
 	dbtest.Engines(t, func(t *testing.T, s db.Store) {
 		ctx := context.Background()
-		boom := errors.New("boom")
 		err := s.Write(ctx, func(w db.Writer) error {
+			if err := w.InsertAssay(ctx, &db.Assay{ID: "a0", Name: "x", CreatedAt: t0}); err != nil {
+				return err
+			}
+			if err := w.InsertCompound(ctx, &db.Compound{ID: "c0", Name: "x", CreatedAt: t0}); err != nil {
+				return err
+			}
+			return w.InsertAssay(ctx, &db.Assay{ID: "a0", Name: "again", CreatedAt: t0})
+		})
+		if !errors.Is(err, db.ErrExists) {
+			t.Fatalf("duplicate within a write: %v, want ErrExists", err)
+		}
+		if _, err := s.Assay(ctx, "a0"); !errors.Is(err, db.ErrNotFound) {
+			t.Errorf("first insert of a failed write survived: %v", err)
+		}
+		if _, err := s.Compound(ctx, "c0"); !errors.Is(err, db.ErrNotFound) {
+			t.Errorf("second insert of a failed write survived: %v", err)
+		}
+		boom := errors.New("boom")
+		err = s.Write(ctx, func(w db.Writer) error {
 			if err := w.InsertAssay(ctx, &db.Assay{ID: "a1", Name: "x", CreatedAt: t0}); err != nil {
 				return err
 			}

@@ -79,49 +79,34 @@ func decodeJSON(body []byte, dst any) error {
 }
 
 // pointerAt returns the JSON Pointer of the value that ends at byte offset
-// off of doc (as encoding/json reports it), by walking the tokens.
+// off of doc (as encoding/json reports it).
 func pointerAt(doc []byte, off int64) string {
-	dec := json.NewDecoder(bytes.NewReader(doc))
-	var stack []ptrFrame
-	path := func() string { return framesPath(stack) }
-	for {
-		tok, err := dec.Token()
-		if err != nil {
-			return path()
-		}
-		top := len(stack) - 1
-		if d, ok := tok.(json.Delim); ok && (d == '}' || d == ']') {
-			stack = stack[:top]
-			if top > 0 {
-				stack[top-1].next()
-			}
-			continue
-		}
-		if top >= 0 && stack[top].expectKey {
-			stack[top].key, stack[top].expectKey = tok.(string), false
-			continue
-		}
-		if dec.InputOffset() >= off {
-			return path()
-		}
-		if d, ok := tok.(json.Delim); ok {
-			stack = append(stack, ptrFrame{array: d == '[', expectKey: d == '{'})
-			continue
-		}
-		if top >= 0 {
-			stack[top].next()
-		}
-	}
+	return walkJSON(doc, func(_ []ptrFrame, isKey bool, _ string, end int64) bool {
+		return !isKey && end >= off
+	})
 }
 
 // pointerOfKey returns the JSON Pointer of the first member named name.
 func pointerOfKey(doc []byte, name string) string {
+	if p := walkJSON(doc, func(_ []ptrFrame, isKey bool, key string, _ int64) bool {
+		return isKey && key == name
+	}); p != "" {
+		return p
+	}
+	return "/" + escapePointer(name)
+}
+
+// walkJSON walks doc's tokens, calling stop after each member name and
+// before descending into or past each value, with the byte offset where the
+// token ends; it returns the JSON Pointer where stop said yes, or of where
+// the walk ended.
+func walkJSON(doc []byte, stop func(stack []ptrFrame, isKey bool, key string, end int64) bool) string {
 	dec := json.NewDecoder(bytes.NewReader(doc))
 	var stack []ptrFrame
 	for {
 		tok, err := dec.Token()
 		if err != nil {
-			return "/" + escapePointer(name)
+			return framesPath(stack)
 		}
 		top := len(stack) - 1
 		if d, ok := tok.(json.Delim); ok && (d == '}' || d == ']') {
@@ -133,10 +118,13 @@ func pointerOfKey(doc []byte, name string) string {
 		}
 		if top >= 0 && stack[top].expectKey {
 			stack[top].key, stack[top].expectKey = tok.(string), false
-			if stack[top].key == name {
+			if stop(stack, true, stack[top].key, dec.InputOffset()) {
 				return framesPath(stack)
 			}
 			continue
+		}
+		if stop(stack, false, "", dec.InputOffset()) {
+			return framesPath(stack)
 		}
 		if d, ok := tok.(json.Delim); ok {
 			stack = append(stack, ptrFrame{array: d == '[', expectKey: d == '{'})

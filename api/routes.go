@@ -41,6 +41,10 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	submit.POST("/fits", s.createFit)
 	submit.POST("/assays", s.createAssay)
 	submit.POST("/compounds", s.createCompound)
+
+	// Calculators: no record is stored, so scope read suffices.
+	calc := r.Group("/v1", s.authenticate(ScopeRead), s.idempotency)
+	calc.POST("/potential", s.postPotential)
 	return r
 }
 

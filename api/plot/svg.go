@@ -12,7 +12,12 @@ import (
 // Curve is a concentration–response figure on a log10 concentration axis.
 type Curve struct {
 	Title, Subtitle string
-	YLabel          string
+	// XLabel defaults to the agonist axis; YLabel is the left axis. When
+	// RightLabel is set, the right axis repeats the left one shifted by
+	// RightOffset (e.g. ΔV = V − V_rest).
+	XLabel, YLabel string
+	RightLabel     string
+	RightOffset    float64
 	// Points are the data, concentrations in molar; 0 is the vehicle,
 	// drawn at a nominal position left of an axis break.
 	PointConc, PointResp []float64
@@ -23,8 +28,8 @@ type Curve struct {
 }
 
 const (
-	width, height          = 640, 440
-	left, right, top, bott = 70, 20, 50, 90
+	width, height          = 680, 480
+	left, right, top, bott = 70, 60, 50, 130
 )
 
 // Write renders the figure.
@@ -120,10 +125,23 @@ func (p *Curve) Write(w io.Writer) error {
 		fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f" text-anchor="end">%g</text>`+"\n",
 			x0-5, py(t), x0, py(t), x0-8, py(t)+4, t)
 	}
-	fmt.Fprintf(&b, `<text x="%.1f" y="%.1f" text-anchor="middle">log10 [agonist] (M)</text>`+"\n", (x0+x1)/2, y0+38)
+	xl := p.XLabel
+	if xl == "" {
+		xl = "log10 [agonist] (M)"
+	}
+	fmt.Fprintf(&b, `<text x="%.1f" y="%.1f" text-anchor="middle">%s</text>`+"\n", (x0+x1)/2, y0+38, esc(xl))
+	if p.RightLabel != "" {
+		fmt.Fprintf(&b, `<path d="M%.1f,%.1f V%.1f" stroke="black"/>`+"\n", x1, y1, y0)
+		for _, t := range ticks(ymin-p.RightOffset, ymax-p.RightOffset) {
+			y := py(t + p.RightOffset)
+			fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f">%g</text>`+"\n",
+				x1, y, x1+5, y, x1+8, y+4, t)
+		}
+		fmt.Fprintf(&b, `<text transform="translate(%d,%.1f) rotate(90)" text-anchor="middle">%s</text>`+"\n", width-8, (y0+y1)/2, esc(p.RightLabel))
+	}
 	fmt.Fprintf(&b, `<text transform="translate(18,%.1f) rotate(-90)" text-anchor="middle">%s</text>`+"\n", (y0+y1)/2, esc(p.YLabel))
-	for i, l := range wrap(p.Footnote, 100) {
-		fmt.Fprintf(&b, `<text x="10" y="%d" font-size="10" fill="#444">%s</text>`+"\n", height-34+12*i, esc(l))
+	for i, l := range wrap(p.Footnote, 125) {
+		fmt.Fprintf(&b, `<text x="10" y="%.1f" font-size="10" fill="#444">%s</text>`+"\n", y0+58+12*float64(i), esc(l))
 	}
 	b.WriteString("</svg>\n")
 	_, err := io.WriteString(w, b.String())
@@ -146,7 +164,7 @@ func ticks(lo, hi float64) []float64 {
 	}
 	var out []float64
 	for v := math.Ceil(lo/step) * step; v <= hi; v += step {
-		out = append(out, math.Round(v/step)*step)
+		out = append(out, math.Round(v/step)*step+0) // +0 turns −0 into 0
 	}
 	return out
 }

@@ -19,6 +19,7 @@ Usage:
   sluice token create --scope S --name N
                                    print a new API token (read, submit or admin)
   sluice demo                      load the invented demo scenario into the store
+  sluice potential REQUEST.json|-  predict the membrane-potential shift of an agonist (offline)
 
 Run "sluice COMMAND -h" for a command's flags.
 `
@@ -45,6 +46,8 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return runMigrate(args[1:], os.Getenv, stdout, stderr)
 	case "token":
 		return runToken(args[1:], os.Getenv, stdout, stderr)
+	case "potential":
+		return runPotential(args[1:], stdin, stdout, stderr)
 	case "demo":
 		return runDemo(args[1:], os.Getenv, stdout, stderr)
 	case "-h", "--help", "help":

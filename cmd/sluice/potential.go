@@ -1,0 +1,100 @@
+package main
+
+import (
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"text/tabwriter"
+
+	"sluice/api"
+)
+
+// runPotential is `sluice potential FILE|-`: the POST /v1/potential
+// calculation offline, from a request file (a Hill curve, not a stored one).
+func runPotential(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("potential", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	fs.Usage = func() {
+		fmt.Fprint(stderr, "Usage: sluice potential REQUEST.json|- [flags]\n\n"+
+			"Predicts the steady membrane potential from a JSON request shaped as for POST /v1/potential\n"+
+			"(with \"hill\": {\"log_ec50\", \"hill\", \"po_max\"}; ions in mM, agonist in M). Flags:\n")
+		fs.PrintDefaults()
+	}
+	format := fs.String("format", "table", "output: table or json")
+	svg := fs.String("svg", "", "also write the plot of V and ΔV to this file")
+	pos, err := parseInterspersed(fs, args)
+	if err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return 0
+		}
+		return 2
+	}
+	if len(pos) != 1 || (*format != "table" && *format != "json") {
+		fs.Usage()
+		return 2
+	}
+	in := stdin
+	if pos[0] != "-" {
+		f, err := os.Open(pos[0])
+		if err != nil {
+			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
+			return 2
+		}
+		defer f.Close()
+		in = f
+	}
+	body, err := io.ReadAll(io.LimitReader(in, 10<<20))
+	if err != nil {
+		fmt.Fprintf(stderr, "sluice potential: %v\n", err)
+		return 2
+	}
+	out, err := api.ComputePotential(body)
+	if err != nil {
+		if f := api.FieldOf(err); f != "" {
+			fmt.Fprintf(stderr, "sluice potential: %s: %v\n", f, err)
+		} else {
+			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
+		}
+		return 2
+	}
+	if *svg != "" {
+		f, err := os.Create(*svg)
+		if err != nil {
+			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
+			return 1
+		}
+		api.PotentialPlot(out).Write(f)
+		if err := f.Close(); err != nil {
+			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
+			return 1
+		}
+	}
+	if *format == "json" {
+		enc := json.NewEncoder(stdout)
+		enc.SetIndent("", "  ")
+		enc.Encode(out)
+		return 0
+	}
+	fmt.Fprintf(stdout, "rest %.3f mV, channel reversal %.3f mV\n\n", out.RestMV, out.ChannelReversalMV)
+	tw := tabwriter.NewWriter(stdout, 0, 4, 2, ' ', 0)
+	fmt.Fprintln(tw, "agonist (M)\tP_open\tg_L (nS)\tV (mV)\tΔV (mV)\tCI of V")
+	for _, p := range out.Points {
+		ci := ""
+		if p.CI != nil {
+			ci = fmt.Sprintf("[%.2f, %.2f]", p.CI.VMV[0], p.CI.VMV[1])
+		}
+		fmt.Fprintf(tw, "%.3g\t%.4f\t%.4f\t%.3f\t%+.3f\t%s\n", p.AgonistConc, p.OpenFraction, p.GLigandNS, p.VMV, p.DeltaMV, ci)
+	}
+	tw.Flush()
+	if out.ThresholdCrossed != nil {
+		fmt.Fprintf(stdout, "\nthreshold crossed at %.3g M\n", *out.ThresholdCrossed)
+	}
+	fmt.Fprintln(stdout)
+	for _, c := range out.Cautions {
+		fmt.Fprintln(stdout, c)
+	}
+	return 0
+}

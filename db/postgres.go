@@ -10,6 +10,7 @@ import (
 	"github.com/jackc/pgx/v5/pgconn"
 	"github.com/jackc/pgx/v5/pgxpool"
 	"github.com/jackc/pgx/v5/stdlib"
+	"github.com/riverqueue/river/riverdriver/riverpgxv5"
 )
 
 // pgEngine is PostgreSQL through a pgx pool.
@@ -40,7 +41,15 @@ func openPostgres(ctx context.Context, url string) (*sqlStore, error) {
 		pool.Close()
 		return nil, err
 	}
-	return &sqlStore{e: &pgEngine{pool: pool}}, nil
+	q, err := newRiverQueue(ctx, riverpgxv5.New(pool), func(q querier) (pgx.Tx, bool) {
+		t, ok := q.(pgTx)
+		return t.tx, ok
+	}, 200*time.Millisecond)
+	if err != nil {
+		pool.Close()
+		return nil, err
+	}
+	return &sqlStore{e: &pgEngine{pool: pool}, q: q}, nil
 }
 
 func (e *pgEngine) exec(ctx context.Context, q string, args ...any) error {
@@ -90,6 +99,18 @@ type pgRecorder struct {
 func (r *pgRecorder) exec(ctx context.Context, q string, args ...any) error {
 	r.batch.Queue(q, args...)
 	return nil
+}
+
+// copyWells bulk-loads wells with COPY.
+func (t pgTx) copyWells(ctx context.Context, plateID string, wells []WellRow) error {
+	rows := make([][]any, len(wells))
+	for i, w := range wells {
+		rows[i] = []any{plateID, w.Well, w.Row, w.Col, w.Role, w.CompoundID, w.Conc, w.Value, w.AntagonistID, w.AntagonistConc}
+	}
+	_, err := t.tx.CopyFrom(ctx, pgx.Identifier{"wells"},
+		[]string{"plate_id", "well", "row_index", "col_index", "role", "compound_id", "conc", "value", "antagonist_id", "antagonist_conc"},
+		pgx.CopyFromRows(rows))
+	return err
 }
 
 func (r *pgRecorder) queryRow(ctx context.Context, q string, args ...any) rowScanner {

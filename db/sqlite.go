@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"time"
 
+	"github.com/riverqueue/river/riverdriver/riversqlite"
 	"modernc.org/sqlite"
 	sqlite3 "modernc.org/sqlite/lib"
 )
@@ -45,7 +46,15 @@ func openSQLite(ctx context.Context, dir string) (*sqlStore, error) {
 		db.Close()
 		return nil, err
 	}
-	return &sqlStore{e: &sqliteEngine{db: db}}, nil
+	q, err := newRiverQueue(ctx, riversqlite.New(db), func(q querier) (*sql.Tx, bool) {
+		t, ok := q.(sqlTx)
+		return t.tx, ok
+	}, 100*time.Millisecond)
+	if err != nil {
+		db.Close()
+		return nil, err
+	}
+	return &sqlStore{e: &sqliteEngine{db: db}, q: q}, nil
 }
 
 func (e *sqliteEngine) exec(ctx context.Context, q string, args ...any) error {

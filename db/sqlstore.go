@@ -2,6 +2,7 @@ package db
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"strconv"
 	"strings"
@@ -10,16 +11,34 @@ import (
 // sqlStore implements Store on either engine with one set of SQL text.
 type sqlStore struct {
 	e engine
+	q queue
 }
+
+func (s *sqlStore) Job(ctx context.Context, id int64) (*Job, error) { return s.q.job(ctx, id) }
+
+func (s *sqlStore) StartWorkers(ctx context.Context, work WorkFunc, workers int) error {
+	return s.q.start(ctx, work, workers)
+}
+
+func (s *sqlStore) StopWorkers(ctx context.Context) error { return s.q.stop(ctx) }
 
 // sqlWriter implements Writer inside a transaction.
 type sqlWriter struct {
-	q querier
-	e engine
+	q     querier
+	e     engine
+	queue queue
+}
+
+func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, plateID string) (int64, error) {
+	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: plateID})
+	if errors.Is(err, errNeedsTx) {
+		return 0, err
+	}
+	return id, w.e.translate(err)
 }
 
 func (s *sqlStore) Write(ctx context.Context, fn func(Writer) error) error {
-	err := s.e.inTx(ctx, func(q querier) error { return fn(&sqlWriter{q: q, e: s.e}) })
+	err := s.e.inTx(ctx, func(q querier) error { return fn(&sqlWriter{q: q, e: s.e, queue: s.q}) })
 	return s.e.translate(err)
 }
 

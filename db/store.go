@@ -22,6 +22,21 @@ type Store interface {
 	// Audit returns the newest entries first, at most limit.
 	Audit(ctx context.Context, limit int) ([]AuditEntry, error)
 
+	Plate(ctx context.Context, id string) (*Plate, error)
+	PlateByJob(ctx context.Context, jobID int64) (*Plate, error)
+	Wells(ctx context.Context, plateID string) ([]WellRow, error)
+	PlateCurves(ctx context.Context, plateID string) ([]PlateCurve, error)
+	Layout(ctx context.Context, id string) (*Layout, error)
+	// SetPlateProgress records a running job's progress (outside any
+	// transaction: it is advisory).
+	SetPlateProgress(ctx context.Context, plateID, status string, done, total int) error
+	// Job returns a queued job's state.
+	Job(ctx context.Context, id int64) (*Job, error)
+	// StartWorkers starts workers goroutines that take plate jobs and run
+	// work, until StopWorkers.
+	StartWorkers(ctx context.Context, work WorkFunc, workers int) error
+	StopWorkers(ctx context.Context) error
+
 	Ping(ctx context.Context) error
 	Stats() PoolStats
 	// Engine names the engine: "postgres" or "sqlite".
@@ -41,4 +56,15 @@ type Writer interface {
 	InsertAudit(ctx context.Context, e *AuditEntry) error
 	// InsertIdempotent fails with ErrExists when the key is taken.
 	InsertIdempotent(ctx context.Context, r *Idempotent) error
+
+	InsertLayout(ctx context.Context, l *Layout) error
+	// InsertPlate stores a plate and its wells.
+	InsertPlate(ctx context.Context, p *Plate, wells []WellRow) error
+	// EnqueuePlateFit queues the plate's fit job in this transaction, so
+	// that a stored plate always has its job, and returns the job's ID.
+	EnqueuePlateFit(ctx context.Context, plateID string) (int64, error)
+	SetPlateJob(ctx context.Context, plateID string, jobID int64) error
+	// FinishPlate stores a plate's curves (keeping any stored by an
+	// earlier attempt) and its final status, QC and error.
+	FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error
 }

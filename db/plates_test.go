@@ -48,7 +48,9 @@ func TestPlateJob(t *testing.T) {
 		err = s.StartWorkers(ctx, func(ctx context.Context, plateID string) error {
 			n := calls.Add(1)
 			curves := []db.PlateCurve{{Key: "c", CompoundID: "c", Status: "converged", Result: []byte(fmt.Sprintf(`{"attempt":%d}`, n))}}
-			if err := s.Write(ctx, func(w db.Writer) error { return w.FinishPlate(ctx, plateID, db.PlateDone, []byte(`{"pass":true}`), curves, "") }); err != nil {
+			if err := s.Write(ctx, func(w db.Writer) error {
+				return w.FinishPlate(ctx, plateID, db.PlateDone, []byte(`{"pass":true}`), curves, "")
+			}); err != nil {
 				return err
 			}
 			if n == 1 {

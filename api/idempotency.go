@@ -76,23 +76,19 @@ func (s *Server) replay(c *gin.Context, req idemRequest) bool {
 	return true
 }
 
-// respond stores what the request wrote (write, may be nil) together with
-// its idempotency record in one transaction, then sends the response. When
-// a concurrent request with the same key won the race, its response is
-// replayed instead and nothing of this one is kept.
-func (s *Server) respond(c *gin.Context, status int, contentType string, body []byte, write func(db.Writer) error) {
+// respondBuilt is respond for a body known only once the write has run
+// (e.g. it holds an ID the transaction created).
+func (s *Server) respondBuilt(c *gin.Context, status int, contentType string, build func() []byte, write func(db.Writer) error) {
 	v, keyed := c.Get(idemKey)
-	if !keyed && write == nil {
-		c.Data(status, contentType, body)
-		return
-	}
 	ctx := c.Request.Context()
+	var body []byte
 	err := s.store.Write(ctx, func(w db.Writer) error {
 		if write != nil {
 			if err := write(w); err != nil {
 				return err
 			}
 		}
+		body = build()
 		if keyed {
 			req := v.(idemRequest)
 			return w.InsertIdempotent(ctx, &db.Idempotent{Actor: actor(c), Key: req.key, RequestSHA256: req.hash,
@@ -108,4 +104,16 @@ func (s *Server) respond(c *gin.Context, status int, contentType string, body []
 		return
 	}
 	c.Data(status, contentType, body)
+}
+
+// respond stores what the request wrote (write, may be nil) together with
+// its idempotency record in one transaction, then sends the response. When
+// a concurrent request with the same key won the race, its response is
+// replayed instead and nothing of this one is kept.
+func (s *Server) respond(c *gin.Context, status int, contentType string, body []byte, write func(db.Writer) error) {
+	if _, keyed := c.Get(idemKey); !keyed && write == nil {
+		c.Data(status, contentType, body)
+		return
+	}
+	s.respondBuilt(c, status, contentType, func() []byte { return body }, write)
 }

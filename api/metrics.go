@@ -15,12 +15,13 @@ import (
 // Names follow Prometheus conventions: sluice_ prefix, base units, _total
 // for counters.
 type metrics struct {
-	requests     *prometheus.CounterVec
-	duration     *prometheus.HistogramVec
-	fits         *prometheus.CounterVec
-	fitDuration  *prometheus.HistogramVec
-	resamples    prometheus.Counter
-	failedRefits prometheus.Counter
+	requests      *prometheus.CounterVec
+	duration      *prometheus.HistogramVec
+	fits          *prometheus.CounterVec
+	fitDuration   *prometheus.HistogramVec
+	resamples     prometheus.Counter
+	failedRefits  prometheus.Counter
+	plateDuration prometheus.Histogram
 }
 
 func newMetrics(reg prometheus.Registerer, store db.Store) (*metrics, error) {
@@ -45,8 +46,12 @@ func newMetrics(reg prometheus.Registerer, store db.Store) (*metrics, error) {
 		failedRefits: prometheus.NewCounter(prometheus.CounterOpts{
 			Name: "sluice_bootstrap_failed_refits_total", Help: "Bootstrap resamples whose refit did not converge.",
 		}),
+		plateDuration: prometheus.NewHistogram(prometheus.HistogramOpts{
+			Name: "sluice_plate_fit_duration_seconds", Help: "Time to fit every curve of a plate.",
+			Buckets: prometheus.ExponentialBuckets(0.01, 2, 14),
+		}),
 	}
-	cs := []prometheus.Collector{m.requests, m.duration, m.fits, m.fitDuration, m.resamples, m.failedRefits,
+	cs := []prometheus.Collector{m.requests, m.duration, m.fits, m.fitDuration, m.resamples, m.failedRefits, m.plateDuration,
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{})}
 	if store != nil {
 		cs = append(cs, poolCollector{store})

@@ -36,11 +36,17 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/assays/:id", s.getAssay)
 	read.GET("/compounds", s.listCompounds)
 	read.GET("/compounds/:id", s.getCompound)
+	read.GET("/plates/:id", s.getPlate)
+	read.GET("/plates/:id/curves.csv", s.plateCurvesCSV)
+	read.GET("/plates/:id/heatmap.svg", s.plateHeatmap)
+	read.GET("/jobs/:id", s.getJob)
 
 	submit := r.Group("/v1", s.authenticate(ScopeSubmit), s.idempotency)
 	submit.POST("/fits", s.createFit)
 	submit.POST("/assays", s.createAssay)
 	submit.POST("/compounds", s.createCompound)
+	submit.POST("/layouts", s.createLayout)
+	submit.POST("/plates", s.createPlate)
 
 	// Calculators: no record is stored, so scope read suffices.
 	calc := r.Group("/v1", s.authenticate(ScopeRead), s.idempotency)

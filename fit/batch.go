@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"context"
 	"fmt"
 	"runtime"
 	"sync"
@@ -30,7 +31,10 @@ func (e *CurveError) Unwrap() error { return e.Err }
 // seed, identical for any number of workers. Every curve is validated before
 // any is fitted, so invalid input returns a *CurveError and no results.
 // progress, when not nil, is called after each curve with the number done.
-func FitBatch(curves []Curve, s *Settings, bs *BootSettings, workers int, progress func(done int)) ([]*Result, error) {
+//
+// When ctx is done, curves not yet started are skipped and ctx.Err() is
+// returned with no results.
+func FitBatch(ctx context.Context, curves []Curve, s *Settings, bs *BootSettings, workers int, progress func(done int)) ([]*Result, error) {
 	set, err := s.resolve()
 	if err != nil {
 		return nil, err
@@ -63,7 +67,7 @@ func FitBatch(curves []Curve, s *Settings, bs *BootSettings, workers int, progre
 			defer wg.Done()
 			for {
 				i := int(next.Add(1)) - 1
-				if i >= len(curves) {
+				if i >= len(curves) || ctx.Err() != nil {
 					return
 				}
 				r := fitDesign(curves[i].ID, set, designs[i])
@@ -82,5 +86,8 @@ func FitBatch(curves []Curve, s *Settings, bs *BootSettings, workers int, progre
 		}()
 	}
 	wg.Wait()
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	return results, nil
 }

@@ -24,6 +24,7 @@ type serveConfig struct {
 	Demo         bool   // --demo
 	LogLevel     string // SLUICE_LOG_LEVEL, --log-level
 	FitWorkers   int    // SLUICE_FIT_WORKERS, --fit-workers
+	Role         string // SLUICE_ROLE, --role: api, worker or all
 }
 
 // maxBodyLimit bounds --body-limit.
@@ -65,6 +66,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.BoolVar(&c.Demo, "demo", false, "load the invented demo scenario if the store has none")
 	fs.StringVar(&c.LogLevel, "log-level", envOr(getenv, "SLUICE_LOG_LEVEL", "info"), "debug, info, warn or error (SLUICE_LOG_LEVEL)")
 	fs.IntVar(&c.FitWorkers, "fit-workers", workers, "goroutines per bootstrap; 0 = one per CPU (SLUICE_FIT_WORKERS)")
+	fs.StringVar(&c.Role, "role", envOr(getenv, "SLUICE_ROLE", "all"), "api (HTTP only), worker (plate jobs; HTTP for health and metrics) or all (SLUICE_ROLE)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -91,6 +93,9 @@ func (c *serveConfig) validate() []error {
 	}
 	if c.BodyLimit < 1024 || c.BodyLimit > maxBodyLimit {
 		errs = append(errs, fmt.Errorf("--body-limit / SLUICE_BODY_LIMIT: %d is outside 1024–%d bytes", c.BodyLimit, maxBodyLimit))
+	}
+	if c.Role != "api" && c.Role != "worker" && c.Role != "all" {
+		errs = append(errs, fmt.Errorf("--role / SLUICE_ROLE: %q is not api, worker or all", c.Role))
 	}
 	if c.FitWorkers < 0 {
 		errs = append(errs, fmt.Errorf("--fit-workers / SLUICE_FIT_WORKERS: %d is negative", c.FitWorkers))
@@ -140,7 +145,7 @@ func (c *serveConfig) logAttrs() []any {
 		admin = "set (hidden)"
 	}
 	return []any{"addr", c.Addr, "store", store, "body_limit", c.BodyLimit, "auth", !c.AuthDisabled,
-		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers}
+		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role}
 }
 
 // redactURL hides a URL's password.

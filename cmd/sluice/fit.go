@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"encoding/csv"
 	"encoding/json"
 	"errors"
@@ -94,7 +95,7 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		bs = &fit.BootSettings{Resamples: *resamples, Scheme: fit.Scheme(*scheme),
 			Interval: fit.Interval(*interval), Seed: *seed}
 	}
-	results, err := fit.FitBatch(curves, settings, bs, *workers, nil)
+	results, err := fit.FitBatch(context.Background(), curves, settings, bs, *workers, nil)
 	if err != nil {
 		return fail("%s: %v", name, err)
 	}

@@ -65,6 +65,19 @@ func runServe(args []string, getenv func(string) string, stderr io.Writer) int {
 		log.Error("build server", "err", err)
 		return 1
 	}
+	if cfg.Role != "api" {
+		// Two plates at a time: each already fits its curves on every core.
+		if err := store.StartWorkers(ctx, srv.FitPlate, 2); err != nil {
+			log.Error("start workers", "err", err)
+			return 1
+		}
+		defer func() {
+			stopCtx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
+			defer cancel()
+			store.StopWorkers(stopCtx)
+		}()
+		log.Info("plate workers started")
+	}
 	hs := &http.Server{
 		Addr:              cfg.Addr,
 		Handler:           srv.Handler(),

@@ -1,0 +1,617 @@
+package api
+
+import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/binary"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"math"
+	"mime"
+	"net/http"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/gin-gonic/gin"
+
+	"sluice/api/ingest"
+	"sluice/api/wire"
+	"sluice/db"
+	"sluice/fit"
+	"sluice/fit/plate"
+)
+
+// PlateRequest is the JSON body of POST /v1/plates.
+type PlateRequest struct {
+	AssayID    string            `json:"assay_id,omitempty"`
+	Barcode    string            `json:"barcode"`
+	Format     int               `json:"format"`
+	MeasuredAt string            `json:"measured_at,omitempty"`
+	ConcUnit   string            `json:"conc_unit,omitempty"`
+	Mode       string            `json:"mode,omitempty"`
+	Wells      []WellJSON        `json:"wells"`
+	Fit        *PlateFitIn       `json:"fit,omitempty"`
+	QC         *plate.Thresholds `json:"qc,omitempty"`
+}
+
+// WellJSON is one well of a plate or layout.
+type WellJSON struct {
+	Well           string   `json:"well"`
+	Role           string   `json:"role"`
+	CompoundID     string   `json:"compound_id,omitempty"`
+	Conc           *float64 `json:"conc,omitempty"`
+	Value          *float64 `json:"value,omitempty"`
+	AntagonistID   string   `json:"antagonist_id,omitempty"`
+	AntagonistConc *float64 `json:"antagonist_conc,omitempty"`
+}
+
+// PlateFitIn are the fit settings of a plate, as in POST /v1/fits.
+type PlateFitIn struct {
+	Model      string             `json:"model,omitempty"`
+	Fixed      map[string]float64 `json:"fixed,omitempty"`
+	Confidence float64            `json:"confidence,omitempty"`
+	MaxHill    float64            `json:"max_hill,omitempty"`
+	Bootstrap  *BootstrapIn       `json:"bootstrap,omitempty"`
+}
+
+// plateSettings is what the worker needs besides the wells; stored as the
+// plate's settings.
+type plateSettings struct {
+	Fit PlateFitIn        `json:"fit"`
+	QC  *plate.Thresholds `json:"qc,omitempty"`
+}
+
+// locate makes field errors: a JSON Pointer for JSON bodies, a row for CSV.
+type locate func(i int, field string) FieldError
+
+func jsonLocate(i int, field string) FieldError {
+	if i < 0 {
+		return FieldError{Pointer: "/" + field}
+	}
+	return FieldError{Pointer: fmt.Sprintf("/wells/%d/%s", i, field)}
+}
+
+func wellError(loc locate, i int, field, format string, a ...any) error {
+	d := fmt.Sprintf(format, a...)
+	fe := loc(i, field)
+	fe.Detail = d
+	return &requestError{kind: errInvalid, detail: d, fields: []FieldError{fe}}
+}
+
+// validPlate is a checked plate, ready to store.
+type validPlate struct {
+	p     db.Plate
+	wells []db.WellRow
+}
+
+// validatePlate checks a plate in any of the three input forms.
+func (s *Server) validatePlate(req *PlateRequest, wells []ingest.WellIn, loc locate) (*validPlate, error) {
+	f, err := plate.ParseFormat(strconv.Itoa(req.Format))
+	if err != nil {
+		return nil, wellError(loc, -1, "format", "%v", err)
+	}
+	if b := strings.TrimSpace(req.Barcode); b == "" || len(b) > 100 {
+		return nil, wellError(loc, -1, "barcode", "barcode is required, at most 100 characters")
+	}
+	mode, err := plate.ParseMode(req.Mode)
+	if err != nil {
+		return nil, wellError(loc, -1, "mode", "%v", err)
+	}
+	unit, err := ingest.ParseUnit(req.ConcUnit)
+	if err != nil {
+		return nil, wellError(loc, -1, "conc_unit", "%v", err)
+	}
+	v := &validPlate{p: db.Plate{Barcode: strings.TrimSpace(req.Barcode), Format: f.Wells, ConcUnit: req.ConcUnit, Mode: string(mode),
+		AssayID: req.AssayID, Status: db.PlateQueued}}
+	if v.p.ConcUnit == "" {
+		v.p.ConcUnit = "M"
+	}
+	if req.MeasuredAt != "" {
+		t, err := time.Parse(time.RFC3339Nano, req.MeasuredAt)
+		if err != nil {
+			return nil, wellError(loc, -1, "measured_at", "%q is not an RFC 3339 time", req.MeasuredAt)
+		}
+		t = t.UTC()
+		v.p.MeasuredAt = &t
+	}
+	if len(wells) == 0 {
+		return nil, wellError(loc, -1, "wells", "a plate needs wells")
+	}
+	if len(wells) > f.Wells {
+		return nil, wellError(loc, -1, "wells", "%d wells on a %d-well plate", len(wells), f.Wells)
+	}
+	seen := map[string]int{}
+	var nMax, nMin int
+	var pw []plate.PlateWell
+	for i, w := range wells {
+		pos, err := f.ParseWell(w.Well)
+		if err != nil {
+			return nil, wellError(loc, i, "well", "%v", err)
+		}
+		name := f.Name(pos)
+		if j, dup := seen[name]; dup {
+			return nil, wellError(loc, i, "well", "well %s appears twice (also entry %d)", name, j)
+		}
+		seen[name] = i
+		role, err := plate.ParseRole(w.Role)
+		if err != nil {
+			return nil, wellError(loc, i, "role", "%v", err)
+		}
+		needsValue := role != plate.Empty && role != plate.Excluded
+		if needsValue && !w.HasValue {
+			return nil, wellError(loc, i, "value", "well %s (%s) needs a value", name, role)
+		}
+		if (role == plate.Sample || role == plate.Reference) && w.CompoundID == "" {
+			return nil, wellError(loc, i, "compound_id", "well %s: a %s well needs a compound_id", name, role)
+		}
+		if w.Conc < 0 || w.AntagonistConc < 0 {
+			return nil, wellError(loc, i, "conc", "well %s: concentrations must be ≥ 0", name)
+		}
+		if w.AntagonistID == "" && w.AntagonistConc != 0 {
+			return nil, wellError(loc, i, "antagonist_id", "well %s: antagonist_conc without antagonist_id", name)
+		}
+		switch role {
+		case plate.MaxControl:
+			nMax++
+		case plate.MinControl:
+			nMin++
+		}
+		row := db.WellRow{Well: name, Row: pos.Row, Col: pos.Col, Role: string(role), CompoundID: w.CompoundID,
+			Conc: unit.ToMolar(w.Conc), AntagonistID: w.AntagonistID, AntagonistConc: unit.ToMolar(w.AntagonistConc)}
+		if w.HasValue {
+			val := w.Value
+			row.Value = &val
+		}
+		v.wells = append(v.wells, row)
+		if needsValue {
+			pw = append(pw, plate.PlateWell{Well: pos, Role: role, CompoundID: w.CompoundID, Conc: row.Conc, Value: w.Value,
+				AntagonistID: w.AntagonistID, AntagonistConc: row.AntagonistConc})
+		}
+	}
+	if nMax < 2 || nMin < 2 {
+		return nil, wellError(loc, -1, "wells", "QC and normalisation need at least 2 max_control and 2 min_control wells (have %d and %d)", nMax, nMin)
+	}
+	// Fit settings, checked by the engine itself.
+	set := plateSettings{QC: req.QC}
+	if req.Fit != nil {
+		set.Fit = *req.Fit
+	}
+	fs := fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill}
+	probe, err := fit.Fit(fit.Curve{}, &fs)
+	if err != nil {
+		return nil, prefixPointer(err, "/fit")
+	}
+	if b := set.Fit.Bootstrap; b != nil {
+		if err := fit.Bootstrap(probe, &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval)}); err != nil {
+			return nil, prefixPointer(err, "/fit")
+		}
+		if b.Seed == nil {
+			var buf [8]byte
+			randomBytes(buf[:])
+			seed := binary.LittleEndian.Uint64(buf[:]) >> 11
+			b.Seed = &seed
+		}
+	}
+	v.p.Settings, _ = json.Marshal(set)
+	v.p.CurvesTotal = len(plate.Curves(pw, mode, 1, 0))
+	return v, nil
+}
+
+// prefixPointer puts a fit settings error under a prefix (e.g. /fit).
+func prefixPointer(err error, prefix string) error {
+	fields := fieldsOf(err)
+	for i := range fields {
+		fields[i].Pointer = prefix + fields[i].Pointer
+	}
+	return &requestError{kind: errInvalid, detail: err.Error(), fields: fields}
+}
+
+// createPlate is POST /v1/plates: JSON, long CSV (text/csv), or a reader
+// grid (text/csv with ?layout_id=). It stores the plate, its wells and its
+// fit job in one transaction and answers 202 {plate_id, job_id}, or with
+// ?wait=30s the finished plate.
+func (s *Server) createPlate(c *gin.Context) {
+	body, err := readBody(c)
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	mt, _, _ := mime.ParseMediaType(c.GetHeader("Content-Type"))
+	var req PlateRequest
+	var wells []ingest.WellIn
+	loc := locate(jsonLocate)
+	switch {
+	case mt == "text/csv" || mt == "application/csv":
+		q := c.Request.URL.Query()
+		req.AssayID, req.Barcode, req.MeasuredAt, req.ConcUnit, req.Mode =
+			q.Get("assay_id"), q.Get("barcode"), q.Get("measured_at"), q.Get("conc_unit"), q.Get("mode")
+		if req.Format, err = strconv.Atoi(q.Get("format")); err != nil {
+			s.writeProblem(c, badParameter("format", "format (96, 384 or 1536) is required as a query parameter"))
+			return
+		}
+		req.Fit, err = fitFromQuery(q.Get)
+		if err != nil {
+			s.writeProblem(c, err)
+			return
+		}
+		if id := q.Get("layout_id"); id != "" {
+			wells, err = s.gridWells(c, id, req.Format, body)
+			loc = func(i int, field string) FieldError { return FieldError{Parameter: field} }
+		} else {
+			wells, err = ingest.ReadPlateCSV(bytes.NewReader(body))
+			loc = func(i int, field string) FieldError {
+				if i < 0 {
+					return FieldError{Parameter: field}
+				}
+				return FieldError{Row: wells[i].Line, Detail: field}
+			}
+		}
+		if err != nil {
+			s.writeProblem(c, err)
+			return
+		}
+	case mt == "" || mt == "application/json":
+		if err := decodeJSON(body, &req); err != nil {
+			s.writeProblem(c, err)
+			return
+		}
+		for _, w := range req.Wells {
+			in := ingest.WellIn{Well: w.Well, Role: w.Role, CompoundID: w.CompoundID, AntagonistID: w.AntagonistID}
+			if w.Conc != nil {
+				in.Conc = *w.Conc
+			}
+			if w.Value != nil {
+				in.Value, in.HasValue = *w.Value, true
+			}
+			if w.AntagonistConc != nil {
+				in.AntagonistConc = *w.AntagonistConc
+			}
+			wells = append(wells, in)
+		}
+	default:
+		s.writeProblem(c, &requestError{kind: errUnsupportedType, detail: "Content-Type: want application/json or text/csv"})
+		return
+	}
+	v, err := s.validatePlate(&req, wells, loc)
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	ctx := c.Request.Context()
+	if req.AssayID != "" {
+		if _, err := s.store.Assay(ctx, req.AssayID); errors.Is(err, db.ErrNotFound) {
+			s.writeProblem(c, wellError(loc, -1, "assay_id", "no assay with id %q", req.AssayID))
+			return
+		}
+	}
+	now := s.now()
+	sum := sha256.Sum256(body)
+	v.p.ID, v.p.CreatedAt, v.p.SubmittedBy, v.p.InputSHA256 = s.newID(), now, actor(c), hex.EncodeToString(sum[:])
+	var jobID int64
+	write := func(w db.Writer) error {
+		if err := w.InsertPlate(ctx, &v.p, v.wells); err != nil {
+			return err
+		}
+		id, err := w.EnqueuePlateFit(ctx, v.p.ID)
+		if err != nil {
+			return err
+		}
+		jobID = id
+		if err := w.SetPlateJob(ctx, v.p.ID, id); err != nil {
+			return err
+		}
+		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: v.p.SubmittedBy, Action: "plate.create", Target: v.p.ID,
+			Detail: []byte(fmt.Sprintf(`{"barcode":%q,"wells":%d}`, v.p.Barcode, len(v.wells)))})
+	}
+	if wait := c.Query("wait"); wait != "" {
+		d, err := time.ParseDuration(wait)
+		if err != nil || d < 0 || d > 5*time.Minute {
+			s.writeProblem(c, badParameter("wait", "%q is not a duration up to 5m (e.g. 30s)", wait))
+			return
+		}
+		if err := s.store.Write(ctx, write); err != nil {
+			s.writeProblem(c, err)
+			return
+		}
+		s.waitForPlate(c, v.p.ID, d)
+		return
+	}
+	// The job ID is known only inside the transaction; build the body there.
+	var resp []byte
+	c.Header("Location", "/v1/plates/"+v.p.ID)
+	s.respondBuilt(c, http.StatusAccepted, "application/json", func() []byte {
+		resp, _ = json.Marshal(gin.H{"plate_id": v.p.ID, "job_id": jobID})
+		return resp
+	}, write)
+}
+
+// fitFromQuery reads the fit settings of a CSV upload.
+func fitFromQuery(get func(string) string) (*PlateFitIn, error) {
+	f := &PlateFitIn{Model: get("model")}
+	if r := get("resamples"); r != "" || get("seed") != "" || get("scheme") != "" || get("interval") != "" {
+		b := &BootstrapIn{Scheme: get("scheme"), Interval: get("interval")}
+		if r != "" {
+			n, err := strconv.Atoi(r)
+			if err != nil {
+				return nil, badParameter("resamples", "%q is not a whole number", r)
+			}
+			b.Resamples = n
+		}
+		if sd := get("seed"); sd != "" {
+			n, err := strconv.ParseUint(sd, 10, 64)
+			if err != nil {
+				return nil, badParameter("seed", "%q is not a whole number ≥ 0", sd)
+			}
+			b.Seed = &n
+		}
+		f.Bootstrap = b
+	}
+	return f, nil
+}
+
+// gridWells combines a reader grid with a saved layout.
+func (s *Server) gridWells(c *gin.Context, layoutID string, format int, body []byte) ([]ingest.WellIn, error) {
+	l, err := s.store.Layout(c.Request.Context(), layoutID)
+	if errors.Is(err, db.ErrNotFound) {
+		return nil, badParameter("layout_id", "no layout with id %q", layoutID)
+	}
+	if err != nil {
+		return nil, err
+	}
+	if l.Format != format {
+		return nil, badParameter("format", "layout %s is for %d-well plates, not %d", layoutID, l.Format, format)
+	}
+	f, _ := plate.ParseFormat(strconv.Itoa(format))
+	grid, err := ingest.ReadGrid(bytes.NewReader(body), f)
+	if err != nil {
+		return nil, err
+	}
+	var lw []WellJSON
+	if err := json.Unmarshal(l.Wells, &lw); err != nil {
+		return nil, fmt.Errorf("stored layout %s: %w", layoutID, err)
+	}
+	var out []ingest.WellIn
+	for _, w := range lw {
+		pos, _ := f.ParseWell(w.Well)
+		in := ingest.WellIn{Well: w.Well, Role: w.Role, CompoundID: w.CompoundID, AntagonistID: w.AntagonistID}
+		if w.Conc != nil {
+			in.Conc = *w.Conc
+		}
+		if w.AntagonistConc != nil {
+			in.AntagonistConc = *w.AntagonistConc
+		}
+		in.Value, in.HasValue = grid[f.Name(pos)]
+		out = append(out, in)
+	}
+	return out, nil
+}
+
+// LayoutRequest is the body of POST /v1/layouts.
+type LayoutRequest struct {
+	ID       string     `json:"id"`
+	Name     string     `json:"name"`
+	Format   int        `json:"format"`
+	ConcUnit string     `json:"conc_unit,omitempty"`
+	Wells    []WellJSON `json:"wells"`
+}
+
+// createLayout is POST /v1/layouts: a plate map (wells → role, compound,
+// concentration) reused by reader-grid uploads.
+func (s *Server) createLayout(c *gin.Context) {
+	body, err := readBody(c)
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	var req LayoutRequest
+	if err := decodeJSON(body, &req); err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	if !idPattern.MatchString(req.ID) {
+		s.writeProblem(c, invalidField("/id", "id %q must be 1–100 letters, digits or ._:-", req.ID))
+		return
+	}
+	f, err := plate.ParseFormat(strconv.Itoa(req.Format))
+	if err != nil {
+		s.writeProblem(c, invalidField("/format", "%v", err))
+		return
+	}
+	unit, err := ingest.ParseUnit(req.ConcUnit)
+	if err != nil {
+		s.writeProblem(c, invalidField("/conc_unit", "%v", err))
+		return
+	}
+	seen := map[string]bool{}
+	for i, w := range req.Wells {
+		pos, err := f.ParseWell(w.Well)
+		if err != nil {
+			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/well", i), "%v", err))
+			return
+		}
+		if seen[f.Name(pos)] {
+			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/well", i), "well %s appears twice", f.Name(pos)))
+			return
+		}
+		seen[f.Name(pos)] = true
+		if _, err := plate.ParseRole(w.Role); err != nil {
+			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/role", i), "%v", err))
+			return
+		}
+		if w.Value != nil {
+			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/value", i), "a layout holds no values; they come from the grid"))
+			return
+		}
+		// Stored in molar, so that plates using the layout need no unit.
+		req.Wells[i].Well = f.Name(pos)
+		for _, cp := range []*float64{w.Conc, w.AntagonistConc} {
+			if cp != nil {
+				if *cp < 0 || math.IsNaN(*cp) {
+					s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/conc", i), "concentrations must be ≥ 0"))
+					return
+				}
+				*cp = unit.ToMolar(*cp)
+			}
+		}
+	}
+	wellsJSON, _ := json.Marshal(req.Wells)
+	now := s.now()
+	out, _ := json.Marshal(gin.H{"id": req.ID, "name": req.Name, "format": f.Wells, "wells": len(req.Wells), "conc_unit": "M"})
+	ctx := c.Request.Context()
+	c.Header("Location", "/v1/layouts/"+req.ID)
+	s.respond(c, http.StatusCreated, "application/json", out, func(w db.Writer) error {
+		return w.InsertLayout(ctx, &db.Layout{ID: req.ID, Name: req.Name, Format: f.Wells, Wells: wellsJSON, CreatedAt: now, CreatedBy: actor(c)})
+	})
+}
+
+// PlateView is GET /v1/plates/{id}.
+type PlateView struct {
+	PlateID    string            `json:"plate_id"`
+	Barcode    string            `json:"barcode"`
+	Format     int               `json:"format"`
+	AssayID    string            `json:"assay_id,omitempty"`
+	MeasuredAt string            `json:"measured_at,omitempty"`
+	Mode       string            `json:"mode"`
+	Status     string            `json:"status"`
+	JobID      int64             `json:"job_id"`
+	Progress   Progress          `json:"progress"`
+	QC         json.RawMessage   `json:"qc"`
+	Curves     []json.RawMessage `json:"curves"`
+	Error      string            `json:"error,omitempty"`
+	Caution    string            `json:"caution"`
+}
+
+// Progress counts fitted curves.
+type Progress struct {
+	Done  int `json:"done"`
+	Total int `json:"total"`
+}
+
+func (s *Server) plateView(c *gin.Context, id string) (*PlateView, error) {
+	ctx := c.Request.Context()
+	p, err := s.store.Plate(ctx, id)
+	if err != nil {
+		return nil, err
+	}
+	v := &PlateView{PlateID: p.ID, Barcode: p.Barcode, Format: p.Format, AssayID: p.AssayID, Mode: p.Mode, Status: p.Status,
+		JobID: p.JobID, Progress: Progress{p.CurvesDone, p.CurvesTotal}, QC: p.QC, Error: p.Error, Caution: wire.Caution,
+		Curves: []json.RawMessage{}}
+	if p.MeasuredAt != nil {
+		v.MeasuredAt = p.MeasuredAt.Format(time.RFC3339)
+	}
+	if v.QC == nil {
+		v.QC = json.RawMessage("null")
+	}
+	if p.Status == db.PlateDone {
+		cs, err := s.store.PlateCurves(ctx, id)
+		if err != nil {
+			return nil, err
+		}
+		for _, cv := range cs {
+			v.Curves = append(v.Curves, cv.Result)
+		}
+	}
+	return v, nil
+}
+
+func (s *Server) getPlate(c *gin.Context) {
+	v, err := s.plateView(c, c.Param("id"))
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	c.JSON(http.StatusOK, v)
+}
+
+// waitForPlate polls until the plate is done or failed, or d passes; then
+// answers 200 with the plate, or 202 with where to look.
+func (s *Server) waitForPlate(c *gin.Context, id string, d time.Duration) {
+	deadline := time.Now().Add(d)
+	for {
+		p, err := s.store.Plate(c.Request.Context(), id)
+		if err != nil {
+			s.writeProblem(c, err)
+			return
+		}
+		if p.Status == db.PlateDone || p.Status == db.PlateFailed {
+			s.getPlateByID(c, id)
+			return
+		}
+		if time.Now().After(deadline) || c.Request.Context().Err() != nil {
+			c.Header("Location", "/v1/plates/"+id)
+			c.JSON(http.StatusAccepted, gin.H{"plate_id": id, "job_id": p.JobID})
+			return
+		}
+		time.Sleep(25 * time.Millisecond)
+	}
+}
+
+func (s *Server) getPlateByID(c *gin.Context, id string) {
+	v, err := s.plateView(c, id)
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	c.JSON(http.StatusOK, v)
+}
+
+// JobView is GET /v1/jobs/{id}.
+type JobView struct {
+	ID       int64    `json:"id"`
+	PlateID  string   `json:"plate_id"`
+	Status   string   `json:"status"` // queued, running, done, failed
+	Attempt  int      `json:"attempt"`
+	Progress Progress `json:"progress"`
+	Error    string   `json:"error,omitempty"`
+}
+
+func (s *Server) getJob(c *gin.Context) {
+	id, err := strconv.ParseInt(c.Param("id"), 10, 64)
+	if err != nil {
+		s.writeProblem(c, &requestError{kind: db.ErrNotFound, detail: "no job " + c.Param("id")})
+		return
+	}
+	ctx := c.Request.Context()
+	j, err := s.store.Job(ctx, id)
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	p, err := s.store.PlateByJob(ctx, id)
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	v := JobView{ID: id, PlateID: p.ID, Attempt: j.Attempt, Progress: Progress{p.CurvesDone, p.CurvesTotal}}
+	switch j.State {
+	case "completed":
+		v.Status = "done"
+	case "running":
+		v.Status = "running"
+	case "discarded", "cancelled":
+		v.Status = "failed"
+	default: // available, scheduled, retryable, pending
+		v.Status = "queued"
+		if p.Status == db.PlateRunning {
+			v.Status = "running"
+		}
+	}
+	switch p.Status {
+	case db.PlateFailed:
+		v.Status = "failed"
+	case db.PlateDone:
+		v.Status = "done" // stored before River marks the job complete
+	}
+	if v.Status == "failed" || j.State == "retryable" {
+		if len(j.Errors) > 0 {
+			v.Error = j.Errors[len(j.Errors)-1]
+		}
+		if p.Error != "" {
+			v.Error = p.Error
+		}
+	}
+	c.JSON(http.StatusOK, v)
+}

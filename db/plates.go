@@ -2,8 +2,6 @@ package db
 
 import (
 	"context"
-	"strconv"
-	"strings"
 	"time"
 )
 
@@ -87,33 +85,27 @@ func (w *sqlWriter) InsertPlate(ctx context.Context, p *Plate, wells []WellRow) 
 	if cw, ok := w.q.(copier); ok {
 		return w.e.translate(cw.copyWells(ctx, p.ID, wells))
 	}
-	// Multi-row INSERTs, 500 wells each (SQLite binds at most 32766
-	// parameters).
-	const per = 500
-	for lo := 0; lo < len(wells); lo += per {
-		hi := min(lo+per, len(wells))
-		var b strings.Builder
-		b.WriteString("INSERT INTO wells (plate_id, well, row_index, col_index, role, compound_id, conc, value, antagonist_id, antagonist_conc) VALUES ")
-		args := make([]any, 0, 10*(hi-lo))
-		for i, wr := range wells[lo:hi] {
-			if i > 0 {
-				b.WriteString(", ")
-			}
-			b.WriteByte('(')
-			for k := 1; k <= 10; k++ {
-				if k > 1 {
-					b.WriteString(", ")
-				}
-				b.WriteString("$" + strconv.Itoa(10*i+k))
-			}
-			b.WriteByte(')')
-			args = append(args, p.ID, wr.Well, wr.Row, wr.Col, wr.Role, wr.CompoundID, wr.Conc, wr.Value, wr.AntagonistID, wr.AntagonistConc)
-		}
-		if err := w.q.exec(ctx, b.String(), args...); err != nil {
+	rows := make([][]any, len(wells))
+	for i, wr := range wells {
+		rows[i] = []any{p.ID, wr.Well, wr.Row, wr.Col, wr.Role, wr.CompoundID, wr.Conc, wr.Value, wr.AntagonistID, wr.AntagonistConc}
+	}
+	const q = "INSERT INTO wells (plate_id, well, row_index, col_index, role, compound_id, conc, value, antagonist_id, antagonist_conc) " +
+		"VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)"
+	if m, ok := w.q.(manyExecer); ok {
+		return w.e.translate(m.execMany(ctx, q, rows))
+	}
+	for _, r := range rows {
+		if err := w.q.exec(ctx, q, r...); err != nil {
 			return w.e.translate(err)
 		}
 	}
 	return nil
+}
+
+// manyExecer runs one prepared statement for many rows (SQLite: parsing
+// one huge multi-row INSERT costs more than the inserts).
+type manyExecer interface {
+	execMany(ctx context.Context, q string, rows [][]any) error
 }
 
 // copier is a querier that can bulk-load wells (PostgreSQL COPY).

@@ -137,6 +137,20 @@ func (t sqlTx) query(ctx context.Context, q string, args ...any) (rowsScanner, e
 	return sqlRows{rows}, nil
 }
 
+func (t sqlTx) execMany(ctx context.Context, q string, rows [][]any) error {
+	st, err := t.tx.PrepareContext(ctx, q)
+	if err != nil {
+		return err
+	}
+	defer st.Close()
+	for _, r := range rows {
+		if _, err := st.ExecContext(ctx, r...); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
 type sqlRows struct{ *sql.Rows }
 
 func (r sqlRows) Close() { r.Rows.Close() }

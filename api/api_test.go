@@ -25,14 +25,14 @@ import (
 func init() { gin.SetMode(gin.TestMode) }
 
 type testServer struct {
-	t      *testing.T
+	t      testing.TB
 	srv    *Server
 	store  db.Store
 	reg    *prometheus.Registry
 	tokens map[string]string // scope → secret
 }
 
-func newTestServer(t *testing.T, store db.Store) *testServer {
+func newTestServer(t testing.TB, store db.Store) *testServer {
 	t.Helper()
 	reg := prometheus.NewRegistry()
 	srv, err := New(Config{BodyLimit: 1 << 20}, Deps{Store: store, Registry: reg})

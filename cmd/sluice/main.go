@@ -15,6 +15,8 @@ const usage = `sluice — concentration–response fitting for ligand-gated ion 
 Usage:
   sluice fit FILE|- [flags]        fit curves from a CSV file (conc,response[,weight][,curve])
   sluice serve [flags]             run the HTTP API (SLUICE_* environment variables, see README)
+  sluice submit --server URL --token T [--wait] FILE…
+                                   post plate files (JSON, long CSV, or grids with --layout)
   sluice migrate                   apply the database migrations
   sluice token create --scope S --name N
                                    print a new API token (read, submit or admin)
@@ -42,6 +44,8 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return runFit(args[1:], stdin, stdout, stderr)
 	case "serve":
 		return runServe(args[1:], os.Getenv, stderr)
+	case "submit":
+		return runSubmit(args[1:], os.Getenv, stdout, stderr)
 	case "migrate":
 		return runMigrate(args[1:], os.Getenv, stdout, stderr)
 	case "token":

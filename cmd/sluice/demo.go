@@ -12,19 +12,23 @@ import (
 	"net/http"
 	"net/http/httptest"
 	"strings"
+	"time"
 
 	"github.com/prometheus/client_golang/prometheus"
 
 	"sluice/api"
 	"sluice/db"
 	"sluice/fit"
+	"sluice/fit/plate"
 )
 
 // The demo scenario is invented from start to finish: Larkspur
 // Neuropharmacology, a fictional lab, characterises agonists at LGX-7, an
 // invented cation-selective ligand-gated channel, with a membrane-potential
 // dye assay. A reference agonist runs every week for six weeks beside
-// candidate compounds. No real compound, receptor or dataset is depicted.
+// candidate compounds, and four 384-well screening plates follow (three
+// agonist screens, one of which fails QC, and one antagonist plate). No real
+// compound, receptor or dataset is depicted.
 
 const demoAssay = "lgx7-vm-dye"
 
@@ -105,7 +109,76 @@ func loadDemo(ctx context.Context, store db.Store) (int, error) {
 			n++
 		}
 	}
+	// Four 384-well plates, one a week: three agonist screens (the third
+	// with a failing max control) and one antagonist plate (percent
+	// inhibition of an EC80 of LX-REF). Fitted in process, in order.
+	for week := 1; week <= 4; week++ {
+		mode := "agonist"
+		if week == 4 {
+			mode = "antagonist"
+		}
+		req := demoPlate(rng, week, mode, week == 3)
+		b, _ := json.Marshal(req)
+		r := httptest.NewRequestWithContext(ctx, http.MethodPost, "/v1/plates", strings.NewReader(string(b)))
+		r.Header.Set("Content-Type", "application/json")
+		w := httptest.NewRecorder()
+		srv.Handler().ServeHTTP(w, r)
+		if w.Code != http.StatusAccepted {
+			return n, fmt.Errorf("demo: POST /v1/plates: %d %s", w.Code, w.Body)
+		}
+		var acc struct {
+			PlateID string `json:"plate_id"`
+		}
+		json.Unmarshal(w.Body.Bytes(), &acc)
+		if err := srv.FitPlate(ctx, acc.PlateID); err != nil {
+			return n, err
+		}
+	}
 	return n, nil
+}
+
+// demoPlate is an invented 384-well plate: max controls in columns 1–2, min
+// in 23–24, 16 invented compounds (one per row) at 10 concentrations in
+// duplicate. In antagonist mode the samples inhibit a fixed agonist
+// stimulus; noisyMax makes the max controls scatter so that QC fails.
+func demoPlate(rng *rand.Rand, week int, mode string, noisyMax bool) api.PlateRequest {
+	const lo, hi = 300.0, 2400.0
+	f := plate.Plate384
+	num := func(v float64) *float64 { return &v }
+	req := api.PlateRequest{AssayID: demoAssay, Barcode: fmt.Sprintf("LK-384-%02d", week), Format: 384, Mode: mode,
+		MeasuredAt: time.Date(2026, 10, 5+7*week, 9, 0, 0, 0, time.UTC).Format(time.RFC3339), ConcUnit: "nM",
+		Fit: &api.PlateFitIn{Bootstrap: &api.BootstrapIn{Resamples: 200, Seed: func() *uint64 { s := uint64(week); return &s }()}}}
+	maxSD := 50.0
+	if noisyMax {
+		maxSD = 450
+	}
+	for r := 0; r < 16; r++ {
+		prefix := "LX"
+		if mode == "antagonist" {
+			prefix = "LA"
+		}
+		cpd := fmt.Sprintf("%s-%d%02d", prefix, 3, r)
+		logEC := -8.6 + 3*float64(r)/15 + 0.05*rng.NormFloat64()
+		h := 0.8 + 0.12*float64(r%5)
+		for c := 0; c < 24; c++ {
+			w := api.WellJSON{Well: f.Name(plate.Well{Row: r, Col: c})}
+			switch {
+			case c < 2:
+				w.Role, w.Value = "max_control", num(hi+maxSD*rng.NormFloat64())
+			case c >= 22:
+				w.Role, w.Value = "min_control", num(lo+40*rng.NormFloat64())
+			default:
+				concNM := 0.1 * math.Pow(10, 0.5*float64((c-2)/2))
+				frac := fit.Hill.Value([]float64{0, 1, logEC, h}, concNM*1e-9)
+				if mode == "antagonist" {
+					frac = 1 - frac
+				}
+				w.Role, w.CompoundID, w.Conc, w.Value = "sample", cpd, num(concNM), num(lo+(hi-lo)*frac+40*rng.NormFloat64())
+			}
+			req.Wells = append(req.Wells, w)
+		}
+	}
+	return req
 }
 
 // runDemo is `sluice demo`: load the scenario into the configured store.
@@ -132,6 +205,6 @@ func runDemo(args []string, getenv func(string) string, stdout, stderr io.Writer
 		fmt.Fprintln(stdout, "sluice demo: the store already holds the demo scenario")
 		return 0
 	}
-	fmt.Fprintf(stdout, "sluice demo: loaded the invented LGX-7 scenario: %d fits of %d compounds over six weeks\n", n, len(demoCompounds))
+	fmt.Fprintf(stdout, "sluice demo: loaded the invented LGX-7 scenario: %d fits of %d compounds over six weeks and four 384-well plates (one fails QC)\n", n, len(demoCompounds))
 	return 0
 }

@@ -68,8 +68,49 @@ func fitDesign(id string, set *resolved, d *design) *Result {
 		}
 	}
 	r.Iterations = iters
+	if set.model == Hill && !set.fixed[iBottom] && !set.fixed[iTop] {
+		canonicalHill(&best)
+	}
 	r.fill(&best)
 	return r
+}
+
+// canonicalHill resolves the Hill equation's one symmetry: (bottom, top,
+// hill) and (top, bottom, −hill) describe the same curve. Sluice reports
+// bottom as the lower plateau and lets the sign of hill give the direction,
+// so a solution with top < bottom is mapped to its twin, covariance
+// included (the map is linear: a permutation and a sign).
+func canonicalHill(r *lm.Result) {
+	x := r.X
+	if !(x[iTop] < x[iBottom]) {
+		return
+	}
+	x[iBottom], x[iTop], x[iHill] = x[iTop], x[iBottom], -x[iHill]
+	r.AtBound[iBottom], r.AtBound[iTop] = r.AtBound[iTop], r.AtBound[iBottom]
+	np := len(x)
+	perm := func(j int) int {
+		switch j {
+		case iBottom:
+			return iTop
+		case iTop:
+			return iBottom
+		}
+		return j
+	}
+	sign := func(j int) float64 {
+		if j == iHill {
+			return -1
+		}
+		return 1
+	}
+	for _, m := range [][]float64{r.Unscaled, r.Cov} {
+		old := append([]float64(nil), m...)
+		for i := 0; i < np; i++ {
+			for j := 0; j < np; j++ {
+				m[i*np+j] = sign(i) * sign(j) * old[perm(i)*np+perm(j)]
+			}
+		}
+	}
 }
 
 func copyLMResult(dst, src *lm.Result) {

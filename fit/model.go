@@ -61,6 +61,12 @@ func (m Model) Value(theta []float64, conc float64) float64 {
 	return m.curve().value(theta, log10Conc(conc), nil)
 }
 
+// ValueGrad returns the response at conc (molar) and writes its gradient
+// with respect to theta into grad (len(Params)).
+func (m Model) ValueGrad(theta []float64, conc float64, grad []float64) float64 {
+	return m.curve().value(theta, log10Conc(conc), grad)
+}
+
 func (m Model) curve() curveModel {
 	switch m {
 	case Hill, "":

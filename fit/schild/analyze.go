@@ -97,9 +97,9 @@ type Result struct {
 	Competitive bool
 	Flags       []string
 	// Withheld says why pA2 and pKB are not reported ("" when they are).
-	Withheld    string
+	Withheld     string
 	ChengPrusoff *CPEstimate
-	Confidence  float64
+	Confidence   float64
 }
 
 // Analyze runs the whole analysis: individual fits, dose ratios, Schild

@@ -41,6 +41,7 @@ type globalModel struct {
 	levels []level
 	y      []float64 // level means (the resample's, when bootstrapping)
 	g      [4]float64
+	theta  [4]float64 // kept here so that no call allocates
 }
 
 // Eval writes residuals ȳ − f and their Jacobian (column-major). With
@@ -63,12 +64,12 @@ func (m *globalModel) Eval(p, r, jac []float64) {
 			}
 			dPK, dS = q*p[gSlope], q*(lv.lb+p[gPK])
 		}
-		theta := [4]float64{p[gBottom], p[gTop], L, p[gHill]}
+		m.theta = [4]float64{p[gBottom], p[gTop], L, p[gHill]}
 		var f float64
 		if jac == nil {
-			f = fit.Hill.Value(theta[:], lv.conc)
+			f = fit.Hill.Value(m.theta[:], lv.conc)
 		} else {
-			f = fit.Hill.ValueGrad(theta[:], lv.conc, m.g[:])
+			f = fit.Hill.ValueGrad(m.theta[:], lv.conc, m.g[:])
 			dL := m.g[2]
 			jac[gBottom*nl+i] = -m.g[0]
 			jac[gTop*nl+i] = -m.g[1]

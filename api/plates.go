@@ -480,6 +480,7 @@ type PlateView struct {
 	Progress   Progress          `json:"progress"`
 	QC         json.RawMessage   `json:"qc"`
 	Curves     []json.RawMessage `json:"curves"`
+	Schild     []json.RawMessage `json:"schild,omitempty"`
 	Error      string            `json:"error,omitempty"`
 	Caution    string            `json:"caution"`
 }
@@ -512,6 +513,13 @@ func (s *Server) plateView(c *gin.Context, id string) (*PlateView, error) {
 		}
 		for _, cv := range cs {
 			v.Curves = append(v.Curves, cv.Result)
+		}
+		runs, err := s.store.PlateSchildRuns(ctx, id)
+		if err != nil {
+			return nil, err
+		}
+		for _, r := range runs {
+			v.Schild = append(v.Schild, r.Result)
 		}
 	}
 	return v, nil

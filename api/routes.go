@@ -40,6 +40,8 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/plates/:id/curves.csv", s.plateCurvesCSV)
 	read.GET("/plates/:id/heatmap.svg", s.plateHeatmap)
 	read.GET("/jobs/:id", s.getJob)
+	read.GET("/schild/:id", s.getSchild)
+	read.GET("/schild/:id/plot.svg", s.schildPlot)
 
 	submit := r.Group("/v1", s.authenticate(ScopeSubmit), s.idempotency)
 	submit.POST("/fits", s.createFit)
@@ -47,6 +49,7 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	submit.POST("/compounds", s.createCompound)
 	submit.POST("/layouts", s.createLayout)
 	submit.POST("/plates", s.createPlate)
+	submit.POST("/schild", s.createSchild)
 
 	// Calculators: no record is stored, so scope read suffices.
 	calc := r.Group("/v1", s.authenticate(ScopeRead), s.idempotency)

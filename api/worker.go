@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"sort"
 	"strconv"
 	"sync"
 	"time"
@@ -13,6 +14,7 @@ import (
 	"sluice/db"
 	"sluice/fit"
 	"sluice/fit/plate"
+	"sluice/fit/schild"
 )
 
 // PlateCurve is one curve of a plate on the wire: the result object with
@@ -117,13 +119,85 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 			out[i].LogEC50 = &l
 		}
 	}
+	runs := s.plateSchild(p, specs, set, bs)
 	s.metrics.plateDuration.Observe(time.Since(start).Seconds())
 	if err := ctx.Err(); err != nil {
 		return err
 	}
 	return s.store.Write(ctx, func(w db.Writer) error {
-		return w.FinishPlate(ctx, plateID, db.PlateDone, qcJSON, out, "")
+		if err := w.FinishPlate(ctx, plateID, db.PlateDone, qcJSON, out, ""); err != nil {
+			return err
+		}
+		for _, r := range runs {
+			// A retried job finds them stored: keep the first.
+			if err := w.InsertSchildRun(ctx, r); err != nil && !errors.Is(err, db.ErrExists) {
+				return err
+			}
+		}
+		return nil
 	})
+}
+
+// plateSchild runs a Schild analysis for every agonist/antagonist pair on
+// the plate: the agonist's curves at each antagonist concentration, with
+// its curve without antagonist (or at antagonist concentration 0) as the
+// control. IDs are derived from the plate, so a retried job makes the same.
+func (s *Server) plateSchild(p *db.Plate, specs []plate.CurveSpec, set plateSettings, bs *fit.BootSettings) []*db.SchildRun {
+	type pair struct{ agonist, antagonist string }
+	groups := map[pair][]schild.Curve{}
+	controls := map[string]fit.Curve{}
+	for _, cs := range specs {
+		if cs.AntagonistID == "" {
+			controls[cs.CompoundID] = cs.Curve
+			continue
+		}
+		k := pair{cs.CompoundID, cs.AntagonistID}
+		groups[k] = append(groups[k], schild.Curve{AntagonistConc: cs.AntagonistConc, Points: cs.Curve.Points})
+	}
+	var keys []pair
+	for k := range groups {
+		keys = append(keys, k)
+	}
+	sort.Slice(keys, func(a, b int) bool {
+		return keys[a].agonist+"\x00"+keys[a].antagonist < keys[b].agonist+"\x00"+keys[b].antagonist
+	})
+	var runs []*db.SchildRun
+	for _, k := range keys {
+		curves := groups[k]
+		hasControl := false
+		for _, c := range curves {
+			hasControl = hasControl || c.AntagonistConc == 0
+		}
+		if !hasControl {
+			ctl, ok := controls[k.agonist]
+			if !ok {
+				continue
+			}
+			curves = append([]schild.Curve{{AntagonistConc: 0, Points: ctl.Points}}, curves...)
+		}
+		sset := &schild.Settings{Confidence: set.Fit.Confidence, Workers: s.cfg.FitWorkers}
+		if bs != nil {
+			sset.Resamples, sset.Seed = bs.Resamples, bs.Seed
+			if sset.Resamples == 0 {
+				sset.Resamples = fit.DefaultResamples
+			}
+		}
+		res, err := schild.Analyze(curves, sset)
+		if err != nil {
+			s.log.Warn("plate schild", "plate", p.ID, "agonist", k.agonist, "antagonist", k.antagonist, "err", err)
+			continue
+		}
+		out := schildResponse(res, curves, sset.Seed)
+		out.ID = p.ID + ":" + k.agonist + ":" + k.antagonist
+		out.PlateID, out.AgonistID, out.AntagonistID = p.ID, k.agonist, k.antagonist
+		out.CreatedAt = s.now().Format(time.RFC3339Nano)
+		b, _ := json.Marshal(out)
+		in, _ := json.Marshal(map[string]any{"plate_id": p.ID, "agonist_id": k.agonist, "antagonist_id": k.antagonist})
+		runs = append(runs, &db.SchildRun{ID: out.ID, CreatedAt: s.now(), SubmittedBy: p.SubmittedBy, PlateID: p.ID,
+			AgonistID: k.agonist, AntagonistID: k.antagonist, EngineVersion: fit.EngineVersion, InputSHA256: p.InputSHA256,
+			Input: in, Result: b})
+	}
+	return runs
 }
 
 // failPlate marks a plate that cannot be fitted whatever the retries.

@@ -30,6 +30,8 @@ type Store interface {
 	// SetPlateProgress records a running job's progress (outside any
 	// transaction: it is advisory).
 	SetPlateProgress(ctx context.Context, plateID, status string, done, total int) error
+	SchildRun(ctx context.Context, id string) (*SchildRun, error)
+	PlateSchildRuns(ctx context.Context, plateID string) ([]SchildRun, error)
 	// Job returns a queued job's state.
 	Job(ctx context.Context, id int64) (*Job, error)
 	// StartWorkers starts workers goroutines that take plate jobs and run
@@ -67,4 +69,5 @@ type Writer interface {
 	// FinishPlate stores a plate's curves (keeping any stored by an
 	// earlier attempt) and its final status, QC and error.
 	FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error
+	InsertSchildRun(ctx context.Context, r *SchildRun) error
 }

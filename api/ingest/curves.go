@@ -10,6 +10,7 @@ import (
 	"strings"
 
 	"sluice/fit"
+	"sluice/fit/schild"
 )
 
 // ParseError is an error at a place in a CSV file, like encoding/csv's:
@@ -158,4 +159,61 @@ func csvError(err error) error {
 		return &ParseError{Line: pe.Line, Column: pe.Column, Err: pe.Err}
 	}
 	return err
+}
+
+// ReadSchildCSV reads a Schild dataset: columns antagonist_conc, conc and
+// response (any order; concentrations in unit), one curve per antagonist
+// concentration, in order of first appearance.
+func ReadSchildCSV(r io.Reader, unit Unit) ([]schild.Curve, error) {
+	cr := csv.NewReader(r)
+	cr.FieldsPerRecord = -1
+	cr.TrimLeadingSpace = true
+	recs, err := cr.ReadAll()
+	if err != nil {
+		return nil, csvError(err)
+	}
+	if len(recs) < 2 {
+		return nil, &ParseError{Line: 1, Err: ErrNoData}
+	}
+	col := map[string]int{}
+	for i, h := range recs[0] {
+		col[strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))] = i
+	}
+	for _, need := range []string{"antagonist_conc", "conc", "response"} {
+		if _, ok := col[need]; !ok {
+			return nil, &ParseError{Line: 1, Err: fmt.Errorf("%w %q", ErrMissingColumn, need)}
+		}
+	}
+	var curves []schild.Curve
+	index := map[float64]int{}
+	for k, rec := range recs[1:] {
+		line := k + 2
+		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
+			continue
+		}
+		vals := map[string]float64{}
+		for _, name := range []string{"antagonist_conc", "conc", "response"} {
+			i := col[name]
+			if i >= len(rec) {
+				return nil, &ParseError{Line: line, Column: i + 1, Name: name, Err: fmt.Errorf("%w: value is empty", ErrBadValue)}
+			}
+			v, err := strconv.ParseFloat(strings.TrimSpace(rec[i]), 64)
+			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, &ParseError{Line: line, Column: i + 1, Name: name, Err: fmt.Errorf("%w: %q", ErrNotNumber, rec[i])}
+			}
+			if name != "response" && v < 0 {
+				return nil, &ParseError{Line: line, Column: i + 1, Name: name, Err: fmt.Errorf("%w: %g is negative", ErrBadValue, v)}
+			}
+			vals[name] = v
+		}
+		b := unit.ToMolar(vals["antagonist_conc"])
+		j, ok := index[b]
+		if !ok {
+			j = len(curves)
+			index[b] = j
+			curves = append(curves, schild.Curve{AntagonistConc: b})
+		}
+		curves[j].Points = append(curves[j].Points, fit.Point{Conc: unit.ToMolar(vals["conc"]), Response: vals["response"]})
+	}
+	return curves, nil
 }

@@ -22,6 +22,7 @@ Usage:
                                    print a new API token (read, submit or admin)
   sluice demo                      load the invented demo scenario into the store
   sluice potential REQUEST.json|-  predict the membrane-potential shift of an agonist (offline)
+  sluice schild FILE|- [flags]     Schild analysis of shifted agonist curves (offline)
 
 Run "sluice COMMAND -h" for a command's flags.
 `
@@ -50,6 +51,8 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return runMigrate(args[1:], os.Getenv, stdout, stderr)
 	case "token":
 		return runToken(args[1:], os.Getenv, stdout, stderr)
+	case "schild":
+		return runSchild(args[1:], stdin, stdout, stderr)
 	case "potential":
 		return runPotential(args[1:], stdin, stdout, stderr)
 	case "demo":

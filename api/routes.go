@@ -54,6 +54,7 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	// Calculators: no record is stored, so scope read suffices.
 	calc := r.Group("/v1", s.authenticate(ScopeRead), s.idempotency)
 	calc.POST("/potential", s.postPotential)
+	calc.POST("/operational", s.postOperational)
 	return r
 }
 

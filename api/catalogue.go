@@ -30,6 +30,7 @@ const maxTextField = 500
 
 // readEntry decodes and checks a catalogue entry.
 func (s *Server) readEntry(c *gin.Context) (*CatalogueEntry, error) {
+	var e CatalogueEntry
 	if err := requireJSON(c); err != nil {
 		return nil, err
 	}
@@ -37,7 +38,6 @@ func (s *Server) readEntry(c *gin.Context) (*CatalogueEntry, error) {
 	if err != nil {
 		return nil, err
 	}
-	var e CatalogueEntry
 	if err := decodeJSON(body, &e); err != nil {
 		return nil, err
 	}

@@ -40,6 +40,26 @@ func requireJSON(c *gin.Context) error {
 	return nil
 }
 
+// readJSON reads a JSON request body into dst strictly and returns the raw
+// body; on any error it has already answered with a problem and returns
+// ok false.
+func (s *Server) readJSON(c *gin.Context, dst any) (body []byte, ok bool) {
+	if err := requireJSON(c); err != nil {
+		s.writeProblem(c, err)
+		return nil, false
+	}
+	body, err := readBody(c)
+	if err != nil {
+		s.writeProblem(c, err)
+		return nil, false
+	}
+	if err := decodeJSON(body, dst); err != nil {
+		s.writeProblem(c, err)
+		return nil, false
+	}
+	return body, true
+}
+
 // decodeJSON decodes body into dst strictly: unknown fields, trailing data
 // and wrong types are errors that point at the field (RFC 6901).
 func decodeJSON(body []byte, dst any) error {

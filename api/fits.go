@@ -135,18 +135,9 @@ func (s *Server) validateFit(req *FitRequest) (*fitInput, error) {
 
 // createFit is POST /v1/fits: fit one curve, and store it unless told not to.
 func (s *Server) createFit(c *gin.Context) {
-	if err := requireJSON(c); err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	body, err := readBody(c)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
 	var req FitRequest
-	if err := decodeJSON(body, &req); err != nil {
-		s.writeProblem(c, err)
+	body, ok := s.readJSON(c, &req)
+	if !ok {
 		return
 	}
 	in, err := s.validateFit(&req)

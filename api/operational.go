@@ -39,18 +39,8 @@ type OperationalResponse struct {
 // postOperational is POST /v1/operational: the operational model (Black &
 // Leff 1983) for a partial agonist, Em from the reference's fitted top.
 func (s *Server) postOperational(c *gin.Context) {
-	if err := requireJSON(c); err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	body, err := readBody(c)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
 	var req OperationalRequest
-	if err := decodeJSON(body, &req); err != nil {
-		s.writeProblem(c, err)
+	if _, ok := s.readJSON(c, &req); !ok {
 		return
 	}
 	unit, err := ingest.ParseUnit(req.ConcUnit)

@@ -401,14 +401,8 @@ type LayoutRequest struct {
 // createLayout is POST /v1/layouts: a plate map (wells → role, compound,
 // concentration) reused by reader-grid uploads.
 func (s *Server) createLayout(c *gin.Context) {
-	body, err := readBody(c)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
 	var req LayoutRequest
-	if err := decodeJSON(body, &req); err != nil {
-		s.writeProblem(c, err)
+	if _, ok := s.readJSON(c, &req); !ok {
 		return
 	}
 	if !idPattern.MatchString(req.ID) {

@@ -441,18 +441,8 @@ func (s *Server) redrawBootstrap(run *db.FitRun, res *wire.StoredFit) ([][]float
 // postPotential is POST /v1/potential; with ?format=svg or Accept:
 // image/svg+xml it answers with the plot of V and ΔV instead.
 func (s *Server) postPotential(c *gin.Context) {
-	if err := requireJSON(c); err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	body, err := readBody(c)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
 	var req PotentialRequest
-	if err := decodeJSON(body, &req); err != nil {
-		s.writeProblem(c, err)
+	if _, ok := s.readJSON(c, &req); !ok {
 		return
 	}
 	out, err := computePotential(&req, s.storedCurve(c))

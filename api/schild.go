@@ -176,18 +176,9 @@ func tMultiplier(dof int, confidence float64) float64 {
 
 // createSchild is POST /v1/schild.
 func (s *Server) createSchild(c *gin.Context) {
-	if err := requireJSON(c); err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	body, err := readBody(c)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
 	var req SchildRequest
-	if err := decodeJSON(body, &req); err != nil {
-		s.writeProblem(c, err)
+	body, ok := s.readJSON(c, &req)
+	if !ok {
 		return
 	}
 	curves, set, err := validateSchild(&req)

@@ -62,18 +62,9 @@ func ReadCurves(r io.Reader, unit Unit) ([]fit.Curve, error) {
 	if err != nil {
 		return nil, csvError(err)
 	}
-	col := map[string]int{}
-	for i, h := range header {
-		name := strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))
-		if _, dup := col[name]; dup && name != "" {
-			return nil, &ParseError{Line: 1, Column: i + 1, Name: name, Err: fmt.Errorf("%w: column %q appears twice", ErrBadValue, name)}
-		}
-		col[name] = i
-	}
-	for _, need := range []string{"conc", "response"} {
-		if _, ok := col[need]; !ok {
-			return nil, &ParseError{Line: 1, Err: fmt.Errorf("%w %q (the header has %q)", ErrMissingColumn, need, header)}
-		}
+	col, err := columns(header, "conc", "response")
+	if err != nil {
+		return nil, err
 	}
 	var curves []fit.Curve
 	index := map[string]int{}
@@ -152,6 +143,26 @@ func ReadCurves(r io.Reader, unit Unit) ([]fit.Curve, error) {
 	return curves, nil
 }
 
+// columns maps a header's column names (trimmed, lower-case, without a
+// byte-order mark) to their index, refusing a name given twice and
+// requiring the named columns.
+func columns(header []string, required ...string) (map[string]int, error) {
+	col := map[string]int{}
+	for i, h := range header {
+		name := strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))
+		if _, dup := col[name]; dup && name != "" {
+			return nil, &ParseError{Line: 1, Column: i + 1, Name: name, Err: fmt.Errorf("%w: column %q appears twice", ErrBadValue, name)}
+		}
+		col[name] = i
+	}
+	for _, need := range required {
+		if _, ok := col[need]; !ok {
+			return nil, &ParseError{Line: 1, Err: fmt.Errorf("%w %q (the header has %q)", ErrMissingColumn, need, header)}
+		}
+	}
+	return col, nil
+}
+
 // csvError turns encoding/csv's error into a ParseError.
 func csvError(err error) error {
 	var pe *csv.ParseError
@@ -175,14 +186,9 @@ func ReadSchildCSV(r io.Reader, unit Unit) ([]schild.Curve, error) {
 	if len(recs) < 2 {
 		return nil, &ParseError{Line: 1, Err: ErrNoData}
 	}
-	col := map[string]int{}
-	for i, h := range recs[0] {
-		col[strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))] = i
-	}
-	for _, need := range []string{"antagonist_conc", "conc", "response"} {
-		if _, ok := col[need]; !ok {
-			return nil, &ParseError{Line: 1, Err: fmt.Errorf("%w %q", ErrMissingColumn, need)}
-		}
+	col, err := columns(recs[0], "antagonist_conc", "conc", "response")
+	if err != nil {
+		return nil, err
 	}
 	var curves []schild.Curve
 	index := map[float64]int{}

@@ -45,14 +45,9 @@ func ReadPlateCSV(r io.Reader) ([]WellIn, error) {
 	if err != nil {
 		return nil, csvError(err)
 	}
-	col := map[string]int{}
-	for i, h := range header {
-		col[strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))] = i
-	}
-	for _, need := range []string{"well", "role", "value"} {
-		if _, ok := col[need]; !ok {
-			return nil, &ParseError{Line: 1, Err: fmt.Errorf("%w %q (the header has %q)", ErrMissingColumn, need, header)}
-		}
+	col, err := columns(header, "well", "role", "value")
+	if err != nil {
+		return nil, err
 	}
 	var out []WellIn
 	for {

@@ -9,7 +9,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -75,16 +74,15 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return fail("--model: %v", err)
 	}
 
-	in := stdin
-	name := "standard input"
-	if pos[0] != "-" {
-		f, err := os.Open(pos[0])
-		if err != nil {
-			return fail("%v", err)
-		}
-		defer f.Close()
-		in, name = f, pos[0]
+	name := pos[0]
+	if name == "-" {
+		name = "standard input"
 	}
+	in, closeIn, err := openInput(pos[0], stdin)
+	if err != nil {
+		return fail("%v", err)
+	}
+	defer closeIn()
 	curves, err := ingest.ReadCurves(in, u)
 	if err != nil {
 		return fail("%s: %v", name, err)

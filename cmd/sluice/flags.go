@@ -3,6 +3,8 @@ package main
 import (
 	"flag"
 	"fmt"
+	"io"
+	"os"
 	"strconv"
 	"strings"
 )
@@ -43,4 +45,16 @@ func parseFixed(s string) (map[string]float64, error) {
 		out[k] = f
 	}
 	return out, nil
+}
+
+// openInput opens path, or returns stdin for "-"; close releases it.
+func openInput(path string, stdin io.Reader) (in io.Reader, close func(), err error) {
+	if path == "-" {
+		return stdin, func() {}, nil
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, nil, err
+	}
+	return f, func() { f.Close() }, nil
 }

@@ -36,16 +36,12 @@ func runPotential(args []string, stdin io.Reader, stdout, stderr io.Writer) int 
 		fs.Usage()
 		return 2
 	}
-	in := stdin
-	if pos[0] != "-" {
-		f, err := os.Open(pos[0])
-		if err != nil {
-			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
-			return 2
-		}
-		defer f.Close()
-		in = f
+	in, closeIn, err := openInput(pos[0], stdin)
+	if err != nil {
+		fmt.Fprintf(stderr, "sluice potential: %v\n", err)
+		return 2
 	}
+	defer closeIn()
 	body, err := io.ReadAll(io.LimitReader(in, 10<<20))
 	if err != nil {
 		fmt.Fprintf(stderr, "sluice potential: %v\n", err)

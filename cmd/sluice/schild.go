@@ -6,7 +6,6 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"os"
 	"strings"
 
 	"sluice/api"
@@ -42,16 +41,12 @@ func runSchild(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "sluice schild: --unit: %v\n", err)
 		return 2
 	}
-	in := stdin
-	if pos[0] != "-" {
-		f, err := os.Open(pos[0])
-		if err != nil {
-			fmt.Fprintf(stderr, "sluice schild: %v\n", err)
-			return 2
-		}
-		defer f.Close()
-		in = f
+	in, closeIn, err := openInput(pos[0], stdin)
+	if err != nil {
+		fmt.Fprintf(stderr, "sluice schild: %v\n", err)
+		return 2
 	}
+	defer closeIn()
 	out, err := api.SchildFromCSV(in, u, &schild.Settings{Resamples: *resamples, Seed: *seed})
 	if err != nil {
 		fmt.Fprintf(stderr, "sluice schild: %s: %v\n", pos[0], err)

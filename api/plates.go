@@ -258,19 +258,7 @@ func (s *Server) createPlate(c *gin.Context) {
 			s.writeProblem(c, err)
 			return
 		}
-		for _, w := range req.Wells {
-			in := ingest.WellIn{Well: w.Well, Role: w.Role, CompoundID: w.CompoundID, AntagonistID: w.AntagonistID}
-			if w.Conc != nil {
-				in.Conc = *w.Conc
-			}
-			if w.Value != nil {
-				in.Value, in.HasValue = *w.Value, true
-			}
-			if w.AntagonistConc != nil {
-				in.AntagonistConc = *w.AntagonistConc
-			}
-			wells = append(wells, in)
-		}
+		wells = wellsFromJSON(req.Wells)
 	default:
 		s.writeProblem(c, &requestError{kind: errUnsupportedType, detail: "Content-Type: want application/json or text/csv"})
 		return
@@ -328,6 +316,25 @@ func (s *Server) createPlate(c *gin.Context) {
 	}, write)
 }
 
+// wellsFromJSON turns wells as JSON sends them into wells as read.
+func wellsFromJSON(ws []WellJSON) []ingest.WellIn {
+	out := make([]ingest.WellIn, 0, len(ws))
+	for _, w := range ws {
+		in := ingest.WellIn{Well: w.Well, Role: w.Role, CompoundID: w.CompoundID, AntagonistID: w.AntagonistID}
+		if w.Conc != nil {
+			in.Conc = *w.Conc
+		}
+		if w.Value != nil {
+			in.Value, in.HasValue = *w.Value, true
+		}
+		if w.AntagonistConc != nil {
+			in.AntagonistConc = *w.AntagonistConc
+		}
+		out = append(out, in)
+	}
+	return out
+}
+
 // fitFromQuery reads the fit settings of a CSV upload.
 func fitFromQuery(get func(string) string) (*PlateFitIn, error) {
 	f := &PlateFitIn{Model: get("model")}
@@ -373,18 +380,10 @@ func (s *Server) gridWells(c *gin.Context, layoutID string, format int, body []b
 	if err := json.Unmarshal(l.Wells, &lw); err != nil {
 		return nil, fmt.Errorf("stored layout %s: %w", layoutID, err)
 	}
-	var out []ingest.WellIn
-	for _, w := range lw {
-		pos, _ := f.ParseWell(w.Well)
-		in := ingest.WellIn{Well: w.Well, Role: w.Role, CompoundID: w.CompoundID, AntagonistID: w.AntagonistID}
-		if w.Conc != nil {
-			in.Conc = *w.Conc
-		}
-		if w.AntagonistConc != nil {
-			in.AntagonistConc = *w.AntagonistConc
-		}
-		in.Value, in.HasValue = grid[f.Name(pos)]
-		out = append(out, in)
+	out := wellsFromJSON(lw)
+	for i := range out {
+		pos, _ := f.ParseWell(out[i].Well)
+		out[i].Value, out[i].HasValue = grid[f.Name(pos)]
 	}
 	return out, nil
 }

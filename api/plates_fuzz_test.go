@@ -5,7 +5,6 @@ import (
 	"errors"
 	"testing"
 
-	"sluice/api/ingest"
 	"sluice/db/dbtest"
 )
 
@@ -27,24 +26,7 @@ func FuzzPlateJSON(f *testing.F) {
 			}
 			return
 		}
-		toWells := func(r PlateRequest) []ingest.WellIn {
-			var out []ingest.WellIn
-			for _, w := range r.Wells {
-				in := ingest.WellIn{Well: w.Well, Role: w.Role, CompoundID: w.CompoundID, AntagonistID: w.AntagonistID}
-				if w.Conc != nil {
-					in.Conc = *w.Conc
-				}
-				if w.Value != nil {
-					in.Value, in.HasValue = *w.Value, true
-				}
-				if w.AntagonistConc != nil {
-					in.AntagonistConc = *w.AntagonistConc
-				}
-				out = append(out, in)
-			}
-			return out
-		}
-		v, err := ts.srv.validatePlate(&req, toWells(req), jsonLocate)
+		v, err := ts.srv.validatePlate(&req, wellsFromJSON(req.Wells), jsonLocate)
 		if err != nil {
 			var re *requestError
 			if s := statusOf(err); s >= 500 || !errors.As(err, &re) {
@@ -57,7 +39,7 @@ func FuzzPlateJSON(f *testing.F) {
 		if err := decodeJSON(again, &req2); err != nil {
 			t.Fatalf("round trip: %v", err)
 		}
-		v2, err := ts.srv.validatePlate(&req2, toWells(req2), jsonLocate)
+		v2, err := ts.srv.validatePlate(&req2, wellsFromJSON(req2.Wells), jsonLocate)
 		if err != nil || len(v2.wells) != len(v.wells) || v2.p.CurvesTotal != v.p.CurvesTotal {
 			t.Fatalf("round trip validates differently: %v", err)
 		}

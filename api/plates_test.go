@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"net/http/httptest"
 	"strings"
 	"testing"
 	"time"
@@ -272,5 +271,4 @@ func TestPlateJobInterrupted(t *testing.T) {
 	if len(cs) != 16 || p.Status != db.PlateDone {
 		t.Errorf("after the rerun: %d curves, status %s", len(cs), p.Status)
 	}
-	_ = httptest.NewRecorder
 }

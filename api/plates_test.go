@@ -66,8 +66,9 @@ func TestPlateJSONEndToEnd(t *testing.T) {
 		ts := newTestServer(t, store)
 		startWorkers(t, ts)
 		wells, truth := invented384(1)
+		seed := uint64(11) // fixed, so that the check below is deterministic
 		body, _ := json.Marshal(PlateRequest{Barcode: "LK-0384-01", Format: 384, Mode: "agonist", Wells: wells,
-			MeasuredAt: "2026-11-30T10:00:00Z", Fit: &PlateFitIn{Bootstrap: &BootstrapIn{Resamples: 300}}})
+			MeasuredAt: "2026-11-30T10:00:00Z", Fit: &PlateFitIn{Bootstrap: &BootstrapIn{Resamples: 300, Seed: &seed}}})
 		w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
 		if w.Code != 200 {
 			t.Fatalf("%d %s", w.Code, w.Body)

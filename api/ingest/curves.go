@@ -1,13 +1,9 @@
 package ingest
 
 import (
-	"encoding/csv"
 	"errors"
 	"fmt"
 	"io"
-	"math"
-	"strconv"
-	"strings"
 
 	"sluice/fit"
 	"sluice/fit/schild"
@@ -52,81 +48,27 @@ const MaxCurveRows = 1_000_000
 // Blank lines are skipped. Every value is checked as fit would check it, so
 // that an error names the line and column rather than a point index.
 func ReadCurves(r io.Reader, unit Unit) ([]fit.Curve, error) {
-	cr := csv.NewReader(r)
-	cr.FieldsPerRecord = -1
-	cr.TrimLeadingSpace = true
-	header, err := cr.Read()
-	if err == io.EOF {
-		return nil, &ParseError{Line: 1, Err: ErrNoData}
-	}
-	if err != nil {
-		return nil, csvError(err)
-	}
-	col, err := columns(header, "conc", "response")
-	if err != nil {
-		return nil, err
-	}
 	var curves []fit.Curve
 	index := map[string]int{}
-	rows := 0
-	for {
-		rec, err := cr.Read()
-		if err == io.EOF {
-			break
-		}
+	err := eachRow(r, []string{"conc", "response"}, MaxCurveRows, func(row csvRow) error {
+		conc, err := row.nonNegative("conc", "concentration")
 		if err != nil {
-			return nil, csvError(err)
+			return err
 		}
-		line, _ := cr.FieldPos(0)
-		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
-			continue
-		}
-		if rows++; rows > MaxCurveRows {
-			return nil, &ParseError{Line: line, Err: fmt.Errorf("%w: more than %d rows", ErrBadValue, MaxCurveRows)}
-		}
-		field := func(name string) (string, int, bool) {
-			i, ok := col[name]
-			if !ok || i >= len(rec) {
-				return "", i + 1, false
-			}
-			return strings.TrimSpace(rec[i]), i + 1, true
-		}
-		num := func(name string, required bool) (float64, bool, error) {
-			s, c, ok := field(name)
-			if !ok || s == "" {
-				if required {
-					return 0, false, &ParseError{Line: line, Column: c, Name: name, Err: fmt.Errorf("%w: value is empty", ErrBadValue)}
-				}
-				return 0, false, nil
-			}
-			v, err := strconv.ParseFloat(s, 64)
-			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-				return 0, false, &ParseError{Line: line, Column: c, Name: name, Err: fmt.Errorf("%w: %q", ErrNotNumber, s)}
-			}
-			return v, true, nil
-		}
-		conc, _, err := num("conc", true)
+		resp, _, err := row.number("response", true)
 		if err != nil {
-			return nil, err
+			return err
 		}
-		if conc < 0 {
-			_, c, _ := field("conc")
-			return nil, &ParseError{Line: line, Column: c, Name: "conc", Err: fmt.Errorf("%w: concentration %g is negative", ErrBadValue, conc)}
-		}
-		resp, _, err := num("response", true)
+		w, _, err := row.number("weight", false)
 		if err != nil {
-			return nil, err
-		}
-		w, _, err := num("weight", false)
-		if err != nil {
-			return nil, err
+			return err
 		}
 		if w < 0 {
-			_, c, _ := field("weight")
-			return nil, &ParseError{Line: line, Column: c, Name: "weight", Err: fmt.Errorf("%w: weight %g is negative", ErrBadValue, w)}
+			_, c, _ := row.text("weight")
+			return &ParseError{Line: row.line, Column: c, Name: "weight", Err: fmt.Errorf("%w: weight %g is negative", ErrBadValue, w)}
 		}
 		id := "1"
-		if s, _, ok := field("curve"); ok {
+		if s, _, ok := row.text("curve"); ok {
 			id = s
 		}
 		k, seen := index[id]
@@ -136,6 +78,10 @@ func ReadCurves(r io.Reader, unit Unit) ([]fit.Curve, error) {
 			curves = append(curves, fit.Curve{ID: id})
 		}
 		curves[k].Points = append(curves[k].Points, fit.Point{Conc: unit.ToMolar(conc), Response: resp, Weight: w})
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	if len(curves) == 0 {
 		return nil, &ParseError{Line: 2, Err: ErrNoData}
@@ -143,83 +89,40 @@ func ReadCurves(r io.Reader, unit Unit) ([]fit.Curve, error) {
 	return curves, nil
 }
 
-// columns maps a header's column names (trimmed, lower-case, without a
-// byte-order mark) to their index, refusing a name given twice and
-// requiring the named columns.
-func columns(header []string, required ...string) (map[string]int, error) {
-	col := map[string]int{}
-	for i, h := range header {
-		name := strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))
-		if _, dup := col[name]; dup && name != "" {
-			return nil, &ParseError{Line: 1, Column: i + 1, Name: name, Err: fmt.Errorf("%w: column %q appears twice", ErrBadValue, name)}
-		}
-		col[name] = i
-	}
-	for _, need := range required {
-		if _, ok := col[need]; !ok {
-			return nil, &ParseError{Line: 1, Err: fmt.Errorf("%w %q (the header has %q)", ErrMissingColumn, need, header)}
-		}
-	}
-	return col, nil
-}
-
-// csvError turns encoding/csv's error into a ParseError.
-func csvError(err error) error {
-	var pe *csv.ParseError
-	if errors.As(err, &pe) {
-		return &ParseError{Line: pe.Line, Column: pe.Column, Err: pe.Err}
-	}
-	return err
-}
-
 // ReadSchildCSV reads a Schild dataset: columns antagonist_conc, conc and
 // response (any order; concentrations in unit), one curve per antagonist
 // concentration, in order of first appearance.
 func ReadSchildCSV(r io.Reader, unit Unit) ([]schild.Curve, error) {
-	cr := csv.NewReader(r)
-	cr.FieldsPerRecord = -1
-	cr.TrimLeadingSpace = true
-	recs, err := cr.ReadAll()
-	if err != nil {
-		return nil, csvError(err)
-	}
-	if len(recs) < 2 {
-		return nil, &ParseError{Line: 1, Err: ErrNoData}
-	}
-	col, err := columns(recs[0], "antagonist_conc", "conc", "response")
-	if err != nil {
-		return nil, err
-	}
 	var curves []schild.Curve
 	index := map[float64]int{}
-	for k, rec := range recs[1:] {
-		line := k + 2
-		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
-			continue
+	err := eachRow(r, []string{"antagonist_conc", "conc", "response"}, MaxCurveRows, func(row csvRow) error {
+		b, err := row.nonNegative("antagonist_conc", "concentration")
+		if err != nil {
+			return err
 		}
-		vals := map[string]float64{}
-		for _, name := range []string{"antagonist_conc", "conc", "response"} {
-			i := col[name]
-			if i >= len(rec) {
-				return nil, &ParseError{Line: line, Column: i + 1, Name: name, Err: fmt.Errorf("%w: value is empty", ErrBadValue)}
-			}
-			v, err := strconv.ParseFloat(strings.TrimSpace(rec[i]), 64)
-			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, &ParseError{Line: line, Column: i + 1, Name: name, Err: fmt.Errorf("%w: %q", ErrNotNumber, rec[i])}
-			}
-			if name != "response" && v < 0 {
-				return nil, &ParseError{Line: line, Column: i + 1, Name: name, Err: fmt.Errorf("%w: %g is negative", ErrBadValue, v)}
-			}
-			vals[name] = v
+		a, err := row.nonNegative("conc", "concentration")
+		if err != nil {
+			return err
 		}
-		b := unit.ToMolar(vals["antagonist_conc"])
+		y, _, err := row.number("response", true)
+		if err != nil {
+			return err
+		}
+		b = unit.ToMolar(b)
 		j, ok := index[b]
 		if !ok {
 			j = len(curves)
 			index[b] = j
 			curves = append(curves, schild.Curve{AntagonistConc: b})
 		}
-		curves[j].Points = append(curves[j].Points, fit.Point{Conc: unit.ToMolar(vals["conc"]), Response: vals["response"]})
+		curves[j].Points = append(curves[j].Points, fit.Point{Conc: unit.ToMolar(a), Response: y})
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	if len(curves) == 0 {
+		return nil, &ParseError{Line: 1, Err: ErrNoData}
 	}
 	return curves, nil
 }

@@ -35,69 +35,28 @@ const MaxPlateRows = 10000
 // in any order). Control and empty wells may leave compound_id and conc
 // blank; empty and excluded wells may leave value blank.
 func ReadPlateCSV(r io.Reader) ([]WellIn, error) {
-	cr := csv.NewReader(r)
-	cr.FieldsPerRecord = -1
-	cr.TrimLeadingSpace = true
-	header, err := cr.Read()
-	if err == io.EOF {
-		return nil, &ParseError{Line: 1, Err: ErrNoData}
-	}
-	if err != nil {
-		return nil, csvError(err)
-	}
-	col, err := columns(header, "well", "role", "value")
-	if err != nil {
-		return nil, err
-	}
 	var out []WellIn
-	for {
-		rec, err := cr.Read()
-		if err == io.EOF {
-			break
+	err := eachRow(r, []string{"well", "role", "value"}, MaxPlateRows, func(row csvRow) error {
+		w := WellIn{Line: row.line}
+		w.Well, _, _ = row.text("well")
+		w.Role, _, _ = row.text("role")
+		w.CompoundID, _, _ = row.text("compound_id")
+		w.AntagonistID, _, _ = row.text("antagonist_id")
+		var err error
+		if w.Conc, _, err = row.number("conc", false); err != nil {
+			return err
 		}
-		if err != nil {
-			return nil, csvError(err)
+		if w.Value, w.HasValue, err = row.number("value", false); err != nil {
+			return err
 		}
-		line, _ := cr.FieldPos(0)
-		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
-			continue
-		}
-		if len(out) >= MaxPlateRows {
-			return nil, &ParseError{Line: line, Err: fmt.Errorf("%w: more than %d rows", ErrBadValue, MaxPlateRows)}
-		}
-		get := func(name string) (string, int) {
-			i, ok := col[name]
-			if !ok || i >= len(rec) {
-				return "", i + 1
-			}
-			return strings.TrimSpace(rec[i]), i + 1
-		}
-		num := func(name string) (float64, bool, error) {
-			s, c := get(name)
-			if s == "" {
-				return 0, false, nil
-			}
-			v, err := strconv.ParseFloat(s, 64)
-			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
-				return 0, false, &ParseError{Line: line, Column: c, Name: name, Err: fmt.Errorf("%w: %q", ErrNotNumber, s)}
-			}
-			return v, true, nil
-		}
-		w := WellIn{Line: line}
-		w.Well, _ = get("well")
-		w.Role, _ = get("role")
-		w.CompoundID, _ = get("compound_id")
-		w.AntagonistID, _ = get("antagonist_id")
-		if w.Conc, _, err = num("conc"); err != nil {
-			return nil, err
-		}
-		if w.Value, w.HasValue, err = num("value"); err != nil {
-			return nil, err
-		}
-		if w.AntagonistConc, _, err = num("antagonist_conc"); err != nil {
-			return nil, err
+		if w.AntagonistConc, _, err = row.number("antagonist_conc", false); err != nil {
+			return err
 		}
 		out = append(out, w)
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	if len(out) == 0 {
 		return nil, &ParseError{Line: 2, Err: ErrNoData}

@@ -180,12 +180,12 @@ func (s *Server) validatePlate(req *PlateRequest, wells []ingest.WellIn, loc loc
 		set.Fit = *req.Fit
 	}
 	fs := fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill}
-	probe, err := fit.Fit(fit.Curve{}, &fs)
-	if err != nil {
+	if err := fs.Validate(); err != nil {
 		return nil, prefixPointer(err, "/fit")
 	}
 	if b := set.Fit.Bootstrap; b != nil {
-		if err := fit.Bootstrap(probe, &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval)}); err != nil {
+		bs := fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval)}
+		if err := bs.Validate(); err != nil {
 			return nil, prefixPointer(err, "/fit")
 		}
 		if b.Seed == nil {

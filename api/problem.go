@@ -8,7 +8,6 @@ import (
 	"strings"
 
 	"github.com/gin-gonic/gin"
-	"gonum.org/v1/gonum/stat/distuv"
 
 	"sluice/api/ingest"
 	"sluice/db"
@@ -147,9 +146,4 @@ func fieldsOf(err error) []FieldError {
 		return []FieldError{{Row: ce.Line, Column: ce.Column, Detail: ce.Err.Error()}}
 	}
 	return nil
-}
-
-// studentT is the two-sided Student t multiplier.
-func studentT(dof int, confidence float64) float64 {
-	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(dof)}.Quantile((1 + confidence) / 2)
 }

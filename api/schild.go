@@ -58,42 +58,55 @@ func wireEst(e schild.Estimate, withSE bool) *WireEstimate {
 
 // SchildResponse is the answer of POST /v1/schild and GET /v1/schild/{id}.
 type SchildResponse struct {
-	ID           string `json:"id,omitempty"`
-	CreatedAt    string `json:"created_at,omitempty"`
-	PlateID      string `json:"plate_id,omitempty"`
-	AgonistID    string `json:"agonist_id,omitempty"`
-	AntagonistID string `json:"antagonist_id,omitempty"`
-	DoseRatios   []struct {
-		AntagonistConc float64     `json:"antagonist_conc"`
-		DoseRatio      wire.Num    `json:"dose_ratio"`
-		CI             [2]wire.Num `json:"ci"`
-	} `json:"dose_ratios"`
-	Regression *struct {
-		Slope *WireEstimate `json:"slope"`
-		PA2   *WireEstimate `json:"pa2"`
-	} `json:"regression"`
-	Global *struct {
-		PA2         *WireEstimate      `json:"pa2"`
-		Slope       *WireEstimate      `json:"slope"`
-		PKB         *WireEstimate      `json:"pkb"`
-		SlopeUnityP wire.Num           `json:"slope_unity_p"`
-		Shared      map[string]float64 `json:"shared"`
-		Bootstrap   *BootstrapInfo     `json:"bootstrap,omitempty"`
-	} `json:"global"`
-	Competitive  bool     `json:"competitive"`
-	Flags        []string `json:"flags"`
-	Withheld     string   `json:"withheld,omitempty"`
-	ChengPrusoff *struct {
-		AgonistConc float64 `json:"agonist_conc"`
-		IC50        float64 `json:"ic50"`
-		PIC50       float64 `json:"pic50"`
-		KB          float64 `json:"kb"`
-		PKB         float64 `json:"pkb"`
-		Note        string  `json:"note"`
-	} `json:"cheng_prusoff,omitempty"`
-	Curves     []SchildCurveResult `json:"curves"`
-	Confidence float64             `json:"confidence"`
-	Caution    string              `json:"caution"`
+	ID           string              `json:"id,omitempty"`
+	CreatedAt    string              `json:"created_at,omitempty"`
+	PlateID      string              `json:"plate_id,omitempty"`
+	AgonistID    string              `json:"agonist_id,omitempty"`
+	AntagonistID string              `json:"antagonist_id,omitempty"`
+	DoseRatios   []SchildDoseRatio   `json:"dose_ratios"`
+	Regression   *SchildRegression   `json:"regression"`
+	Global       *SchildGlobal       `json:"global"`
+	Competitive  bool                `json:"competitive"`
+	Flags        []string            `json:"flags"`
+	Withheld     string              `json:"withheld,omitempty"`
+	ChengPrusoff *SchildChengPrusoff `json:"cheng_prusoff,omitempty"`
+	Curves       []SchildCurveResult `json:"curves"`
+	Confidence   float64             `json:"confidence"`
+	Caution      string              `json:"caution"`
+}
+
+// SchildDoseRatio is one dose ratio with its interval.
+type SchildDoseRatio struct {
+	AntagonistConc float64     `json:"antagonist_conc"`
+	DoseRatio      wire.Num    `json:"dose_ratio"`
+	CI             [2]wire.Num `json:"ci"`
+}
+
+// SchildRegression is the Schild regression's slope and pA2.
+type SchildRegression struct {
+	Slope *WireEstimate `json:"slope"`
+	PA2   *WireEstimate `json:"pa2"`
+}
+
+// SchildGlobal is the global fit; PKB is nil when s = 1 is rejected.
+type SchildGlobal struct {
+	PA2         *WireEstimate      `json:"pa2"`
+	Slope       *WireEstimate      `json:"slope"`
+	PKB         *WireEstimate      `json:"pkb"`
+	SlopeUnityP wire.Num           `json:"slope_unity_p"`
+	Shared      map[string]float64 `json:"shared"`
+	Bootstrap   *BootstrapInfo     `json:"bootstrap,omitempty"`
+}
+
+// SchildChengPrusoff is the IC50-based estimate for insurmountable
+// antagonism.
+type SchildChengPrusoff struct {
+	AgonistConc float64 `json:"agonist_conc"`
+	IC50        float64 `json:"ic50"`
+	PIC50       float64 `json:"pic50"`
+	KB          float64 `json:"kb"`
+	PKB         float64 `json:"pkb"`
+	Note        string  `json:"note"`
 }
 
 // BootstrapInfo describes the resampling behind the global intervals.
@@ -117,31 +130,13 @@ func schildResponse(r *schild.Result, curves []schild.Curve, seed uint64) Schild
 	out := SchildResponse{Competitive: r.Competitive, Flags: append([]string{}, r.Flags...), Withheld: r.Withheld,
 		Confidence: r.Confidence, Caution: wire.Caution}
 	for _, d := range r.DoseRatios {
-		out.DoseRatios = append(out.DoseRatios, struct {
-			AntagonistConc float64     `json:"antagonist_conc"`
-			DoseRatio      wire.Num    `json:"dose_ratio"`
-			CI             [2]wire.Num `json:"ci"`
-		}{d.AntagonistConc, wire.Num(d.DoseRatio.Estimate), [2]wire.Num{wire.Num(d.DoseRatio.Lo), wire.Num(d.DoseRatio.Hi)}})
+		out.DoseRatios = append(out.DoseRatios, SchildDoseRatio{d.AntagonistConc, wire.Num(d.DoseRatio.Estimate), [2]wire.Num{wire.Num(d.DoseRatio.Lo), wire.Num(d.DoseRatio.Hi)}})
 	}
 	if reg := r.Regression; reg != nil && r.Competitive {
-		t := tMultiplier(reg.DOF, r.Confidence)
-		out.Regression = &struct {
-			Slope *WireEstimate `json:"slope"`
-			PA2   *WireEstimate `json:"pa2"`
-		}{
-			wireEst(schild.Estimate{Estimate: reg.Slope, SE: reg.SESlope, Lo: reg.Slope - t*reg.SESlope, Hi: reg.Slope + t*reg.SESlope}, true),
-			wireEst(schild.Estimate{Estimate: reg.PA2, SE: reg.SEPA2, Lo: reg.PA2 - t*reg.SEPA2, Hi: reg.PA2 + t*reg.SEPA2}, false),
-		}
+		out.Regression = &SchildRegression{wireEst(reg.SlopeCI(r.Confidence), true), wireEst(reg.PA2CI(r.Confidence), false)}
 	}
 	if g := r.Global; g != nil {
-		gl := &struct {
-			PA2         *WireEstimate      `json:"pa2"`
-			Slope       *WireEstimate      `json:"slope"`
-			PKB         *WireEstimate      `json:"pkb"`
-			SlopeUnityP wire.Num           `json:"slope_unity_p"`
-			Shared      map[string]float64 `json:"shared"`
-			Bootstrap   *BootstrapInfo     `json:"bootstrap,omitempty"`
-		}{PA2: wireEst(g.PA2, false), Slope: wireEst(g.Slope, true), SlopeUnityP: wire.Num(g.SlopeUnityP), Shared: g.Shared}
+		gl := &SchildGlobal{PA2: wireEst(g.PA2, false), Slope: wireEst(g.Slope, true), SlopeUnityP: wire.Num(g.SlopeUnityP), Shared: g.Shared}
 		if g.PKBReported {
 			gl.PKB = wireEst(g.PKB, false)
 		}
@@ -151,27 +146,13 @@ func schildResponse(r *schild.Result, curves []schild.Curve, seed uint64) Schild
 		out.Global = gl
 	}
 	if cp := r.ChengPrusoff; cp != nil {
-		out.ChengPrusoff = &struct {
-			AgonistConc float64 `json:"agonist_conc"`
-			IC50        float64 `json:"ic50"`
-			PIC50       float64 `json:"pic50"`
-			KB          float64 `json:"kb"`
-			PKB         float64 `json:"pkb"`
-			Note        string  `json:"note"`
-		}{cp.AgonistConc, cp.IC50, -math.Log10(cp.IC50), cp.KB, cp.PKB,
+		out.ChengPrusoff = &SchildChengPrusoff{cp.AgonistConc, cp.IC50, -math.Log10(cp.IC50), cp.KB, cp.PKB,
 			"IC50 of the inhibition of the control's EC80 response; KB by the functional Cheng–Prusoff correction, which assumes competition with the agonist — for an agonist-independent block the pIC50 is the better estimate"}
 	}
 	for i, c := range r.Curves {
 		out.Curves = append(out.Curves, SchildCurveResult{AntagonistConc: curves[i].AntagonistConc, FitResult: wire.FromFit(c)})
 	}
 	return out
-}
-
-func tMultiplier(dof int, confidence float64) float64 {
-	if dof < 1 {
-		return math.NaN()
-	}
-	return studentT(dof, confidence)
 }
 
 // createSchild is POST /v1/schild.

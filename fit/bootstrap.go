@@ -100,6 +100,13 @@ func (b *BootSettings) resolve() (BootSettings, error) {
 	return s, nil
 }
 
+// Validate checks the settings; the error is a *SettingError naming the
+// field.
+func (b *BootSettings) Validate() error {
+	_, err := b.resolve()
+	return err
+}
+
 // Bootstrap resamples the data behind a converged fit, refits every
 // resample from the estimate, and sets r.Boot and each free parameter's
 // BootLo and BootHi. A fit that did not converge is left unchanged.

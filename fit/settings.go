@@ -153,3 +153,10 @@ func (r *resolved) bounds(d *design, lower, upper []float64) {
 		lower[iHillBlock], upper[iHillBlock] = minBellSlope, r.maxHill
 	}
 }
+
+// Validate checks the settings without fitting anything; the error is a
+// *SettingError naming the field.
+func (s *Settings) Validate() error {
+	_, err := s.resolve()
+	return err
+}

@@ -76,6 +76,19 @@ type Schild struct {
 	PKB, SEPKB float64 // slope fixed at 1
 }
 
+// SlopeCI and PA2CI are t intervals on the regression's n − 2 degrees of
+// freedom (NaN with fewer than three points).
+func (s *Schild) SlopeCI(confidence float64) Estimate {
+	t := tQuantile(s.DOF, confidence)
+	return Estimate{Estimate: s.Slope, SE: s.SESlope, Lo: s.Slope - t*s.SESlope, Hi: s.Slope + t*s.SESlope}
+}
+
+// PA2CI is the interval of pA2 from its delta-method SE.
+func (s *Schild) PA2CI(confidence float64) Estimate {
+	t := tQuantile(s.DOF, confidence)
+	return Estimate{Estimate: s.PA2, SE: s.SEPA2, Lo: s.PA2 - t*s.SEPA2, Hi: s.PA2 + t*s.SEPA2}
+}
+
 // SchildRegression fits log(DR − 1) against log10 of the antagonist
 // concentrations (molar). Dose ratios ≤ 1 have no logarithm and are an
 // error.

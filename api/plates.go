@@ -280,15 +280,14 @@ func (s *Server) createPlate(c *gin.Context) {
 	v.p.ID, v.p.CreatedAt, v.p.SubmittedBy, v.p.InputSHA256 = s.newID(), now, actor(c), hex.EncodeToString(sum[:])
 	var jobID int64
 	write := func(w db.Writer) error {
-		if err := w.InsertPlate(ctx, &v.p, v.wells); err != nil {
-			return err
-		}
+		// The job first: it needs a real transaction, and the worker can
+		// see it only once the plate below commits with it.
 		id, err := w.EnqueuePlateFit(ctx, v.p.ID)
 		if err != nil {
 			return err
 		}
-		jobID = id
-		if err := w.SetPlateJob(ctx, v.p.ID, id); err != nil {
+		jobID, v.p.JobID = id, id
+		if err := w.InsertPlate(ctx, &v.p, v.wells); err != nil {
 			return err
 		}
 		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: v.p.SubmittedBy, Action: "plate.create", Target: v.p.ID,

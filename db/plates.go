@@ -113,10 +113,6 @@ type copier interface {
 	copyWells(ctx context.Context, plateID string, wells []WellRow) error
 }
 
-func (w *sqlWriter) SetPlateJob(ctx context.Context, plateID string, jobID int64) error {
-	return w.e.translate(w.q.exec(ctx, "UPDATE plates SET job_id = $2 WHERE id = $1", plateID, jobID))
-}
-
 func (w *sqlWriter) FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error {
 	for _, c := range curves {
 		// A retried job writes the same curves again: keep the first.

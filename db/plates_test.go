@@ -24,14 +24,12 @@ func TestPlateJob(t *testing.T) {
 		p := &db.Plate{ID: "p1", CreatedAt: t0, SubmittedBy: "x", Barcode: "LK-1", Format: 384, ConcUnit: "M", Mode: "agonist",
 			Settings: []byte(`{}`), InputSHA256: "h", Status: db.PlateQueued, CurvesTotal: 2}
 		err := s.Write(ctx, func(w db.Writer) error {
-			if err := w.InsertPlate(ctx, p, wells); err != nil {
-				return err
-			}
 			id, err := w.EnqueuePlateFit(ctx, p.ID)
 			if err != nil {
 				return err
 			}
-			return w.SetPlateJob(ctx, p.ID, id)
+			p.JobID = id
+			return w.InsertPlate(ctx, p, wells)
 		})
 		if err != nil {
 			t.Fatal(err)

@@ -63,9 +63,9 @@ type Writer interface {
 	// InsertPlate stores a plate and its wells.
 	InsertPlate(ctx context.Context, p *Plate, wells []WellRow) error
 	// EnqueuePlateFit queues the plate's fit job in this transaction, so
-	// that a stored plate always has its job, and returns the job's ID.
+	// that a stored plate always has its job, and returns the job's ID
+	// (store it as the plate's JobID).
 	EnqueuePlateFit(ctx context.Context, plateID string) (int64, error)
-	SetPlateJob(ctx context.Context, plateID string, jobID int64) error
 	// FinishPlate stores a plate's curves (keeping any stored by an
 	// earlier attempt) and its final status, QC and error.
 	FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error

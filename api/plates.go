@@ -8,7 +8,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"math"
 	"mime"
 	"net/http"
 	"strconv"
@@ -117,62 +116,18 @@ func (s *Server) validatePlate(req *PlateRequest, wells []ingest.WellIn, loc loc
 		t = t.UTC()
 		v.p.MeasuredAt = &t
 	}
-	if len(wells) == 0 {
-		return nil, wellError(loc, -1, "wells", "a plate needs wells")
+	checked, err := plate.Validate(f, plateWellInputs(wells, unit), plate.ForPlate)
+	if err != nil {
+		return nil, plateProblem(err, loc)
 	}
-	if len(wells) > f.Wells {
-		return nil, wellError(loc, -1, "wells", "%d wells on a %d-well plate", len(wells), f.Wells)
-	}
-	seen := map[string]int{}
-	var nMax, nMin int
-	var pw []plate.PlateWell
-	for i, w := range wells {
-		pos, err := f.ParseWell(w.Well)
-		if err != nil {
-			return nil, wellError(loc, i, "well", "%v", err)
-		}
-		name := f.Name(pos)
-		if j, dup := seen[name]; dup {
-			return nil, wellError(loc, i, "well", "well %s appears twice (also entry %d)", name, j)
-		}
-		seen[name] = i
-		role, err := plate.ParseRole(w.Role)
-		if err != nil {
-			return nil, wellError(loc, i, "role", "%v", err)
-		}
-		needsValue := role != plate.Empty && role != plate.Excluded
-		if needsValue && !w.HasValue {
-			return nil, wellError(loc, i, "value", "well %s (%s) needs a value", name, role)
-		}
-		if (role == plate.Sample || role == plate.Reference) && w.CompoundID == "" {
-			return nil, wellError(loc, i, "compound_id", "well %s: a %s well needs a compound_id", name, role)
-		}
-		if w.Conc < 0 || w.AntagonistConc < 0 {
-			return nil, wellError(loc, i, "conc", "well %s: concentrations must be ≥ 0", name)
-		}
-		if w.AntagonistID == "" && w.AntagonistConc != 0 {
-			return nil, wellError(loc, i, "antagonist_id", "well %s: antagonist_conc without antagonist_id", name)
-		}
-		switch role {
-		case plate.MaxControl:
-			nMax++
-		case plate.MinControl:
-			nMin++
-		}
-		row := db.WellRow{Well: name, Row: pos.Row, Col: pos.Col, Role: string(role), CompoundID: w.CompoundID,
-			Conc: unit.ToMolar(w.Conc), AntagonistID: w.AntagonistID, AntagonistConc: unit.ToMolar(w.AntagonistConc)}
+	for _, w := range checked {
+		row := db.WellRow{Well: w.Name, Row: w.Well.Row, Col: w.Well.Col, Role: string(w.Role), CompoundID: w.CompoundID,
+			Conc: w.Conc, AntagonistID: w.AntagonistID, AntagonistConc: w.AntagonistConc}
 		if w.HasValue {
 			val := w.Value
 			row.Value = &val
 		}
 		v.wells = append(v.wells, row)
-		if needsValue {
-			pw = append(pw, plate.PlateWell{Well: pos, Role: role, CompoundID: w.CompoundID, Conc: row.Conc, Value: w.Value,
-				AntagonistID: w.AntagonistID, AntagonistConc: row.AntagonistConc})
-		}
-	}
-	if nMax < 2 || nMin < 2 {
-		return nil, wellError(loc, -1, "wells", "QC and normalisation need at least 2 max_control and 2 min_control wells (have %d and %d)", nMax, nMin)
 	}
 	// Fit settings, checked by the engine itself.
 	set := plateSettings{QC: req.QC}
@@ -195,9 +150,41 @@ func (s *Server) validatePlate(req *PlateRequest, wells []ingest.WellIn, loc loc
 			b.Seed = &seed
 		}
 	}
-	v.p.Settings, _ = json.Marshal(set)
-	v.p.CurvesTotal = len(plate.Curves(pw, mode, 1, 0))
+	if v.p.Settings, err = json.Marshal(set); err != nil {
+		return nil, fmt.Errorf("plate settings: %w", err)
+	}
+	v.p.CurvesTotal = len(plate.Curves(plate.Read(checked), mode, 1, 0))
 	return v, nil
+}
+
+// plateWellInputs converts wells as read to the plate rules' input, with
+// concentrations in molar.
+func plateWellInputs(wells []ingest.WellIn, unit ingest.Unit) []plate.WellInput {
+	out := make([]plate.WellInput, len(wells))
+	for i, w := range wells {
+		out[i] = plate.WellInput{Well: w.Well, Role: w.Role, CompoundID: w.CompoundID, Conc: unit.ToMolar(w.Conc), HasConc: w.HasConc,
+			Value: w.Value, HasValue: w.HasValue, AntagonistID: w.AntagonistID, AntagonistConc: unit.ToMolar(w.AntagonistConc)}
+	}
+	return out
+}
+
+// plateProblem turns the plate rules' errors into a problem whose fields
+// point where loc says (a JSON Pointer, a CSV row or a parameter).
+func plateProblem(err error, loc locate) error {
+	var inv plate.Invalid
+	if !errors.As(err, &inv) || len(inv) == 0 {
+		return err
+	}
+	re := &requestError{kind: errInvalid, detail: inv[0].Detail}
+	for _, we := range inv {
+		fe := loc(we.Index, we.Field)
+		fe.Detail = we.Detail
+		re.fields = append(re.fields, fe)
+	}
+	if len(inv) > 1 {
+		re.detail = fmt.Sprintf("%s (and %d more)", inv[0].Detail, len(inv)-1)
+	}
+	return re
 }
 
 // prefixPointer puts a fit settings error under a prefix (e.g. /fit).
@@ -238,6 +225,10 @@ func (s *Server) createPlate(c *gin.Context) {
 			return
 		}
 		if id := q.Get("layout_id"); id != "" {
+			if u, err := ingest.ParseUnit(req.ConcUnit); err == nil && u != 1 {
+				s.writeProblem(c, badParameter("conc_unit", "a layout's concentrations are stored in molar; conc_unit %q does not apply to a grid upload", req.ConcUnit))
+				return
+			}
 			wells, err = s.gridWells(c, id, req.Format, body)
 			loc = func(i int, field string) FieldError { return FieldError{Parameter: field} }
 		} else {
@@ -321,7 +312,7 @@ func wellsFromJSON(ws []WellJSON) []ingest.WellIn {
 	for _, w := range ws {
 		in := ingest.WellIn{Well: w.Well, Role: w.Role, CompoundID: w.CompoundID, AntagonistID: w.AntagonistID}
 		if w.Conc != nil {
-			in.Conc = *w.Conc
+			in.Conc, in.HasConc = *w.Conc, true
 		}
 		if w.Value != nil {
 			in.Value, in.HasValue = *w.Value, true
@@ -417,41 +408,34 @@ func (s *Server) createLayout(c *gin.Context) {
 		s.writeProblem(c, invalidField("/conc_unit", "%v", err))
 		return
 	}
-	seen := map[string]bool{}
-	for i, w := range req.Wells {
-		pos, err := f.ParseWell(w.Well)
-		if err != nil {
-			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/well", i), "%v", err))
-			return
+	checked, err := plate.Validate(f, plateWellInputs(wellsFromJSON(req.Wells), unit), plate.ForLayout)
+	if err != nil {
+		s.writeProblem(c, plateProblem(err, jsonLocate))
+		return
+	}
+	// Stored canonical and in molar, so that plates using the layout need
+	// no unit.
+	for i := range checked {
+		lw, cw := &req.Wells[i], &checked[i]
+		lw.Well = cw.Name
+		if lw.Conc != nil {
+			lw.Conc = &cw.Conc
 		}
-		if seen[f.Name(pos)] {
-			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/well", i), "well %s appears twice", f.Name(pos)))
-			return
-		}
-		seen[f.Name(pos)] = true
-		if _, err := plate.ParseRole(w.Role); err != nil {
-			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/role", i), "%v", err))
-			return
-		}
-		if w.Value != nil {
-			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/value", i), "a layout holds no values; they come from the grid"))
-			return
-		}
-		// Stored in molar, so that plates using the layout need no unit.
-		req.Wells[i].Well = f.Name(pos)
-		for _, cp := range []*float64{w.Conc, w.AntagonistConc} {
-			if cp != nil {
-				if *cp < 0 || math.IsNaN(*cp) {
-					s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/conc", i), "concentrations must be ≥ 0"))
-					return
-				}
-				*cp = unit.ToMolar(*cp)
-			}
+		if lw.AntagonistConc != nil {
+			lw.AntagonistConc = &cw.AntagonistConc
 		}
 	}
-	wellsJSON, _ := json.Marshal(req.Wells)
+	wellsJSON, err := json.Marshal(req.Wells)
+	if err != nil {
+		s.writeProblem(c, fmt.Errorf("layout %s wells: %w", req.ID, err))
+		return
+	}
 	now := s.now()
-	out, _ := json.Marshal(gin.H{"id": req.ID, "name": req.Name, "format": f.Wells, "wells": len(req.Wells), "conc_unit": "M"})
+	out, err := json.Marshal(gin.H{"id": req.ID, "name": req.Name, "format": f.Wells, "wells": len(req.Wells), "conc_unit": "M"})
+	if err != nil {
+		s.writeProblem(c, fmt.Errorf("layout %s response: %w", req.ID, err))
+		return
+	}
 	ctx := c.Request.Context()
 	c.Header("Location", "/v1/layouts/"+req.ID)
 	s.respond(c, http.StatusCreated, "application/json", out, func(w db.Writer) error {

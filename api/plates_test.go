@@ -273,3 +273,63 @@ func TestPlateJobInterrupted(t *testing.T) {
 		t.Errorf("after the rerun: %d curves, status %s", len(cs), p.Status)
 	}
 }
+
+// Layouts are checked by the same plate rules (without values), and every
+// broken rule of a plate is listed with its pointer or CSV row.
+func TestLayoutAndPlateRules(t *testing.T) {
+	ts := newTestServer(t, dbtest.SQLite(t))
+	wells, _ := invented384(5)
+	layout := func(mod func([]WellJSON)) string {
+		ws := make([]WellJSON, len(wells))
+		for i, w := range wells {
+			w.Value = nil
+			ws[i] = w
+		}
+		mod(ws)
+		b, _ := json.Marshal(LayoutRequest{ID: "l1", Name: "l", Format: 384, Wells: ws})
+		return string(b)
+	}
+	one := 1.0
+	for _, c := range []struct {
+		body, pointer string
+	}{
+		{layout(func(ws []WellJSON) { ws[9].Well = "Q1" }), "/wells/9/well"},
+		{layout(func(ws []WellJSON) { ws[9].Value = &one }), "/wells/9/value"},
+		{layout(func(ws []WellJSON) { ws[4].Conc = nil }), "/wells/4/conc"},
+		{layout(func(ws []WellJSON) { ws[4].AntagonistConc = &one }), "/wells/4/antagonist_id"},
+		{layout(func(ws []WellJSON) {
+			for i := range ws {
+				if ws[i].Role == "max_control" {
+					ws[i].Role = "excluded"
+				}
+			}
+		}), "/wells"},
+	} {
+		w := ts.do("POST", "/v1/layouts", ScopeSubmit, c.body)
+		if p := problemOf(t, w); w.Code != 422 || len(p.Errors) == 0 || p.Errors[0].Pointer != c.pointer {
+			t.Errorf("layout: want 422 at %s, got %d %s", c.pointer, w.Code, w.Body)
+		}
+	}
+	if _, err := ts.store.Layout(context.Background(), "l1"); err == nil {
+		t.Error("an invalid layout was stored")
+	}
+	// Two broken wells: both listed, in order.
+	req := PlateRequest{Barcode: "B", Format: 384, Wells: append([]WellJSON(nil), wells...)}
+	req.Wells[2].CompoundID, req.Wells[30].Role = "", "blank"
+	b, _ := json.Marshal(req)
+	w := ts.do("POST", "/v1/plates", ScopeSubmit, string(b))
+	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 2 || p.Errors[0].Pointer != "/wells/2/compound_id" || p.Errors[1].Pointer != "/wells/30/role" {
+		t.Errorf("two broken wells: %d %s", w.Code, w.Body)
+	}
+	// A CSV sample without a concentration points at its row.
+	csvBody := "well,role,compound_id,conc,value\nA1,max_control,,,100\nA2,max_control,,,100\nA3,min_control,,,0\nA4,min_control,,,0\nA5,sample,X,,50\n"
+	w = ts.do("POST", "/v1/plates?format=96&barcode=B", ScopeSubmit, csvBody, "Content-Type", "text/csv")
+	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 1 || p.Errors[0].Row != 6 || !strings.Contains(p.Errors[0].Detail, "concentration") {
+		t.Errorf("CSV without conc: %d %s", w.Code, w.Body)
+	}
+	// A grid upload takes its concentrations from the layout, in molar.
+	w = ts.do("POST", "/v1/plates?format=384&barcode=B&layout_id=l1&conc_unit=nM", ScopeSubmit, "x", "Content-Type", "text/csv")
+	if p := problemOf(t, w); w.Code != 400 || len(p.Errors) == 0 || p.Errors[0].Parameter != "conc_unit" {
+		t.Errorf("grid with conc_unit: %d %s", w.Code, w.Body)
+	}
+}

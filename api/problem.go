@@ -12,6 +12,7 @@ import (
 	"sluice/api/ingest"
 	"sluice/db"
 	"sluice/fit"
+	"sluice/fit/plate"
 )
 
 // Problem is an RFC 9457 problem details object with the fields that went
@@ -58,6 +59,7 @@ var statusTable = []struct {
 	{errBadRequest, http.StatusBadRequest},
 	{errInvalid, http.StatusUnprocessableEntity},
 	{fit.ErrInvalidInput, http.StatusUnprocessableEntity},
+	{plate.ErrInvalid, http.StatusUnprocessableEntity},
 	{ingest.ErrBadValue, http.StatusUnprocessableEntity},
 	{ingest.ErrNotNumber, http.StatusUnprocessableEntity},
 	{ingest.ErrMissingColumn, http.StatusUnprocessableEntity},

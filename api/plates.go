@@ -281,8 +281,11 @@ func (s *Server) createPlate(c *gin.Context) {
 		if err := w.InsertPlate(ctx, &v.p, v.wells); err != nil {
 			return err
 		}
-		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: v.p.SubmittedBy, Action: "plate.create", Target: v.p.ID,
-			Detail: []byte(fmt.Sprintf(`{"barcode":%q,"wells":%d}`, v.p.Barcode, len(v.wells)))})
+		detail, err := json.Marshal(map[string]any{"barcode": v.p.Barcode, "wells": len(v.wells)})
+		if err != nil {
+			return fmt.Errorf("audit of plate %s: %w", v.p.ID, err)
+		}
+		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: v.p.SubmittedBy, Action: "plate.create", Target: v.p.ID, Detail: detail})
 	}
 	if wait := c.Query("wait"); wait != "" {
 		d, err := time.ParseDuration(wait)
@@ -297,13 +300,18 @@ func (s *Server) createPlate(c *gin.Context) {
 		s.waitForPlate(c, v.p.ID, d)
 		return
 	}
-	// The job ID is known only inside the transaction; build the body there.
+	// The job ID is known only inside the transaction: the body is built
+	// there, after the write.
 	var resp []byte
 	c.Header("Location", "/v1/plates/"+v.p.ID)
-	s.respondBuilt(c, http.StatusAccepted, "application/json", func() []byte {
-		resp, _ = json.Marshal(gin.H{"plate_id": v.p.ID, "job_id": jobID})
-		return resp
-	}, write)
+	s.respondBuilt(c, http.StatusAccepted, "application/json", func() []byte { return resp }, func(w db.Writer) error {
+		if err := write(w); err != nil {
+			return err
+		}
+		var err error
+		resp, err = json.Marshal(gin.H{"plate_id": v.p.ID, "job_id": jobID})
+		return err
+	})
 }
 
 // wellsFromJSON turns wells as JSON sends them into wells as read.
@@ -361,7 +369,10 @@ func (s *Server) gridWells(c *gin.Context, layoutID string, format int, body []b
 	if l.Format != format {
 		return nil, badParameter("format", "layout %s is for %d-well plates, not %d", layoutID, l.Format, format)
 	}
-	f, _ := plate.ParseFormat(strconv.Itoa(format))
+	f, err := plate.ParseFormat(strconv.Itoa(format))
+	if err != nil {
+		return nil, badParameter("format", "%v", err)
+	}
 	grid, err := ingest.ReadGrid(bytes.NewReader(body), f)
 	if err != nil {
 		return nil, err
@@ -372,7 +383,10 @@ func (s *Server) gridWells(c *gin.Context, layoutID string, format int, body []b
 	}
 	out := wellsFromJSON(lw)
 	for i := range out {
-		pos, _ := f.ParseWell(out[i].Well)
+		pos, err := f.ParseWell(out[i].Well)
+		if err != nil {
+			return nil, fmt.Errorf("stored layout %s: %w", layoutID, err)
+		}
 		out[i].Value, out[i].HasValue = grid[f.Name(pos)]
 	}
 	return out, nil

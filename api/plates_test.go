@@ -333,3 +333,55 @@ func TestLayoutAndPlateRules(t *testing.T) {
 		t.Errorf("grid with conc_unit: %d %s", w.Code, w.Body)
 	}
 }
+
+// A plate whose min controls are all 0 (background-subtracted data) keeps
+// its QC on both engines: signal/background is reported as unbounded
+// (null with signal_background_unbounded true), the min control's CV,
+// 0/0, as null; the plate passes on its other figures.
+func TestPlateZeroMinControls(t *testing.T) {
+	dbtest.Engines(t, func(t *testing.T, store db.Store) {
+		ts := newTestServer(t, store)
+		startWorkers(t, ts)
+		wells, _ := invented384(6)
+		for i := range wells {
+			if wells[i].Role == "min_control" {
+				zero := 0.0
+				wells[i].Value = &zero
+			}
+		}
+		seed := uint64(3)
+		body, _ := json.Marshal(PlateRequest{Barcode: "LK-BGSUB", Format: 384, Wells: wells,
+			Fit: &PlateFitIn{Bootstrap: &BootstrapIn{Resamples: 50, Seed: &seed}}})
+		w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
+		if w.Code != 200 {
+			t.Fatalf("%d %s", w.Code, w.Body)
+		}
+		var v PlateView
+		json.Unmarshal(w.Body.Bytes(), &v)
+		if v.Status != db.PlateDone || len(v.Curves) != 16 {
+			t.Fatalf("plate %s with %d curves", v.Status, len(v.Curves))
+		}
+		var raw map[string]any
+		if err := json.Unmarshal(v.QC, &raw); err != nil || raw == nil {
+			t.Fatalf("qc %s: %v", v.QC, err)
+		}
+		if sb, ok := raw["signal_background"]; !ok || sb != nil || raw["signal_background_unbounded"] != true {
+			t.Errorf("signal/background: %s", v.QC)
+		}
+		if cv, _ := raw["cv"].(map[string]any); cv == nil || cv["min_control"] != nil || cv["max_control"] == nil {
+			t.Errorf("cv: %s", v.QC)
+		}
+		// Controls 2200 ± 40 vs exactly 0: Z′ = 1 − 3·40/2200 ≈ 0.945.
+		if z, _ := raw["z_prime"].(float64); raw["pass"] != true || math.Abs(z-0.945) > 0.02 {
+			t.Errorf("z_prime %v, pass %v", raw["z_prime"], raw["pass"])
+		}
+		p, err := store.Plate(context.Background(), v.PlateID)
+		if err != nil || !strings.Contains(string(p.QC), `"signal_background_unbounded":true`) {
+			t.Errorf("stored QC %s: %v", p.QC, err)
+		}
+		hm := ts.do("GET", "/v1/plates/"+v.PlateID+"/heatmap.svg", ScopeRead, "")
+		if hm.Code != 200 || !strings.Contains(hm.Body.String(), "QC pass") {
+			t.Errorf("heatmap: %d", hm.Code)
+		}
+	})
+}

@@ -51,6 +51,7 @@ type Server struct {
 	newID   func() string
 	tokens  *tokenCache
 	engine  *gin.Engine
+	ops     *gin.Engine // health and metrics only, for --role worker
 }
 
 // New builds the server and its routes.
@@ -79,6 +80,7 @@ func New(cfg Config, d Deps) (*Server, error) {
 	}
 	s.metrics = m
 	s.engine = s.routes(reg)
+	s.ops = s.opsRoutes(reg)
 	return s, nil
 }
 

@@ -92,8 +92,11 @@ func (s *Server) validatePlate(req *PlateRequest, wells []ingest.WellIn, loc loc
 	if err != nil {
 		return nil, wellError(loc, -1, "format", "%v", err)
 	}
-	if b := strings.TrimSpace(req.Barcode); b == "" || len(b) > 100 {
-		return nil, wellError(loc, -1, "barcode", "barcode is required, at most 100 characters")
+	if b := strings.TrimSpace(req.Barcode); b == "" || len(b) > 100 || !plate.PrintableID(b) {
+		return nil, wellError(loc, -1, "barcode", "barcode is required: printable text without control characters, at most 100 characters")
+	}
+	if !plate.PrintableID(req.AssayID) {
+		return nil, wellError(loc, -1, "assay_id", "assay_id must be printable text without control characters")
 	}
 	mode, err := plate.ParseMode(req.Mode)
 	if err != nil {
@@ -261,8 +264,12 @@ func (s *Server) createPlate(c *gin.Context) {
 	}
 	ctx := c.Request.Context()
 	if req.AssayID != "" {
-		if _, err := s.store.Assay(ctx, req.AssayID); errors.Is(err, db.ErrNotFound) {
-			s.writeProblem(c, wellError(loc, -1, "assay_id", "no assay with id %q", req.AssayID))
+		_, err := s.store.Assay(ctx, req.AssayID)
+		if errors.Is(err, db.ErrNotFound) {
+			err = wellError(loc, -1, "assay_id", "no assay with id %q", req.AssayID)
+		}
+		if err != nil {
+			s.writeProblem(c, err)
 			return
 		}
 	}
@@ -410,6 +417,10 @@ func (s *Server) createLayout(c *gin.Context) {
 	}
 	if !idPattern.MatchString(req.ID) {
 		s.writeProblem(c, invalidField("/id", "id %q must be 1–100 letters, digits or ._:-", req.ID))
+		return
+	}
+	if !plate.PrintableID(req.Name) {
+		s.writeProblem(c, invalidField("/name", "name must be printable text without control characters, at most %d bytes", plate.MaxIDLen))
 		return
 	}
 	f, err := plate.ParseFormat(strconv.Itoa(req.Format))

@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"strings"
+	"unicode"
+	"unicode/utf8"
 )
 
 // WellInput is one well as submitted, before it is checked: the well name
@@ -64,6 +66,7 @@ var (
 	ErrNotAllowed = errors.New("field not allowed here")
 	ErrConc       = errors.New("concentration must be finite and ≥ 0")
 	ErrValue      = errors.New("value must be finite")
+	ErrText       = errors.New("identifier must be printable UTF-8")
 	ErrAntagonist = errors.New("antagonist_conc without antagonist_id")
 	ErrControls   = errors.New("too few control wells")
 	ErrWellCount  = errors.New("wrong number of wells")
@@ -123,6 +126,8 @@ func (v Invalid) Unwrap() []error {
 //     same well), and no well is given twice;
 //   - the role is one of the known roles;
 //   - sample and reference wells name a compound_id and a concentration;
+//   - compound_id and antagonist_id are printable UTF-8 (no control
+//     characters), at most MaxIDLen bytes;
 //   - every well whose role is read (all but empty and excluded) has a
 //     value on a plate, and no well has a value in a layout;
 //   - concentrations are finite and ≥ 0, values finite;
@@ -183,6 +188,11 @@ func Validate(f Format, wells []WellInput, use Use) ([]CheckedWell, error) {
 				add(i, name, "conc", ErrMissing, "well %s: a %s well needs a concentration", name, role)
 			}
 		}
+		for _, id := range []struct{ field, text string }{{"compound_id", in.CompoundID}, {"antagonist_id", in.AntagonistID}} {
+			if !PrintableID(id.text) {
+				add(i, name, id.field, ErrText, "well %s: %s must be printable UTF-8 without control characters, at most %d bytes", name, id.field, MaxIDLen)
+			}
+		}
 		if !validConc(in.Conc) {
 			add(i, name, "conc", ErrConc, "well %s: concentration %v is not finite and ≥ 0", name, in.Conc)
 		}
@@ -209,6 +219,24 @@ func Validate(f Format, wells []WellInput, use Use) ([]CheckedWell, error) {
 		return nil, errs
 	}
 	return out, nil
+}
+
+// MaxIDLen bounds a compound or antagonist ID on a plate.
+const MaxIDLen = 200
+
+// PrintableID reports whether s is valid UTF-8 of at most MaxIDLen bytes
+// without control characters (which no identifier needs, and which
+// PostgreSQL text refuses in the case of NUL).
+func PrintableID(s string) bool {
+	if len(s) > MaxIDLen || !utf8.ValidString(s) {
+		return false
+	}
+	for _, r := range s {
+		if unicode.IsControl(r) {
+			return false
+		}
+	}
+	return true
 }
 
 func validConc(c float64) bool { return c >= 0 && !math.IsInf(c, 1) }

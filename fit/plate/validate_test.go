@@ -71,6 +71,11 @@ func TestValidateRejects(t *testing.T) {
 			ws[5].AntagonistID, ws[5].AntagonistConc = "x", -1e-8
 			return ws
 		}, 5, "antagonist_conc", ErrConc},
+		{"control character", ForPlate, func(ws []WellInput) []WellInput { ws[4].CompoundID = "c\x00"; return ws }, 4, "compound_id", ErrText},
+		{"invalid UTF-8", ForPlate, func(ws []WellInput) []WellInput {
+			ws[5].AntagonistID = "\xff"
+			return ws
+		}, 5, "antagonist_id", ErrText},
 		{"no wells", ForPlate, func(ws []WellInput) []WellInput { return nil }, -1, "wells", ErrWellCount},
 		{"too many", ForPlate, func(ws []WellInput) []WellInput {
 			for len(ws) <= 96 {

@@ -23,7 +23,7 @@ func TestFitRunsImmutableSQLite(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, q := range []string{"UPDATE fit_runs SET status = 'x'", "DELETE FROM fit_runs", "UPDATE fit_params SET name = 'x'", "DELETE FROM fit_params"} {
-		if err := s.e.exec(ctx, q); err == nil {
+		if _, err := s.e.exec(ctx, q); err == nil {
 			t.Errorf("%s succeeded", q)
 		}
 	}

@@ -2,6 +2,7 @@ package db
 
 import (
 	"context"
+	"strconv"
 	"time"
 )
 
@@ -70,40 +71,70 @@ type Layout struct {
 const plateCols = "id, created_at, submitted_by, assay_id, barcode, format, measured_at, conc_unit, mode, settings, " +
 	"input_sha256, job_id, status, qc, curves_total, curves_done, error"
 
-// insertPlate stores the plate row and its wells.
+// InsertPlate stores the plate row and its wells: COPY on PostgreSQL, one
+// prepared statement on SQLite.
 func (w *sqlWriter) InsertPlate(ctx context.Context, p *Plate, wells []WellRow) error {
+	const op = "InsertPlate"
 	var measured any
 	if p.MeasuredAt != nil {
 		measured = w.e.timeArg(*p.MeasuredAt)
 	}
-	err := w.q.exec(ctx, "INSERT INTO plates ("+plateCols+") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, $13, $14, $15, $16, $17)",
-		p.ID, w.e.timeArg(p.CreatedAt), p.SubmittedBy, nullString(p.AssayID), p.Barcode, p.Format, measured, p.ConcUnit, p.Mode,
-		string(p.Settings), p.InputSHA256, p.JobID, p.Status, nil, p.CurvesTotal, p.CurvesDone, p.Error)
-	if err != nil {
-		return w.e.translate(err)
+	settings, ok := jsonDoc(p.Settings, "")
+	if !ok || settings == nil {
+		return w.invalid(op, p.ID, "settings")
 	}
-	if cw, ok := w.q.(copier); ok {
-		return w.e.translate(cw.copyWells(ctx, p.ID, wells))
+	err := w.insert(ctx, op, p.ID, "INSERT INTO plates ("+plateCols+") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, $13, $14, $15, $16, $17)",
+		p.ID, w.e.timeArg(p.CreatedAt), p.SubmittedBy, nullString(p.AssayID), p.Barcode, p.Format, measured, p.ConcUnit, p.Mode,
+		settings, p.InputSHA256, p.JobID, p.Status, nil, p.CurvesTotal, p.CurvesDone, p.Error)
+	if err != nil {
+		return err
 	}
 	rows := make([][]any, len(wells))
 	for i, wr := range wells {
 		rows[i] = []any{p.ID, wr.Well, wr.Row, wr.Col, wr.Role, wr.CompoundID, wr.Conc, wr.Value, wr.AntagonistID, wr.AntagonistConc}
+		if checkArgs(rows[i]) != nil {
+			return w.invalid(op, p.ID, "wells/"+wr.Well)
+		}
+	}
+	if cw, ok := w.q.(copier); ok {
+		if err := cw.copyWells(ctx, p.ID, wells); err != nil {
+			return w.abort(opError(op, p.ID, err, w.e.classify))
+		}
+		return nil
 	}
 	const q = "INSERT INTO wells (plate_id, well, row_index, col_index, role, compound_id, conc, value, antagonist_id, antagonist_conc) " +
 		"VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)"
-	if m, ok := w.q.(manyExecer); ok {
-		return w.e.translate(m.execMany(ctx, q, rows))
+	return w.execMany(ctx, op, p.ID, q, rows)
+}
+
+// execMany runs one statement for many rows in one go: a pipelined batch
+// on PostgreSQL, one prepared statement on SQLite (parsing one huge
+// multi-row INSERT costs more than the inserts).
+func (w *sqlWriter) execMany(ctx context.Context, op, key, q string, rows [][]any) error {
+	if w.err != nil {
+		return w.err
 	}
 	for _, r := range rows {
-		if err := w.q.exec(ctx, q, r...); err != nil {
-			return w.e.translate(err)
+		if checkArgs(r) != nil {
+			return w.invalid(op, key, "")
 		}
+	}
+	m, ok := w.q.(manyExecer)
+	if !ok {
+		for _, r := range rows {
+			if _, err := w.exec(ctx, op, key, q, r...); err != nil {
+				return err
+			}
+		}
+		return nil
+	}
+	if err := m.execMany(ctx, q, rows); err != nil {
+		return w.abort(opError(op, key, err, w.e.classify))
 	}
 	return nil
 }
 
-// manyExecer runs one prepared statement for many rows (SQLite: parsing
-// one huge multi-row INSERT costs more than the inserts).
+// manyExecer runs one statement for many rows.
 type manyExecer interface {
 	execMany(ctx context.Context, q string, rows [][]any) error
 }
@@ -114,26 +145,40 @@ type copier interface {
 }
 
 func (w *sqlWriter) FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error {
-	for _, c := range curves {
-		// A retried job writes the same curves again: keep the first.
-		err := w.q.exec(ctx, "INSERT INTO plate_curves (plate_id, key, compound_id, antagonist_id, antagonist_conc, status, log_ec50, result) "+
-			"VALUES ($1, $2, $3, $4, $5, $6, $7, $8) ON CONFLICT (plate_id, key) DO NOTHING",
-			plateID, c.Key, c.CompoundID, c.AntagonistID, c.AntagonistConc, c.Status, c.LogEC50, string(c.Result))
-		if err != nil {
-			return w.e.translate(err)
+	const op = "FinishPlate"
+	qcDoc, ok := jsonDoc(qc, "")
+	if !ok {
+		return w.invalid(op, plateID, "qc")
+	}
+	rows := make([][]any, len(curves))
+	for i, c := range curves {
+		res, ok := jsonDoc(c.Result, "")
+		if !ok || res == nil {
+			return w.invalid(op, plateID, "curves/"+c.Key+"/result")
 		}
+		rows[i] = []any{plateID, c.Key, c.CompoundID, c.AntagonistID, c.AntagonistConc, c.Status, c.LogEC50, res}
 	}
-	var q any
-	if qc != nil {
-		q = string(qc)
+	// A retried job writes the same curves again: keep the first.
+	const q = "INSERT INTO plate_curves (plate_id, key, compound_id, antagonist_id, antagonist_conc, status, log_ec50, result) " +
+		"VALUES ($1, $2, $3, $4, $5, $6, $7, $8) ON CONFLICT (plate_id, key) DO NOTHING"
+	if err := w.execMany(ctx, op, plateID, q, rows); err != nil {
+		return err
 	}
-	return w.e.translate(w.q.exec(ctx, "UPDATE plates SET status = $2, qc = $3, curves_done = curves_total, error = $4 WHERE id = $1",
-		plateID, status, q, errText))
+	n, err := w.exec(ctx, op, plateID, "UPDATE plates SET status = $2, qc = $3, curves_done = curves_total, error = $4 WHERE id = $1",
+		plateID, status, qcDoc, errText)
+	if err != nil {
+		return err
+	}
+	if n == 0 {
+		return w.abort(&Error{Op: op, Key: plateID, Err: ErrNotFound})
+	}
+	return nil
 }
 
 func (s *sqlStore) SetPlateProgress(ctx context.Context, plateID, status string, done, total int) error {
-	return s.e.translate(s.e.exec(ctx, "UPDATE plates SET status = $2, curves_done = $3, curves_total = $4 WHERE id = $1 AND status <> 'done'",
-		plateID, status, done, total))
+	_, err := s.e.exec(ctx, "UPDATE plates SET status = $2, curves_done = $3, curves_total = $4 WHERE id = $1 AND status <> 'done'",
+		plateID, status, done, total)
+	return s.read("SetPlateProgress", plateID, err)
 }
 
 func (s *sqlStore) Plate(ctx context.Context, id string) (*Plate, error) {
@@ -147,7 +192,7 @@ func (s *sqlStore) Plate(ctx context.Context, id string) (*Plate, error) {
 		&p.Barcode, &p.Format, &measured, &p.ConcUnit, &p.Mode, &p.Settings, &p.InputSHA256, &job, &p.Status, &qc,
 		&p.CurvesTotal, &p.CurvesDone, &p.Error)
 	if err != nil {
-		return nil, s.e.translate(err)
+		return nil, s.read("Plate", id, err)
 	}
 	p.CreatedAt, p.AssayID = created.t, deref(assay)
 	if measured != nil && !measured.t.IsZero() {
@@ -166,7 +211,7 @@ func (s *sqlStore) Plate(ctx context.Context, id string) (*Plate, error) {
 func (s *sqlStore) PlateByJob(ctx context.Context, jobID int64) (*Plate, error) {
 	var id string
 	if err := s.e.queryRow(ctx, "SELECT id FROM plates WHERE job_id = $1", jobID).Scan(&id); err != nil {
-		return nil, s.e.translate(err)
+		return nil, s.read("PlateByJob", strconv.FormatInt(jobID, 10), err)
 	}
 	return s.Plate(ctx, id)
 }
@@ -175,41 +220,45 @@ func (s *sqlStore) Wells(ctx context.Context, plateID string) ([]WellRow, error)
 	rows, err := s.e.query(ctx, "SELECT well, row_index, col_index, role, compound_id, conc, value, antagonist_id, antagonist_conc "+
 		"FROM wells WHERE plate_id = $1 ORDER BY row_index, col_index", plateID)
 	if err != nil {
-		return nil, s.e.translate(err)
+		return nil, s.read("Wells", plateID, err)
 	}
 	defer rows.Close()
 	var out []WellRow
 	for rows.Next() {
 		var w WellRow
 		if err := rows.Scan(&w.Well, &w.Row, &w.Col, &w.Role, &w.CompoundID, &w.Conc, &w.Value, &w.AntagonistID, &w.AntagonistConc); err != nil {
-			return nil, s.e.translate(err)
+			return nil, s.read("Wells", plateID, err)
 		}
 		out = append(out, w)
 	}
-	return out, s.e.translate(rows.Err())
+	return out, s.read("Wells", plateID, rows.Err())
 }
 
 func (s *sqlStore) PlateCurves(ctx context.Context, plateID string) ([]PlateCurve, error) {
 	rows, err := s.e.query(ctx, "SELECT key, compound_id, antagonist_id, antagonist_conc, status, log_ec50, result "+
 		"FROM plate_curves WHERE plate_id = $1 ORDER BY key", plateID)
 	if err != nil {
-		return nil, s.e.translate(err)
+		return nil, s.read("PlateCurves", plateID, err)
 	}
 	defer rows.Close()
 	var out []PlateCurve
 	for rows.Next() {
 		var c PlateCurve
 		if err := rows.Scan(&c.Key, &c.CompoundID, &c.AntagonistID, &c.AntagonistConc, &c.Status, &c.LogEC50, &c.Result); err != nil {
-			return nil, s.e.translate(err)
+			return nil, s.read("PlateCurves", plateID, err)
 		}
 		out = append(out, c)
 	}
-	return out, s.e.translate(rows.Err())
+	return out, s.read("PlateCurves", plateID, rows.Err())
 }
 
 func (w *sqlWriter) InsertLayout(ctx context.Context, l *Layout) error {
-	return w.e.translate(w.q.exec(ctx, "INSERT INTO layouts (id, name, format, wells, created_at, created_by) VALUES ($1, $2, $3, $4, $5, $6)",
-		l.ID, l.Name, l.Format, string(l.Wells), w.e.timeArg(l.CreatedAt), l.CreatedBy))
+	wells, ok := jsonDoc(l.Wells, "")
+	if !ok || wells == nil {
+		return w.invalid("InsertLayout", l.ID, "wells")
+	}
+	return w.insert(ctx, "InsertLayout", l.ID, "INSERT INTO layouts (id, name, format, wells, created_at, created_by) VALUES ($1, $2, $3, $4, $5, $6)",
+		l.ID, l.Name, l.Format, wells, w.e.timeArg(l.CreatedAt), l.CreatedBy)
 }
 
 func (s *sqlStore) Layout(ctx context.Context, id string) (*Layout, error) {
@@ -218,7 +267,7 @@ func (s *sqlStore) Layout(ctx context.Context, id string) (*Layout, error) {
 	err := s.e.queryRow(ctx, "SELECT id, name, format, wells, created_at, created_by FROM layouts WHERE id = $1", id).
 		Scan(&l.ID, &l.Name, &l.Format, &l.Wells, &t, &l.CreatedBy)
 	if err != nil {
-		return nil, s.e.translate(err)
+		return nil, s.read("Layout", id, err)
 	}
 	l.CreatedAt = t.t
 	return &l, nil

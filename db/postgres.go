@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"strings"
 	"time"
 
 	"github.com/jackc/pgx/v5"
@@ -52,9 +53,9 @@ func openPostgres(ctx context.Context, url string) (*sqlStore, error) {
 	return &sqlStore{e: &pgEngine{pool: pool}, q: q}, nil
 }
 
-func (e *pgEngine) exec(ctx context.Context, q string, args ...any) error {
-	_, err := e.pool.Exec(ctx, q, args...)
-	return err
+func (e *pgEngine) exec(ctx context.Context, q string, args ...any) (int64, error) {
+	tag, err := e.pool.Exec(ctx, q, args...)
+	return tag.RowsAffected(), err
 }
 
 func (e *pgEngine) queryRow(ctx context.Context, q string, args ...any) rowScanner {
@@ -65,40 +66,12 @@ func (e *pgEngine) query(ctx context.Context, q string, args ...any) (rowsScanne
 	return e.pool.Query(ctx, q, args...)
 }
 
-// inTx runs fn atomically. A write that only executes statements (every
-// Writer method today) is sent as one pipelined batch: PostgreSQL runs the
-// statements before a Sync as one implicit transaction, rolled back whole on
-// any error (PostgreSQL docs, "Pipelining" in the frontend/backend
-// protocol), so the write costs one round trip instead of one per statement
-// plus BEGIN and COMMIT. A write that reads is run again inside an explicit
-// transaction.
+// inTx runs fn in one transaction (BEGIN … COMMIT), rolled back when fn
+// returns an error. Each statement's error reaches fn as it happens; bulk
+// rows go out in one round trip inside it (COPY for wells, a pipelined
+// pgx.Batch for curves).
 func (e *pgEngine) inTx(ctx context.Context, fn func(querier) error) error {
-	rec := &pgRecorder{}
-	err := fn(rec)
-	if err != nil && !errors.Is(err, errNeedsTx) {
-		return err
-	}
-	if rec.read || errors.Is(err, errNeedsTx) {
-		return pgx.BeginFunc(ctx, e.pool, func(tx pgx.Tx) error { return fn(pgTx{tx}) })
-	}
-	if rec.batch.Len() == 0 {
-		return nil
-	}
-	return e.pool.SendBatch(ctx, &rec.batch).Close()
-}
-
-// errNeedsTx stops a recorded write that tries to read.
-var errNeedsTx = errors.New("write reads: needs a transaction")
-
-// pgRecorder queues a write's statements into a batch.
-type pgRecorder struct {
-	batch pgx.Batch
-	read  bool
-}
-
-func (r *pgRecorder) exec(ctx context.Context, q string, args ...any) error {
-	r.batch.Queue(q, args...)
-	return nil
+	return pgx.BeginFunc(ctx, e.pool, func(tx pgx.Tx) error { return fn(pgTx{tx}) })
 }
 
 // copyWells bulk-loads wells with COPY.
@@ -113,20 +86,6 @@ func (t pgTx) copyWells(ctx context.Context, plateID string, wells []WellRow) er
 	return err
 }
 
-func (r *pgRecorder) queryRow(ctx context.Context, q string, args ...any) rowScanner {
-	r.read = true
-	return errRow{errNeedsTx}
-}
-
-func (r *pgRecorder) query(ctx context.Context, q string, args ...any) (rowsScanner, error) {
-	r.read = true
-	return nil, errNeedsTx
-}
-
-type errRow struct{ err error }
-
-func (r errRow) Scan(...any) error { return r.err }
-
 func (e *pgEngine) ping(ctx context.Context) error { return e.pool.Ping(ctx) }
 func (e *pgEngine) close()                         { e.pool.Close() }
 func (e *pgEngine) name() string                   { return "postgres" }
@@ -137,33 +96,45 @@ func (e *pgEngine) stats() PoolStats {
 	return PoolStats{Max: int(s.MaxConns()), Open: int(s.TotalConns()), InUse: int(s.AcquiredConns()), Idle: int(s.IdleConns())}
 }
 
-// translate maps pgx's errors and SQLSTATEs (PostgreSQL Appendix A) to the
-// store's.
-func (e *pgEngine) translate(err error) error {
-	if err == nil {
-		return nil
-	}
+// classify maps pgx's errors and SQLSTATEs (PostgreSQL documentation,
+// Appendix A, "PostgreSQL Error Codes") to the store's categories.
+func (e *pgEngine) classify(err error) error {
 	if errors.Is(err, pgx.ErrNoRows) {
-		return fmt.Errorf("%w (%v)", ErrNotFound, err)
+		return ErrNotFound
 	}
 	var pe *pgconn.PgError
-	if errors.As(err, &pe) {
-		switch pe.Code {
-		case "23505": // unique_violation
-			return fmt.Errorf("%w: %s", ErrExists, pe.Message)
-		case "23503": // foreign_key_violation
-			return fmt.Errorf("%w: %s", ErrReference, pe.Detail)
-		}
+	if !errors.As(err, &pe) {
+		return nil
 	}
-	return err
+	switch {
+	case pe.Code == "23505": // unique_violation
+		return ErrExists
+	case pe.Code == "23503": // foreign_key_violation
+		return ErrReference
+	case pe.Code == "23502", pe.Code == "23514": // not_null_violation, check_violation
+		return ErrInvalid
+	case strings.HasPrefix(pe.Code, "22"): // class 22, data exception
+		return ErrInvalid
+	}
+	return nil
 }
 
 // pgTx adapts a transaction.
 type pgTx struct{ tx pgx.Tx }
 
-func (t pgTx) exec(ctx context.Context, q string, args ...any) error {
-	_, err := t.tx.Exec(ctx, q, args...)
-	return err
+func (t pgTx) exec(ctx context.Context, q string, args ...any) (int64, error) {
+	tag, err := t.tx.Exec(ctx, q, args...)
+	return tag.RowsAffected(), err
+}
+
+// execMany runs one statement for many rows as one pipelined batch inside
+// the transaction: one round trip, and the first failing row's error.
+func (t pgTx) execMany(ctx context.Context, q string, rows [][]any) error {
+	var b pgx.Batch
+	for _, r := range rows {
+		b.Queue(q, r...)
+	}
+	return t.tx.SendBatch(ctx, &b).Close()
 }
 
 func (t pgTx) queryRow(ctx context.Context, q string, args ...any) rowScanner {

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"strconv"
 	"time"
 
 	"github.com/riverqueue/river"
@@ -83,7 +84,7 @@ func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx],
 func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args PlateFitArgs) (int64, error) {
 	tx, ok := q.txOf(qr)
 	if !ok {
-		return 0, errNeedsTx
+		return 0, errors.New("enqueue outside a transaction")
 	}
 	res, err := q.insert.InsertTx(ctx, tx, args, &river.InsertOpts{MaxAttempts: maxAttempts})
 	if err != nil {
@@ -95,10 +96,10 @@ func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args PlateFit
 func (q *riverQueue[TTx]) job(ctx context.Context, id int64) (*Job, error) {
 	row, err := q.insert.JobGet(ctx, id)
 	if errors.Is(err, river.ErrNotFound) {
-		return nil, fmt.Errorf("%w: job %d", ErrNotFound, id)
+		return nil, &Error{Op: "Job", Key: strconv.FormatInt(id, 10), Err: ErrNotFound}
 	}
 	if err != nil {
-		return nil, err
+		return nil, &Error{Op: "Job", Key: strconv.FormatInt(id, 10), Err: err, cause: err}
 	}
 	return jobOf(row), nil
 }

@@ -57,9 +57,15 @@ func openSQLite(ctx context.Context, dir string) (*sqlStore, error) {
 	return &sqlStore{e: &sqliteEngine{db: db}, q: q}, nil
 }
 
-func (e *sqliteEngine) exec(ctx context.Context, q string, args ...any) error {
-	_, err := e.db.ExecContext(ctx, q, args...)
-	return err
+func (e *sqliteEngine) exec(ctx context.Context, q string, args ...any) (int64, error) {
+	return rowsAffected(e.db.ExecContext(ctx, q, args...))
+}
+
+func rowsAffected(r sql.Result, err error) (int64, error) {
+	if err != nil {
+		return 0, err
+	}
+	return r.RowsAffected()
 }
 
 func (e *sqliteEngine) queryRow(ctx context.Context, q string, args ...any) rowScanner {
@@ -74,6 +80,9 @@ func (e *sqliteEngine) query(ctx context.Context, q string, args ...any) (rowsSc
 	return sqlRows{rows}, nil
 }
 
+// inTx runs fn in one transaction, begun IMMEDIATE (the DSN's _txlock)
+// so that two writers queue on the busy timeout instead of failing on
+// upgrade; SQLite has one writer at a time.
 func (e *sqliteEngine) inTx(ctx context.Context, fn func(querier) error) error {
 	tx, err := e.db.BeginTx(ctx, nil)
 	if err != nil {
@@ -96,33 +105,32 @@ func (e *sqliteEngine) stats() PoolStats {
 	return PoolStats{Max: s.MaxOpenConnections, Open: s.OpenConnections, InUse: s.InUse, Idle: s.Idle}
 }
 
-// translate maps database/sql's and SQLite's result codes
-// (https://sqlite.org/rescode.html) to the store's errors.
-func (e *sqliteEngine) translate(err error) error {
-	if err == nil {
-		return nil
-	}
+// classify maps database/sql's errors and SQLite's extended result codes
+// (https://sqlite.org/rescode.html) to the store's categories.
+func (e *sqliteEngine) classify(err error) error {
 	if errors.Is(err, sql.ErrNoRows) {
-		return fmt.Errorf("%w (%v)", ErrNotFound, err)
+		return ErrNotFound
 	}
 	var se *sqlite.Error
-	if errors.As(err, &se) {
-		switch se.Code() {
-		case sqlite3.SQLITE_CONSTRAINT_PRIMARYKEY, sqlite3.SQLITE_CONSTRAINT_UNIQUE:
-			return fmt.Errorf("%w: %v", ErrExists, se)
-		case sqlite3.SQLITE_CONSTRAINT_FOREIGNKEY:
-			return fmt.Errorf("%w: %v", ErrReference, se)
-		}
+	if !errors.As(err, &se) {
+		return nil
 	}
-	return err
+	switch se.Code() {
+	case sqlite3.SQLITE_CONSTRAINT_PRIMARYKEY, sqlite3.SQLITE_CONSTRAINT_UNIQUE:
+		return ErrExists
+	case sqlite3.SQLITE_CONSTRAINT_FOREIGNKEY:
+		return ErrReference
+	case sqlite3.SQLITE_CONSTRAINT_CHECK, sqlite3.SQLITE_CONSTRAINT_NOTNULL, sqlite3.SQLITE_MISMATCH:
+		return ErrInvalid
+	}
+	return nil
 }
 
 // sqlTx and sqlRows adapt database/sql.
 type sqlTx struct{ tx *sql.Tx }
 
-func (t sqlTx) exec(ctx context.Context, q string, args ...any) error {
-	_, err := t.tx.ExecContext(ctx, q, args...)
-	return err
+func (t sqlTx) exec(ctx context.Context, q string, args ...any) (int64, error) {
+	return rowsAffected(t.tx.ExecContext(ctx, q, args...))
 }
 
 func (t sqlTx) queryRow(ctx context.Context, q string, args ...any) rowScanner {

@@ -2,106 +2,57 @@ package db
 
 import (
 	"context"
-	"fmt"
 	"strconv"
 	"strings"
 )
 
-const fitCols = "id, created_at, submitted_by, assay_id, compound_id, refit_of, model, status, log_ec50, " +
-	"engine_version, input_sha256, settings, input, result, labels"
+// A fit run is a curve result of kind KindFit; these methods keep the
+// FitRun view of it.
 
 func (w *sqlWriter) InsertFitRun(ctx context.Context, r *FitRun) error {
 	const op = "InsertFitRun"
-	docs := [...]struct {
-		name string
-		doc  []byte
-		def  string
-	}{{"settings", r.Settings, ""}, {"input", r.Input, ""}, {"result", r.Result, ""}, {"labels", r.Labels, "{}"}}
-	var vals [len(docs)]any
-	for i, d := range docs {
-		v, ok := jsonDoc(d.doc, d.def)
-		if !ok || v == nil {
-			return w.invalid(op, r.ID, d.name)
-		}
-		vals[i] = v
+	cr := &CurveResult{ID: r.ID, Kind: KindFit, AssayID: r.AssayID, CompoundID: r.CompoundID, MeasuredAt: r.MeasuredAt,
+		CreatedAt: r.CreatedAt, SubmittedBy: r.SubmittedBy, RefitOf: r.RefitOf, Model: r.Model, Status: r.Status,
+		EngineVersion: r.EngineVersion, InputSHA256: r.InputSHA256, Settings: r.Settings, Input: r.Input, Result: r.Result,
+		Labels: r.Labels, Params: r.Params, BootCols: r.BootCols, BootDraws: r.BootDraws}
+	cr.LogEC50, cr.Hill, cr.Top, cr.Bottom = estimateOf(r.Params, "log_ec50"), estimateOf(r.Params, "hill"),
+		estimateOf(r.Params, "top"), estimateOf(r.Params, "bottom")
+	cr.LogEC50.Value = r.LogEC50
+	args, field := w.resultArgs(cr)
+	if field != "" {
+		return w.invalid(op, r.ID, field)
 	}
-	err := w.insert(ctx, op, r.ID, "INSERT INTO fit_runs ("+fitCols+") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, $13, $14, $15)",
-		r.ID, w.e.timeArg(r.CreatedAt), r.SubmittedBy, nullString(r.AssayID), nullString(r.CompoundID), nullString(r.RefitOf),
-		r.Model, r.Status, r.LogEC50, r.EngineVersion, r.InputSHA256, vals[0], vals[1], vals[2], vals[3])
-	if err != nil || len(r.Params) == 0 {
-		return err
-	}
-	// One multi-row INSERT for the parameters.
-	var b strings.Builder
-	b.WriteString("INSERT INTO fit_params (run_id, ord, name, estimate, se, wald_lo, wald_hi, boot_lo, boot_hi, fixed, at_bound) VALUES ")
-	args := make([]any, 0, 11*len(r.Params))
-	for i, p := range r.Params {
-		if i > 0 {
-			b.WriteString(", ")
-		}
-		b.WriteByte('(')
-		for k := 1; k <= 11; k++ {
-			if k > 1 {
-				b.WriteString(", ")
-			}
-			b.WriteByte('$')
-			b.WriteString(strconv.Itoa(11*i + k))
-		}
-		b.WriteByte(')')
-		args = append(args, r.ID, i, p.Name, p.Estimate, p.SE, p.WaldLo, p.WaldHi, p.BootLo, p.BootHi, p.Fixed, p.AtBound)
-	}
-	_, err = w.exec(ctx, op, r.ID, b.String(), args...)
-	return err
+	return w.insert(ctx, op, r.ID, resultInsert, args...)
+}
+
+func fitRunOf(c *CurveResult) *FitRun {
+	return &FitRun{ID: c.ID, CreatedAt: c.CreatedAt, SubmittedBy: c.SubmittedBy, AssayID: c.AssayID, CompoundID: c.CompoundID,
+		RefitOf: c.RefitOf, Model: c.Model, Status: c.Status, LogEC50: c.LogEC50.Value, EngineVersion: c.EngineVersion,
+		InputSHA256: c.InputSHA256, Settings: c.Settings, Input: c.Input, Result: c.Result, Labels: c.Labels, Params: c.Params,
+		MeasuredAt: c.MeasuredAt, BootCols: c.BootCols, BootDraws: c.BootDraws}
 }
 
 func (s *sqlStore) FitRun(ctx context.Context, id string) (*FitRun, error) {
-	r, err := scanFitRun(s.e.queryRow(ctx, "SELECT "+fitCols+" FROM fit_runs WHERE id = $1", id))
+	c, err := scanResult(s.e.queryRow(ctx, "SELECT "+resultCols+" FROM curve_results WHERE id = $1 AND kind = 'fit'", id))
 	if err != nil {
 		return nil, s.read("FitRun", id, err)
 	}
-	rows, err := s.e.query(ctx, "SELECT name, estimate, se, wald_lo, wald_hi, boot_lo, boot_hi, fixed, at_bound "+
-		"FROM fit_params WHERE run_id = $1 ORDER BY ord", id)
-	if err != nil {
-		return nil, s.read("FitRun", id, err)
-	}
-	defer rows.Close()
-	for rows.Next() {
-		var p FitParam
-		if err := rows.Scan(&p.Name, &p.Estimate, &p.SE, &p.WaldLo, &p.WaldHi, &p.BootLo, &p.BootHi, &p.Fixed, &p.AtBound); err != nil {
-			return nil, s.read("FitRun", id, err)
-		}
-		r.Params = append(r.Params, p)
-	}
-	return r, s.read("FitRun", id, rows.Err())
-}
-
-func scanFitRun(row rowScanner) (*FitRun, error) {
-	var r FitRun
-	var t dbTime
-	var assay, compound, refit *string
-	err := row.Scan(&r.ID, &t, &r.SubmittedBy, &assay, &compound, &refit, &r.Model, &r.Status, &r.LogEC50,
-		&r.EngineVersion, &r.InputSHA256, &r.Settings, &r.Input, &r.Result, &r.Labels)
-	if err != nil {
-		return nil, err
-	}
-	r.CreatedAt = t.t
-	r.AssayID, r.CompoundID, r.RefitOf = deref(assay), deref(compound), deref(refit)
-	return &r, nil
+	return fitRunOf(c), nil
 }
 
 // MaxListLimit bounds a page of FitRuns.
 const MaxListLimit = 1000
 
 func (s *sqlStore) FitRuns(ctx context.Context, f FitFilter) ([]FitRun, string, error) {
+	const op = "FitRuns"
 	limit := f.Limit
 	if limit == 0 {
 		limit = 100
 	}
 	if limit < 0 || limit > MaxListLimit {
-		return nil, "", &Error{Op: "FitRuns", Field: "limit", Err: ErrInvalid,
-			cause: fmt.Errorf("limit %d is outside 1–%d", f.Limit, MaxListLimit)}
+		return nil, "", &Error{Op: op, Field: "limit", Err: ErrInvalid}
 	}
-	var where []string
+	where := []string{"kind = 'fit'"}
 	var args []any
 	add := func(cond string, v any) {
 		args = append(args, v)
@@ -122,28 +73,17 @@ func (s *sqlStore) FitRuns(ctx context.Context, f FitFilter) ([]FitRun, string, 
 	if f.Cursor != "" {
 		add("id < ?", f.Cursor)
 	}
-	q := "SELECT " + fitCols + " FROM fit_runs"
-	if len(where) > 0 {
-		q += " WHERE " + strings.Join(where, " AND ")
-	}
 	// IDs are time-ordered (UUIDv7), so id order is creation order.
 	args = append(args, limit+1)
-	q += " ORDER BY id DESC LIMIT $" + strconv.Itoa(len(args))
-	rows, err := s.e.query(ctx, q, args...)
+	q := "SELECT " + resultCols + " FROM curve_results WHERE " + strings.Join(where, " AND ") +
+		" ORDER BY id DESC LIMIT $" + strconv.Itoa(len(args))
+	cs, err := s.results(ctx, op, "", q, args...)
 	if err != nil {
-		return nil, "", s.read("FitRuns", "", err)
+		return nil, "", err
 	}
-	defer rows.Close()
-	var out []FitRun
-	for rows.Next() {
-		r, err := scanFitRun(rows)
-		if err != nil {
-			return nil, "", s.read("FitRuns", "", err)
-		}
-		out = append(out, *r)
-	}
-	if err := rows.Err(); err != nil {
-		return nil, "", s.read("FitRuns", "", err)
+	out := make([]FitRun, len(cs))
+	for i := range cs {
+		out[i] = *fitRunOf(&cs[i])
 	}
 	next := ""
 	if len(out) > limit {

@@ -22,6 +22,9 @@ type Plate struct {
 	JobID       int64
 	Status      string // queued, running, done, failed
 	QC          []byte // JSON, nil until assessed
+	// Figures are the QC figures as stored in columns (SetPlateQC); nil
+	// until assessed.
+	Figures     *PlateQC
 	CurvesTotal int
 	CurvesDone  int
 	Error       string
@@ -47,15 +50,29 @@ type WellRow struct {
 	AntagonistConc float64
 }
 
-// PlateCurve is one fitted curve of a plate.
+// PlateCurve is one fitted curve of a plate: a curve result of kind
+// KindPlateCurve, whose assay, experiment time, submitter, settings and
+// input hash are its plate's.
 type PlateCurve struct {
+	// ID is the curve result's ID; "" makes FinishPlate use
+	// "<plate ID>:<key>", so that a retried job makes the same.
+	ID             string
 	Key            string
 	CompoundID     string
 	AntagonistID   string
 	AntagonistConc float64
+	Model          string
 	Status         string
-	LogEC50        *float64
-	Result         []byte // the result object, JSON
+	LogEC50        *float64 // set for a usable (converged) fit only
+	Result         []byte   // the result object, JSON
+	EngineVersion  string
+	Params         []FitParam
+	// BootDraws as in CurveResult: B × BootCols, row by row.
+	BootCols  int
+	BootDraws []float64
+	// CreatedAt is when the curve was stored; zero means the time of
+	// FinishPlate.
+	CreatedAt time.Time
 }
 
 // Layout is a saved plate map, reused across plates.
@@ -144,24 +161,57 @@ type copier interface {
 	copyWells(ctx context.Context, plateID string, wells []WellRow) error
 }
 
+// FinishPlate stores the plate's curves as curve results (their assay,
+// measured_at, submitter, settings and input hash are the plate's), keeping
+// any stored by an earlier attempt, then its status, QC document and error.
 func (w *sqlWriter) FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error {
 	const op = "FinishPlate"
 	qcDoc, ok := jsonDoc(qc, "")
 	if !ok {
 		return w.invalid(op, plateID, "qc")
 	}
+	if w.err != nil {
+		return w.err
+	}
+	var p CurveResult
+	var created dbTime
+	var measured *dbTime
+	var assay *string
+	err := w.q.queryRow(ctx, "SELECT assay_id, created_at, measured_at, submitted_by, settings, input_sha256 FROM plates WHERE id = $1", plateID).
+		Scan(&assay, &created, &measured, &p.SubmittedBy, &p.Settings, &p.InputSHA256)
+	if err != nil {
+		return w.abort(opError(op, plateID, err, w.e.classify))
+	}
+	p.AssayID, p.MeasuredAt = deref(assay), created.t
+	if measured != nil && !measured.t.IsZero() {
+		p.MeasuredAt = measured.t
+	}
+	now := time.Now().UTC()
 	rows := make([][]any, len(curves))
 	for i, c := range curves {
-		res, ok := jsonDoc(c.Result, "")
-		if !ok || res == nil {
-			return w.invalid(op, plateID, "curves/"+c.Key+"/result")
+		r := p
+		r.ID, r.Kind, r.PlateID, r.CurveKey = c.ID, KindPlateCurve, plateID, c.Key
+		if r.ID == "" {
+			r.ID = plateID + ":" + c.Key
 		}
-		rows[i] = []any{plateID, c.Key, c.CompoundID, c.AntagonistID, c.AntagonistConc, c.Status, c.LogEC50, res}
+		r.CompoundID, r.AntagonistID, r.AntagonistConc = c.CompoundID, c.AntagonistID, c.AntagonistConc
+		r.CreatedAt = c.CreatedAt
+		if r.CreatedAt.IsZero() {
+			r.CreatedAt = now
+		}
+		r.Model, r.Status, r.Result, r.EngineVersion, r.Params = c.Model, c.Status, c.Result, c.EngineVersion, c.Params
+		r.BootCols, r.BootDraws = c.BootCols, c.BootDraws
+		r.LogEC50, r.Hill, r.Top, r.Bottom = estimateOf(c.Params, "log_ec50"), estimateOf(c.Params, "hill"),
+			estimateOf(c.Params, "top"), estimateOf(c.Params, "bottom")
+		r.LogEC50.Value = c.LogEC50
+		args, field := w.resultArgs(&r)
+		if field != "" {
+			return w.invalid(op, plateID, "curves/"+c.Key+"/"+field)
+		}
+		rows[i] = args
 	}
 	// A retried job writes the same curves again: keep the first.
-	const q = "INSERT INTO plate_curves (plate_id, key, compound_id, antagonist_id, antagonist_conc, status, log_ec50, result) " +
-		"VALUES ($1, $2, $3, $4, $5, $6, $7, $8) ON CONFLICT (plate_id, key) DO NOTHING"
-	if err := w.execMany(ctx, op, plateID, q, rows); err != nil {
+	if err := w.execMany(ctx, op, plateID, resultInsert+" ON CONFLICT DO NOTHING", rows); err != nil {
 		return err
 	}
 	n, err := w.exec(ctx, op, plateID, "UPDATE plates SET status = $2, qc = $3, curves_done = curves_total, error = $4 WHERE id = $1",
@@ -188,9 +238,10 @@ func (s *sqlStore) Plate(ctx context.Context, id string) (*Plate, error) {
 	var assay *string
 	var qc *string
 	var job *int64
-	err := s.e.queryRow(ctx, "SELECT "+plateCols+" FROM plates WHERE id = $1", id).Scan(&p.ID, &created, &p.SubmittedBy, &assay,
-		&p.Barcode, &p.Format, &measured, &p.ConcUnit, &p.Mode, &p.Settings, &p.InputSHA256, &job, &p.Status, &qc,
-		&p.CurvesTotal, &p.CurvesDone, &p.Error)
+	var figs qcScan
+	dest := append([]any{&p.ID, &created, &p.SubmittedBy, &assay, &p.Barcode, &p.Format, &measured, &p.ConcUnit, &p.Mode,
+		&p.Settings, &p.InputSHA256, &job, &p.Status, &qc, &p.CurvesTotal, &p.CurvesDone, &p.Error}, figs.dest()...)
+	err := s.e.queryRow(ctx, "SELECT "+plateCols+", "+plateQCCols+" FROM plates WHERE id = $1", id).Scan(dest...)
 	if err != nil {
 		return nil, s.read("Plate", id, err)
 	}
@@ -204,6 +255,9 @@ func (s *sqlStore) Plate(ctx context.Context, id string) (*Plate, error) {
 	}
 	if job != nil {
 		p.JobID = *job
+	}
+	if p.Figures, err = figs.figures(); err != nil {
+		return nil, s.read("Plate", id, err)
 	}
 	return &p, nil
 }
@@ -235,21 +289,18 @@ func (s *sqlStore) Wells(ctx context.Context, plateID string) ([]WellRow, error)
 }
 
 func (s *sqlStore) PlateCurves(ctx context.Context, plateID string) ([]PlateCurve, error) {
-	rows, err := s.e.query(ctx, "SELECT key, compound_id, antagonist_id, antagonist_conc, status, log_ec50, result "+
-		"FROM plate_curves WHERE plate_id = $1 ORDER BY key", plateID)
+	cs, err := s.results(ctx, "PlateCurves", plateID,
+		"SELECT "+resultCols+" FROM curve_results WHERE plate_id = $1 ORDER BY curve_key", plateID)
 	if err != nil {
-		return nil, s.read("PlateCurves", plateID, err)
+		return nil, err
 	}
-	defer rows.Close()
-	var out []PlateCurve
-	for rows.Next() {
-		var c PlateCurve
-		if err := rows.Scan(&c.Key, &c.CompoundID, &c.AntagonistID, &c.AntagonistConc, &c.Status, &c.LogEC50, &c.Result); err != nil {
-			return nil, s.read("PlateCurves", plateID, err)
-		}
-		out = append(out, c)
+	out := make([]PlateCurve, len(cs))
+	for i, c := range cs {
+		out[i] = PlateCurve{ID: c.ID, Key: c.CurveKey, CompoundID: c.CompoundID, AntagonistID: c.AntagonistID,
+			AntagonistConc: c.AntagonistConc, Model: c.Model, Status: c.Status, LogEC50: c.LogEC50.Value, Result: c.Result,
+			EngineVersion: c.EngineVersion, Params: c.Params, BootCols: c.BootCols, BootDraws: c.BootDraws, CreatedAt: c.CreatedAt}
 	}
-	return out, s.read("PlateCurves", plateID, rows.Err())
+	return out, nil
 }
 
 func (w *sqlWriter) InsertLayout(ctx context.Context, l *Layout) error {

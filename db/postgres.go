@@ -11,6 +11,7 @@ import (
 	"github.com/jackc/pgx/v5/pgconn"
 	"github.com/jackc/pgx/v5/pgxpool"
 	"github.com/jackc/pgx/v5/stdlib"
+	"github.com/riverqueue/river/riverdriver"
 	"github.com/riverqueue/river/riverdriver/riverpgxv5"
 )
 
@@ -19,9 +20,10 @@ type pgEngine struct {
 	pool *pgxpool.Pool
 }
 
-// openPostgres connects a pool to url and applies the migrations. The pool
-// comes from pgxpool.ParseConfig, so the URL's pool_* parameters apply.
-func openPostgres(ctx context.Context, url string) (*sqlStore, error) {
+// openPostgres connects a pool to url and migrates (or checks) the schema.
+// The pool comes from pgxpool.ParseConfig, so the URL's pool_* parameters
+// apply.
+func openPostgres(ctx context.Context, url string, o Options) (*sqlStore, error) {
 	cfg, err := pgxpool.ParseConfig(url)
 	if err != nil {
 		return nil, fmt.Errorf("database URL: %w", err)
@@ -34,15 +36,12 @@ func openPostgres(ctx context.Context, url string) (*sqlStore, error) {
 		pool.Close()
 		return nil, fmt.Errorf("connect to PostgreSQL: %w", err)
 	}
-	// goose works on database/sql; open one over the same pool.
-	sqlDB := stdlib.OpenDBFromPool(pool)
-	err = migrate(ctx, sqlDB, "postgres")
-	sqlDB.Close()
-	if err != nil {
+	driver := riverpgxv5.New(pool)
+	if err := pgMigrate(ctx, pool, driver, o); err != nil {
 		pool.Close()
 		return nil, err
 	}
-	q, err := newRiverQueue(ctx, riverpgxv5.New(pool), func(q querier) (pgx.Tx, bool) {
+	q, err := newRiverQueue(ctx, driver, func(q querier) (pgx.Tx, bool) {
 		t, ok := q.(pgTx)
 		return t.tx, ok
 	}, 200*time.Millisecond)
@@ -51,6 +50,37 @@ func openPostgres(ctx context.Context, url string) (*sqlStore, error) {
 		return nil, err
 	}
 	return &sqlStore{e: &pgEngine{pool: pool}, q: q}, nil
+}
+
+// migrationLock is the key of the PostgreSQL advisory lock held while
+// migrating: the first 8 bytes of SHA-256("sluice migrations") as a signed
+// integer. It is per database, so schemas of one database (the tests')
+// migrate one at a time too.
+const migrationLock int64 = 0x0e5f050d9de802a5
+
+// pgMigrate runs the migrator under a session-level advisory lock
+// (pg_advisory_lock, PostgreSQL documentation §9.28.10) held on one
+// connection of the pool, so that replicas starting together migrate one
+// after the other and the later ones find nothing to do. Checking alone
+// takes no lock.
+func pgMigrate(ctx context.Context, pool *pgxpool.Pool, driver riverdriver.Driver[pgx.Tx], o Options) error {
+	// goose works on database/sql; open one over the same pool.
+	sqlDB := stdlib.OpenDBFromPool(pool)
+	defer sqlDB.Close()
+	m := migrator[pgx.Tx]{db: sqlDB, engine: "postgres", river: driver}
+	if o.SkipMigrations {
+		return m.check(ctx)
+	}
+	conn, err := pool.Acquire(ctx)
+	if err != nil {
+		return fmt.Errorf("migrations: %w", err)
+	}
+	defer conn.Release()
+	if _, err := conn.Exec(ctx, "SELECT pg_advisory_lock($1)", migrationLock); err != nil {
+		return fmt.Errorf("migrations: lock: %w", err)
+	}
+	defer conn.Exec(context.WithoutCancel(ctx), "SELECT pg_advisory_unlock($1)", migrationLock)
+	return m.up(ctx, o.to)
 }
 
 func (e *pgEngine) exec(ctx context.Context, q string, args ...any) (int64, error) {

@@ -9,7 +9,6 @@ import (
 
 	"github.com/riverqueue/river"
 	"github.com/riverqueue/river/riverdriver"
-	"github.com/riverqueue/river/rivermigrate"
 	"github.com/riverqueue/river/rivertype"
 )
 
@@ -67,13 +66,6 @@ type riverQueue[TTx any] struct {
 }
 
 func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(querier) (TTx, bool), poll time.Duration) (*riverQueue[TTx], error) {
-	m, err := rivermigrate.New(driver, nil)
-	if err != nil {
-		return nil, fmt.Errorf("job queue migrations: %w", err)
-	}
-	if _, err := m.Migrate(ctx, rivermigrate.DirectionUp, nil); err != nil {
-		return nil, fmt.Errorf("job queue migrations: %w", err)
-	}
 	insert, err := river.NewClient(driver, &river.Config{})
 	if err != nil {
 		return nil, fmt.Errorf("job queue: %w", err)

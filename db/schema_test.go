@@ -12,7 +12,6 @@ import (
 	"github.com/jackc/pgx/v5"
 
 	"sluice/db"
-	"sluice/db/dbtest"
 )
 
 // rawDB is a plain connection to a migrated store, for what the Store
@@ -24,12 +23,18 @@ type rawDB struct {
 
 // migratedSQLite migrates a fresh SQLite store and opens the file plainly.
 func migratedSQLite(t *testing.T) rawDB {
-	dir := t.TempDir()
-	s, err := db.Open(context.Background(), "", dir)
-	if err != nil {
-		t.Fatal(err)
-	}
-	s.Close()
+	raw, _, _ := rawAt(t, "sqlite", 0)
+	return raw
+}
+
+// migratedPostgres migrates a store in a fresh schema and connects to it.
+func migratedPostgres(t *testing.T) rawDB {
+	raw, _, _ := rawAt(t, "postgres", 0)
+	return raw
+}
+
+// sqliteRaw opens the store's file in dir plainly.
+func sqliteRaw(t *testing.T, dir string) rawDB {
 	conn, err := sql.Open("sqlite", "file:"+filepath.Join(dir, db.SQLiteFile)+"?_pragma=foreign_keys(1)")
 	if err != nil {
 		t.Fatal(err)
@@ -56,15 +61,9 @@ func migratedSQLite(t *testing.T) rawDB {
 	}
 }
 
-// migratedPostgres migrates a store in a fresh schema and connects to it.
-func migratedPostgres(t *testing.T) rawDB {
-	url := dbtest.PostgresURL(t)
+// pgRaw connects to the store at url plainly.
+func pgRaw(t *testing.T, url string) rawDB {
 	ctx := context.Background()
-	s, err := db.Open(ctx, url, "")
-	if err != nil {
-		t.Fatal(err)
-	}
-	s.Close()
 	conn, err := pgx.Connect(ctx, url)
 	if err != nil {
 		t.Fatal(err)
@@ -154,21 +153,20 @@ func TestResultsImmutable(t *testing.T) {
 		t.Run(name, func(t *testing.T) {
 			raw := open(t)
 			for _, q := range []string{
-				"INSERT INTO fit_runs (id, created_at, submitted_by, model, status, engine_version, input_sha256, settings, input, result) " +
-					"VALUES ('r1', '2026-11-03T09:30:00.000000Z', 'x', 'hill', 'converged', '0', '0', '{}', '{}', '{}')",
-				"INSERT INTO fit_params (run_id, ord, name, fixed, at_bound) VALUES ('r1', 0, 'top', false, false)",
+				"INSERT INTO curve_results (id, kind, measured_at, created_at, submitted_by, model, status, engine_version, input_sha256, settings, input, result) " +
+					"VALUES ('r1', 'fit', '2026-11-03T09:30:00.000000Z', '2026-11-03T09:30:00.000000Z', 'x', 'hill', 'converged', '0', '0', '{}', '{}', '{}')",
 			} {
 				if err := raw.exec(q); err != nil {
 					t.Fatal(err)
 				}
 			}
-			for _, q := range []string{"UPDATE fit_runs SET status = 'x'", "DELETE FROM fit_runs",
-				"UPDATE fit_params SET name = 'x'", "DELETE FROM fit_params"} {
-				if err := raw.exec(q); err == nil {
-					t.Errorf("%s succeeded", q)
+			for _, q := range []string{"UPDATE curve_results SET status = 'x'", "DELETE FROM curve_results",
+				"UPDATE curve_results SET hill = 2 WHERE id = 'r1'"} {
+				if err := raw.exec(q); err == nil || !strings.Contains(err.Error(), "immutable") {
+					t.Errorf("%s: %v, want the immutability trigger's refusal", q, err)
 				}
 			}
-			rows, err := raw.query("SELECT id, status FROM fit_runs")
+			rows, err := raw.query("SELECT id, status FROM curve_results")
 			if err != nil || fmt.Sprint(rows) != "[[r1 converged]]" {
 				t.Errorf("after the refused statements: %v %v", rows, err)
 			}

@@ -22,10 +22,10 @@ type sqliteEngine struct {
 // SQLiteFile is the database file's name in the data directory.
 const SQLiteFile = "sluice.db"
 
-// openSQLite opens (creating) dir/sluice.db in WAL mode and applies the
-// migrations. WAL with synchronous=NORMAL keeps every commit atomic and
+// openSQLite opens (creating) dir/sluice.db in WAL mode and migrates (or
+// checks) the schema. WAL with synchronous=NORMAL keeps every commit atomic and
 // durable across a process crash, and fsyncs only at checkpoints.
-func openSQLite(ctx context.Context, dir string) (*sqlStore, error) {
+func openSQLite(ctx context.Context, dir string, o Options) (*sqlStore, error) {
 	if err := os.MkdirAll(dir, 0o750); err != nil {
 		return nil, fmt.Errorf("data directory: %w", err)
 	}
@@ -42,11 +42,14 @@ func openSQLite(ctx context.Context, dir string) (*sqlStore, error) {
 		db.Close()
 		return nil, fmt.Errorf("open SQLite: %w", err)
 	}
-	if err := migrate(ctx, db, "sqlite"); err != nil {
+	// SQLite has one writer at a time and the file belongs to one process:
+	// migrations need no lock of their own.
+	driver := riversqlite.New(db)
+	if err := (migrator[*sql.Tx]{db: db, engine: "sqlite", river: driver}).prepare(ctx, o); err != nil {
 		db.Close()
 		return nil, err
 	}
-	q, err := newRiverQueue(ctx, riversqlite.New(db), func(q querier) (*sql.Tx, bool) {
+	q, err := newRiverQueue(ctx, driver, func(q querier) (*sql.Tx, bool) {
 		t, ok := q.(sqlTx)
 		return t.tx, ok
 	}, 100*time.Millisecond)

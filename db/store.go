@@ -46,6 +46,11 @@ type Results interface {
 	// FitRuns lists runs newest first and returns the cursor of the next
 	// page ("" on the last).
 	FitRuns(ctx context.Context, f FitFilter) (runs []FitRun, next string, err error)
+	// CurveResult returns a stored curve result of either kind.
+	CurveResult(ctx context.Context, id string) (*CurveResult, error)
+	// CompoundCurves returns a compound's curve results, single fits and
+	// plate curves alike, oldest experiment (measured_at) first.
+	CompoundCurves(ctx context.Context, f CurveFilter) ([]CurveResult, error)
 	SchildRun(ctx context.Context, id string) (*SchildRun, error)
 	// PlateSchildRuns lists a plate's Schild runs by agonist, antagonist.
 	PlateSchildRuns(ctx context.Context, plateID string) ([]SchildRun, error)
@@ -64,6 +69,9 @@ type Plates interface {
 	// SetPlateProgress records a running job's progress (outside any
 	// transaction: it is advisory).
 	SetPlateProgress(ctx context.Context, plateID, status string, done, total int) error
+	// PlateQCSeries returns one QC metric over an assay's assessed plates,
+	// oldest experiment first.
+	PlateQCSeries(ctx context.Context, assayID, metric string, from, to time.Time) ([]QCPoint, error)
 }
 
 // Tokens reads API tokens.
@@ -129,5 +137,7 @@ type Writer interface {
 	// FinishPlate stores a plate's curves (keeping any stored by an
 	// earlier attempt) and its final status, QC and error.
 	FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error
+	// SetPlateQC stores a plate's QC figures as columns.
+	SetPlateQC(ctx context.Context, plateID string, qc *PlateQC) error
 	InsertSchildRun(ctx context.Context, r *SchildRun) error
 }

@@ -14,6 +14,7 @@ import (
 
 	"sluice/api/ingest"
 	"sluice/api/plot"
+	"sluice/api/service"
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
@@ -383,15 +384,15 @@ func openFraction(m fit.Model, theta []float64) func(float64) float64 {
 // estimates.
 func (s *Server) redrawBootstrap(run *db.FitRun, res *wire.StoredFit) ([][]float64, error) {
 	var input struct {
-		ConcUnit string    `json:"conc_unit"`
-		Points   []PointIn `json:"points"`
+		ConcUnit string         `json:"conc_unit"`
+		Points   []wire.PointIn `json:"points"`
 	}
 	var settings struct {
 		Model      string             `json:"model"`
 		Fixed      map[string]float64 `json:"fixed"`
 		Confidence float64            `json:"confidence"`
 		MaxHill    float64            `json:"max_hill"`
-		Bootstrap  *BootstrapIn       `json:"bootstrap"`
+		Bootstrap  *wire.BootstrapIn  `json:"bootstrap"`
 	}
 	if err := json.Unmarshal(run.Input, &input); err != nil {
 		return nil, fmt.Errorf("stored input %s: %w", run.ID, err)
@@ -497,9 +498,9 @@ func ComputePotential(body []byte) (*PotentialResponse, error) {
 
 // FieldOf returns the JSON Pointer an API error points at, if any.
 func FieldOf(err error) string {
-	var re *requestError
-	if errors.As(err, &re) && len(re.fields) > 0 {
-		return re.fields[0].Pointer
+	var re *service.Error
+	if errors.As(err, &re) && len(re.Fields) > 0 {
+		return re.Fields[0].Pointer
 	}
 	return ""
 }

@@ -25,19 +25,19 @@ import (
 // SchildRequest is the body of POST /v1/schild. Concentrations of agonist
 // and antagonist are in conc_unit.
 type SchildRequest struct {
-	ConcUnit     string        `json:"conc_unit,omitempty"`
-	AgonistID    string        `json:"agonist_id,omitempty"`
-	AntagonistID string        `json:"antagonist_id,omitempty"`
-	Curves       []SchildCurve `json:"curves"`
-	Bootstrap    *BootstrapIn  `json:"bootstrap,omitempty"`
-	Confidence   float64       `json:"confidence,omitempty"`
-	Store        *bool         `json:"store,omitempty"`
+	ConcUnit     string            `json:"conc_unit,omitempty"`
+	AgonistID    string            `json:"agonist_id,omitempty"`
+	AntagonistID string            `json:"antagonist_id,omitempty"`
+	Curves       []SchildCurve     `json:"curves"`
+	Bootstrap    *wire.BootstrapIn `json:"bootstrap,omitempty"`
+	Confidence   float64           `json:"confidence,omitempty"`
+	Store        *bool             `json:"store,omitempty"`
 }
 
 // SchildCurve is one agonist curve at one antagonist concentration.
 type SchildCurve struct {
-	AntagonistConc *float64  `json:"antagonist_conc"`
-	Points         []PointIn `json:"points"`
+	AntagonistConc *float64       `json:"antagonist_conc"`
+	Points         []wire.PointIn `json:"points"`
 }
 
 // WireEstimate is an estimate with its interval; fields may be null.

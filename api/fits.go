@@ -175,7 +175,7 @@ func (s *Server) createFit(c *gin.Context) {
 	start := time.Now()
 	res, err := fit.Fit(in.curve, &in.settings)
 	if err == nil && in.boot != nil {
-		err = fit.Bootstrap(res, in.boot)
+		err = fit.Bootstrap(c.Request.Context(), res, in.boot)
 	}
 	if err != nil {
 		s.writeProblem(c, err) // a *fit.PointError or *fit.SettingError: 422 with its pointer

@@ -2,6 +2,7 @@ package api
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -356,7 +357,7 @@ func (s *Server) storedCurve(c *gin.Context) curveSource {
 		if res.Bootstrap == nil {
 			return po, nil, float64(res.Confidence), nil
 		}
-		draws, err := s.redrawBootstrap(run, &res)
+		draws, err := s.redrawBootstrap(c.Request.Context(), run, &res)
 		if err != nil {
 			return nil, nil, 0, err
 		}
@@ -382,7 +383,7 @@ func openFraction(m fit.Model, theta []float64) func(float64) float64 {
 // redrawBootstrap refits a stored run from its input, settings and seed and
 // returns the bootstrap draws, checking that the refit reproduces the stored
 // estimates.
-func (s *Server) redrawBootstrap(run *db.FitRun, res *wire.StoredFit) ([][]float64, error) {
+func (s *Server) redrawBootstrap(ctx context.Context, run *db.FitRun, res *wire.StoredFit) ([][]float64, error) {
 	var input struct {
 		ConcUnit string         `json:"conc_unit"`
 		Points   []wire.PointIn `json:"points"`
@@ -421,7 +422,7 @@ func (s *Server) redrawBootstrap(run *db.FitRun, res *wire.StoredFit) ([][]float
 	if b == nil || b.Seed == nil {
 		return nil, fmt.Errorf("stored fit %s has no bootstrap seed", run.ID)
 	}
-	if err := fit.Bootstrap(r, &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme),
+	if err := fit.Bootstrap(ctx, r, &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme),
 		Interval: fit.Interval(b.Interval), Seed: *b.Seed, Workers: s.cfg.FitWorkers}); err != nil {
 		return nil, err
 	}

@@ -1,6 +1,7 @@
 package api
 
 import (
+	"context"
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
@@ -168,7 +169,7 @@ func (s *Server) createSchild(c *gin.Context) {
 		return
 	}
 	set.Workers = s.cfg.FitWorkers
-	res, err := schild.Analyze(curves, set)
+	res, err := schild.Analyze(c.Request.Context(), curves, set)
 	if err != nil {
 		var ce *schild.CurveError
 		if errors.As(err, &ce) {
@@ -341,7 +342,7 @@ func SchildFromCSV(r io.Reader, unit ingest.Unit, set *schild.Settings) (*Schild
 	if err != nil {
 		return nil, err
 	}
-	res, err := schild.Analyze(curves, set)
+	res, err := schild.Analyze(context.Background(), curves, set)
 	if err != nil {
 		return nil, err
 	}

@@ -139,7 +139,7 @@ func (s *Service) Fit(ctx context.Context, who Caller, idem *Idem, req *wire.Fit
 		start := time.Now()
 		res, err := fit.Fit(in.curve, &in.settings)
 		if err == nil && in.boot != nil {
-			err = fit.Bootstrap(res, in.boot)
+			err = fit.Bootstrap(ctx, res, in.boot)
 		}
 		if err != nil {
 			return nil, err // a *fit.PointError or *fit.SettingError: 422 with its pointer

@@ -71,7 +71,7 @@ type fitInput struct {
 func (s *Server) validateFit(req *FitRequest) (*fitInput, error) {
 	model, err := fit.ParseModel(req.Model)
 	if err != nil {
-		return nil, invalidField("/model", "unknown model %q (want hill, hill5 or bell)", req.Model)
+		return nil, invalidField("/model", "%v", err)
 	}
 	unit, err := ingest.ParseUnit(req.ConcUnit)
 	if err != nil {

@@ -76,7 +76,7 @@ func (s *Server) postOperational(c *gin.Context) {
 		s.writeProblem(c, invalidField("/reference", "the reference curve did not fit"))
 		return
 	}
-	em := rf.Params[1].Estimate
+	em := rf.Top().Estimate
 	o, err := schild.FitOperational(part, em, req.Confidence)
 	if err != nil {
 		s.writeProblem(c, invalidField("/partial", "%v", err))

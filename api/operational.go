@@ -16,10 +16,10 @@ import (
 // curve (the reference, which fixes the system maximum Em) and a partial
 // agonist's curve on the same assay, concentrations in conc_unit.
 type OperationalRequest struct {
-	ConcUnit   string    `json:"conc_unit,omitempty"`
-	Reference  []PointIn `json:"reference"`
-	Partial    []PointIn `json:"partial"`
-	Confidence float64   `json:"confidence,omitempty"`
+	ConcUnit   string         `json:"conc_unit,omitempty"`
+	Reference  []wire.PointIn `json:"reference"`
+	Partial    []wire.PointIn `json:"partial"`
+	Confidence float64        `json:"confidence,omitempty"`
 }
 
 // OperationalResponse gives τ and KA of the partial agonist.
@@ -48,7 +48,7 @@ func (s *Server) postOperational(c *gin.Context) {
 		s.writeProblem(c, invalidField("/conc_unit", "%v", err))
 		return
 	}
-	points := func(name string, in []PointIn) ([]fit.Point, error) {
+	points := func(name string, in []wire.PointIn) ([]fit.Point, error) {
 		if len(in) < 5 {
 			return nil, invalidField("/"+name, "give at least 5 points")
 		}

@@ -2,6 +2,7 @@ package api
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -14,6 +15,7 @@ import (
 
 	"sluice/api/ingest"
 	"sluice/api/plot"
+	"sluice/api/service"
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
@@ -357,7 +359,7 @@ func (s *Server) storedCurve(c *gin.Context) curveSource {
 		if res.Bootstrap == nil {
 			return po, nil, float64(res.Confidence), nil
 		}
-		draws, err := s.redrawBootstrap(run, &res)
+		draws, err := s.redrawBootstrap(c.Request.Context(), run, &res)
 		if err != nil {
 			return nil, nil, 0, err
 		}
@@ -384,17 +386,17 @@ func openFraction(m fit.Model, theta []float64) func(float64) float64 {
 // redrawBootstrap refits a stored run from its input, settings and seed and
 // returns the bootstrap draws, checking that the refit reproduces the stored
 // estimates.
-func (s *Server) redrawBootstrap(run *db.FitRun, res *wire.StoredFit) ([][]float64, error) {
+func (s *Server) redrawBootstrap(ctx context.Context, run *db.FitRun, res *wire.StoredFit) ([][]float64, error) {
 	var input struct {
-		ConcUnit string    `json:"conc_unit"`
-		Points   []PointIn `json:"points"`
+		ConcUnit string         `json:"conc_unit"`
+		Points   []wire.PointIn `json:"points"`
 	}
 	var settings struct {
 		Model      string             `json:"model"`
 		Fixed      map[string]float64 `json:"fixed"`
 		Confidence float64            `json:"confidence"`
 		MaxHill    float64            `json:"max_hill"`
-		Bootstrap  *BootstrapIn       `json:"bootstrap"`
+		Bootstrap  *wire.BootstrapIn  `json:"bootstrap"`
 	}
 	if err := json.Unmarshal(run.Input, &input); err != nil {
 		return nil, fmt.Errorf("stored input %s: %w", run.ID, err)
@@ -423,7 +425,7 @@ func (s *Server) redrawBootstrap(run *db.FitRun, res *wire.StoredFit) ([][]float
 	if b == nil || b.Seed == nil {
 		return nil, fmt.Errorf("stored fit %s has no bootstrap seed", run.ID)
 	}
-	if err := fit.Bootstrap(r, &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme),
+	if err := fit.Bootstrap(ctx, r, &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme),
 		Interval: fit.Interval(b.Interval), Seed: *b.Seed, Workers: s.cfg.FitWorkers}); err != nil {
 		return nil, err
 	}
@@ -500,9 +502,9 @@ func ComputePotential(body []byte) (*PotentialResponse, error) {
 
 // FieldOf returns the JSON Pointer an API error points at, if any.
 func FieldOf(err error) string {
-	var re *requestError
-	if errors.As(err, &re) && len(re.fields) > 0 {
-		return re.fields[0].Pointer
+	var re *service.Error
+	if errors.As(err, &re) && len(re.Fields) > 0 {
+		return re.Fields[0].Pointer
 	}
 	return ""
 }

@@ -1,6 +1,7 @@
 package api
 
 import (
+	"context"
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
@@ -25,19 +26,19 @@ import (
 // SchildRequest is the body of POST /v1/schild. Concentrations of agonist
 // and antagonist are in conc_unit.
 type SchildRequest struct {
-	ConcUnit     string        `json:"conc_unit,omitempty"`
-	AgonistID    string        `json:"agonist_id,omitempty"`
-	AntagonistID string        `json:"antagonist_id,omitempty"`
-	Curves       []SchildCurve `json:"curves"`
-	Bootstrap    *BootstrapIn  `json:"bootstrap,omitempty"`
-	Confidence   float64       `json:"confidence,omitempty"`
-	Store        *bool         `json:"store,omitempty"`
+	ConcUnit     string            `json:"conc_unit,omitempty"`
+	AgonistID    string            `json:"agonist_id,omitempty"`
+	AntagonistID string            `json:"antagonist_id,omitempty"`
+	Curves       []SchildCurve     `json:"curves"`
+	Bootstrap    *wire.BootstrapIn `json:"bootstrap,omitempty"`
+	Confidence   float64           `json:"confidence,omitempty"`
+	Store        *bool             `json:"store,omitempty"`
 }
 
 // SchildCurve is one agonist curve at one antagonist concentration.
 type SchildCurve struct {
-	AntagonistConc *float64  `json:"antagonist_conc"`
-	Points         []PointIn `json:"points"`
+	AntagonistConc *float64       `json:"antagonist_conc"`
+	Points         []wire.PointIn `json:"points"`
 }
 
 // WireEstimate is an estimate with its interval; fields may be null.
@@ -168,7 +169,7 @@ func (s *Server) createSchild(c *gin.Context) {
 		return
 	}
 	set.Workers = s.cfg.FitWorkers
-	res, err := schild.Analyze(curves, set)
+	res, err := schild.Analyze(c.Request.Context(), curves, set)
 	if err != nil {
 		var ce *schild.CurveError
 		if errors.As(err, &ce) {
@@ -341,7 +342,7 @@ func SchildFromCSV(r io.Reader, unit ingest.Unit, set *schild.Settings) (*Schild
 	if err != nil {
 		return nil, err
 	}
-	res, err := schild.Analyze(curves, set)
+	res, err := schild.Analyze(context.Background(), curves, set)
 	if err != nil {
 		return nil, err
 	}

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"context"
 	"errors"
 	"math"
 	"slices"
@@ -129,7 +130,7 @@ func TestNewModelInALocalRegistry(t *testing.T) {
 		t.Errorf("steep curve: rate %v, flags %v; want 5 and %s", sr.HillSlope().Estimate, sr.Flags, FlagHillAtBound)
 	}
 	// The bootstrap runs on the same definition.
-	if err := Bootstrap(res, &BootSettings{Resamples: 50, Seed: 1}); err != nil {
+	if err := Bootstrap(context.Background(), res, &BootSettings{Resamples: 50, Seed: 1}); err != nil {
 		t.Fatal(err)
 	}
 	if res.Boot.Failed != 0 {

@@ -28,7 +28,7 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	r.GET("/healthz", s.healthz)
 	r.GET("/readyz", s.readyz)
 	r.GET("/metrics", gin.WrapH(promhttp.HandlerFor(reg, promhttp.HandlerOpts{Registry: reg})))
-	r.GET("/v1/openapi.json", s.openAPI)
+	r.GET("/v1/openapi.json", s.openAPI())
 
 	read := r.Group("/v1", s.authenticate(ScopeRead))
 	read.GET("/fits", s.listFits)

@@ -37,7 +37,7 @@ type fitInput struct {
 func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 	model, err := fit.ParseModel(req.Model)
 	if err != nil {
-		return nil, Invalid("/model", "unknown model %q (want hill, hill5 or bell)", req.Model)
+		return nil, Invalid("/model", "%v", err)
 	}
 	unit, err := ingest.ParseUnit(req.ConcUnit)
 	if err != nil {

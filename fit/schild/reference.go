@@ -46,7 +46,7 @@ func OperationalFromReference(reference, partial []fit.Point, confidence float64
 	if !rf.Converged() {
 		return nil, &OperationalError{"reference", errors.New("the reference curve did not fit")}
 	}
-	top, _ := rf.Param("top")
+	top := rf.Top()
 	if !(top.Estimate > 0) {
 		return nil, &OperationalError{"reference", fmt.Errorf("%w: its fitted maximum %.4g must be > 0", fit.ErrInvalidInput, top.Estimate)}
 	}

@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"sort"
 	"strconv"
-	"sync"
 	"time"
 
 	"sluice/api/wire"
@@ -83,19 +82,13 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 	if b := set.Fit.Bootstrap; b != nil {
 		bs = &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval), Seed: *b.Seed}
 	}
-	// Progress is advisory: written at most every 100 ms, off the fit's path.
-	var mu sync.Mutex
-	last := time.Now()
-	progress := func(done int) {
-		mu.Lock()
-		defer mu.Unlock()
-		if time.Since(last) > 100*time.Millisecond {
-			last = time.Now()
-			s.store.SetPlateProgress(ctx, plateID, db.PlateRunning, done, len(curves))
-		}
-	}
+	// Progress is advisory: the fitting goroutines only count, and this
+	// goroutine's ticker writes the count at most every 100 ms.
+	var progress fit.Progress
+	stopProgress := s.reportProgress(ctx, plateID, &progress, len(curves))
 	start := time.Now()
-	results, err := fit.FitBatch(ctx, curves, fs, bs, s.cfg.FitWorkers, progress)
+	results, err := fit.FitBatch(ctx, curves, fs, bs, s.cfg.FitWorkers, &progress)
+	stopProgress()
 	if err != nil {
 		if errors.Is(err, fit.ErrInvalidInput) {
 			return s.failPlate(ctx, plateID, err)
@@ -119,7 +112,10 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 			out[i].LogEC50 = &l
 		}
 	}
-	runs := s.plateSchild(p, specs, set, bs)
+	runs, err := s.plateSchild(ctx, p, specs, set, bs)
+	if err != nil {
+		return err // cancelled: River retries
+	}
 	s.metrics.plateDuration.Observe(time.Since(start).Seconds())
 	if err := ctx.Err(); err != nil {
 		return err
@@ -142,7 +138,7 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 // the plate: the agonist's curves at each antagonist concentration, with
 // its curve without antagonist (or at antagonist concentration 0) as the
 // control. IDs are derived from the plate, so a retried job makes the same.
-func (s *Server) plateSchild(p *db.Plate, specs []plate.CurveSpec, set plateSettings, bs *fit.BootSettings) []*db.SchildRun {
+func (s *Server) plateSchild(ctx context.Context, p *db.Plate, specs []plate.CurveSpec, set plateSettings, bs *fit.BootSettings) ([]*db.SchildRun, error) {
 	type pair struct{ agonist, antagonist string }
 	groups := map[pair][]schild.Curve{}
 	controls := map[string]fit.Curve{}
@@ -182,12 +178,15 @@ func (s *Server) plateSchild(p *db.Plate, specs []plate.CurveSpec, set plateSett
 				sset.Resamples = fit.DefaultResamples
 			}
 		}
-		res, err := schild.Analyze(curves, sset)
+		res, err := schild.Analyze(ctx, curves, sset)
+		if ctx.Err() != nil {
+			return nil, fmt.Errorf("plate %s schild: %w", p.ID, ctx.Err())
+		}
 		if err != nil {
 			s.log.Warn("plate schild", "plate", p.ID, "agonist", k.agonist, "antagonist", k.antagonist, "err", err)
 			continue
 		}
-		out := schildResponse(res, curves, sset.Seed)
+		out := wire.FromSchild(res, curves, sset.Seed)
 		out.ID = p.ID + ":" + k.agonist + ":" + k.antagonist
 		out.PlateID, out.AgonistID, out.AntagonistID = p.ID, k.agonist, k.antagonist
 		out.CreatedAt = s.now().Format(time.RFC3339Nano)
@@ -197,7 +196,38 @@ func (s *Server) plateSchild(p *db.Plate, specs []plate.CurveSpec, set plateSett
 			AgonistID: k.agonist, AntagonistID: k.antagonist, EngineVersion: fit.EngineVersion, InputSHA256: p.InputSHA256,
 			Input: in, Result: b})
 	}
-	return runs
+	return runs, nil
+}
+
+// reportProgress writes the curves counted in progress to the plate every
+// 100 ms from its own goroutine, until the returned function is called; that
+// function returns once the goroutine has ended.
+func (s *Server) reportProgress(ctx context.Context, plateID string, progress *fit.Progress, total int) (stop func()) {
+	done := make(chan struct{})
+	ended := make(chan struct{})
+	go func() {
+		defer close(ended)
+		t := time.NewTicker(100 * time.Millisecond)
+		defer t.Stop()
+		last := 0
+		for {
+			select {
+			case <-done:
+				return
+			case <-ctx.Done():
+				return
+			case <-t.C:
+				if n := progress.Curves(); n != last {
+					last = n
+					s.store.SetPlateProgress(ctx, plateID, db.PlateRunning, n, total)
+				}
+			}
+		}
+	}()
+	return func() {
+		close(done)
+		<-ended
+	}
 }
 
 // failPlate marks a plate that cannot be fitted whatever the retries.

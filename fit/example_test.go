@@ -1,6 +1,7 @@
 package fit_test
 
 import (
+	"context"
 	"fmt"
 
 	"sluice/fit"
@@ -22,7 +23,7 @@ func Example() {
 		fmt.Println(err)
 		return
 	}
-	if err := fit.Bootstrap(r, &fit.BootSettings{Resamples: 2000, Seed: 1}); err != nil {
+	if err := fit.Bootstrap(context.Background(), r, &fit.BootSettings{Resamples: 2000, Seed: 1}); err != nil {
 		fmt.Println(err)
 		return
 	}

@@ -194,8 +194,8 @@ func (s *sqlStore) CurveResult(ctx context.Context, id string) (*CurveResult, er
 
 // CurveFilter selects a compound's curve results for CompoundCurves.
 type CurveFilter struct {
-	CompoundID string // required
-	AssayID    string // "" for every assay
+	CompoundID string    // required
+	AssayID    string    // "" for every assay
 	From, To   time.Time // measured_at in [From, To); zero does not bound
 	// Limit is 1–MaxCurveLimit; zero means MaxCurveLimit.
 	Limit int

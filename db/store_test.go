@@ -3,9 +3,9 @@ package db_test
 import (
 	"context"
 	"encoding/json"
-	"reflect"
 	"errors"
 	"fmt"
+	"reflect"
 	"testing"
 	"time"
 

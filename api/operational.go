@@ -71,7 +71,7 @@ func (s *Server) postOperational(c *gin.Context) {
 		s.writeProblem(c, err)
 		return
 	}
-	rf, err := fit.Fit(fit.Curve{Points: ref}, &fit.Settings{Fixed: map[string]float64{"bottom": 0}})
+	rf, err := fit.Fit(fit.Curve{Points: ref}, &fit.Settings{Model: fit.Hill, Fixed: map[string]float64{"bottom": 0}})
 	if err != nil || !rf.Converged() {
 		s.writeProblem(c, invalidField("/reference", "the reference curve did not fit"))
 		return

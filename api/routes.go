@@ -53,12 +53,12 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	submit.POST("/compounds", s.createCompound)
 	submit.POST("/layouts", s.idempotency, s.createLayout)
 	submit.POST("/plates", s.idempotency, s.createPlate)
-	submit.POST("/schild", s.idempotency, s.createSchild)
+	submit.POST("/schild", s.createSchild)
 
 	// Calculators: no record is stored, so scope read suffices.
 	calc := r.Group("/v1", s.authenticate(ScopeRead))
 	calc.POST("/potential", s.idempotency, s.postPotential)
-	calc.POST("/operational", s.idempotency, s.postOperational)
+	calc.POST("/operational", s.postOperational)
 	return r
 }
 

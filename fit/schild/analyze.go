@@ -158,7 +158,7 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 		return nil, fmt.Errorf("%w: need the control and at least one antagonist concentration", fit.ErrInvalidInput)
 	}
 	res := &Result{Control: control, Competitive: true, Confidence: set.Confidence}
-	fs := &fit.Settings{Confidence: set.Confidence}
+	fs := &fit.Settings{Model: fit.Hill, Confidence: set.Confidence}
 	for i, c := range curves {
 		if err := ctx.Err(); err != nil {
 			return nil, fmt.Errorf("schild analysis: %w", err)
@@ -438,7 +438,7 @@ func chengPrusoff(res *Result, curves []Curve) *CPEstimate {
 	if len(inh.Points) < 3 {
 		return nil
 	}
-	r, err := fit.Fit(inh, &fit.Settings{Fixed: map[string]float64{"bottom": 0, "top": 100}})
+	r, err := fit.Fit(inh, &fit.Settings{Model: fit.Hill, Fixed: map[string]float64{"bottom": 0, "top": 100}})
 	if err != nil || !r.Converged() {
 		return nil
 	}

@@ -61,7 +61,7 @@ func FitOperational(points []fit.Point, em, confidence float64) (*OperationalFit
 		confidence = 0.95
 	}
 	// Start: the partial agonist's own Hill fit gives Emax and EC50.
-	h, err := fit.Fit(fit.Curve{Points: points}, &fit.Settings{Fixed: map[string]float64{"bottom": 0}})
+	h, err := fit.Fit(fit.Curve{Points: points}, &fit.Settings{Model: fit.Hill, Fixed: map[string]float64{"bottom": 0}})
 	if err != nil {
 		return nil, err
 	}

@@ -39,7 +39,7 @@ func OperationalFromReference(reference, partial []fit.Point, confidence float64
 			return nil, &OperationalError{c.name, fmt.Errorf("%w: give at least %d points", fit.ErrInvalidInput, MinOperationalPoints)}
 		}
 	}
-	rf, err := fit.Fit(fit.Curve{Points: reference}, &fit.Settings{Fixed: map[string]float64{"bottom": 0}})
+	rf, err := fit.Fit(fit.Curve{Points: reference}, &fit.Settings{Model: fit.Hill, Fixed: map[string]float64{"bottom": 0}})
 	if err != nil {
 		return nil, &OperationalError{"reference", err}
 	}

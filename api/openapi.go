@@ -32,21 +32,15 @@ func (s *Server) openAPI() gin.HandlerFunc {
 	}
 }
 
-// openAPIDocument returns doc with components.schemas.Model generated from
-// the registry: the enum of model names, the default and a description
-// that lists each model's summary. So a model added to the registry is in
-// the served document without editing it.
+// openAPIDocument returns doc with the value of components.schemas.Model
+// replaced by one generated from the registry: the enum of model names, the
+// default and a description that lists each model's summary. So a model
+// added to the registry is in the served document without editing it; the
+// rest of the document is served byte for byte as written.
 func openAPIDocument(doc []byte, models *fit.Registry) ([]byte, error) {
-	var root map[string]any
-	dec := json.NewDecoder(bytes.NewReader(doc))
-	dec.UseNumber() // numbers pass through as written
-	if err := dec.Decode(&root); err != nil {
+	start, end, err := valueSpan(doc, "components", "schemas", "Model")
+	if err != nil {
 		return nil, fmt.Errorf("openapi.json: %w", err)
-	}
-	components, _ := root["components"].(map[string]any)
-	schemas, _ := components["schemas"].(map[string]any)
-	if schemas == nil {
-		return nil, fmt.Errorf("openapi.json: no components.schemas")
 	}
 	var desc strings.Builder
 	desc.WriteString("A curve model. ")
@@ -59,14 +53,92 @@ func openAPIDocument(doc []byte, models *fit.Registry) ([]byte, error) {
 		fmt.Fprintf(&desc, "%s: %s", m, spec.Summary())
 	}
 	desc.WriteString(".")
-	schemas["Model"] = map[string]any{"type": "string", "enum": names, "default": models.Default(),
-		"description": desc.String()}
-	var out bytes.Buffer
-	enc := json.NewEncoder(&out)
-	enc.SetEscapeHTML(false)
-	enc.SetIndent("", " ")
-	if err := enc.Encode(root); err != nil {
-		return nil, fmt.Errorf("openapi.json: %w", err)
+	schema := struct {
+		Type        string      `json:"type"`
+		Enum        []fit.Model `json:"enum"`
+		Default     fit.Model   `json:"default"`
+		Description string      `json:"description"`
+	}{"string", names, models.Default(), desc.String()}
+	// Indent like the line the value starts on.
+	line := doc[bytes.LastIndexByte(doc[:start], '\n')+1 : start]
+	indent := line[:len(line)-len(bytes.TrimLeft(line, " "))]
+	gen, err := json.MarshalIndent(schema, string(indent), " ")
+	if err != nil {
+		return nil, err
 	}
-	return out.Bytes(), nil
+	out := make([]byte, 0, len(doc)+len(gen))
+	out = append(out, doc[:start]...)
+	out = append(out, gen...)
+	return append(out, doc[end:]...), nil
+}
+
+// valueSpan returns the byte offsets [start, end) of the JSON value reached
+// from the top-level object by the object keys of path.
+func valueSpan(doc []byte, path ...string) (start, end int, err error) {
+	dec := json.NewDecoder(bytes.NewReader(doc))
+	if err := openObject(dec); err != nil {
+		return 0, 0, err
+	}
+	for depth := 0; ; {
+		tok, err := dec.Token()
+		if err != nil {
+			return 0, 0, err
+		}
+		key, ok := tok.(string)
+		if !ok { // the object at this depth ended
+			return 0, 0, fmt.Errorf("no %s", strings.Join(path[:depth+1], "."))
+		}
+		if key != path[depth] {
+			if err := skipValue(dec); err != nil {
+				return 0, 0, err
+			}
+			continue
+		}
+		if depth < len(path)-1 {
+			if err := openObject(dec); err != nil {
+				return 0, 0, fmt.Errorf("%s: %w", strings.Join(path[:depth+1], "."), err)
+			}
+			depth++
+			continue
+		}
+		start = int(dec.InputOffset()) // just after the key
+		for start < len(doc) && strings.IndexByte(": \t\r\n", doc[start]) >= 0 {
+			start++
+		}
+		if err := skipValue(dec); err != nil {
+			return 0, 0, err
+		}
+		return start, int(dec.InputOffset()), nil
+	}
+}
+
+// openObject reads the '{' that must come next.
+func openObject(dec *json.Decoder) error {
+	tok, err := dec.Token()
+	if err != nil {
+		return err
+	}
+	if tok != json.Delim('{') {
+		return fmt.Errorf("not an object")
+	}
+	return nil
+}
+
+// skipValue reads one whole value.
+func skipValue(dec *json.Decoder) error {
+	for depth := 0; ; {
+		tok, err := dec.Token()
+		if err != nil {
+			return err
+		}
+		switch tok {
+		case json.Delim('{'), json.Delim('['):
+			depth++
+		case json.Delim('}'), json.Delim(']'):
+			depth--
+		}
+		if depth == 0 {
+			return nil
+		}
+	}
 }

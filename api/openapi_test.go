@@ -1,6 +1,7 @@
 package api
 
 import (
+	"bytes"
 	"encoding/json"
 	"reflect"
 	"regexp"
@@ -103,6 +104,19 @@ func TestOpenAPIModelsFromRegistry(t *testing.T) {
 	}
 	if !reflect.DeepEqual(file, served) {
 		t.Error("the served document differs from openapi.json beyond the Model schema")
+	}
+	// Byte for byte, too: the rest is served as written.
+	start, end, err := valueSpan(openAPIDoc, "components", "schemas", "Model")
+	if err != nil {
+		t.Fatal(err)
+	}
+	body := w.Body.Bytes()
+	if !bytes.HasPrefix(body, openAPIDoc[:start]) || !bytes.HasSuffix(body, openAPIDoc[end:]) {
+		t.Error("the served document rewrites more than the Model schema")
+	}
+	// A document without the schema is an error, not a silent omission.
+	if _, err := openAPIDocument([]byte(`{"components": {"schemas": {"Problem": {}}}}`), fit.Builtin()); err == nil {
+		t.Error("a document without components.schemas.Model was accepted")
 	}
 }
 

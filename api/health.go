@@ -8,6 +8,8 @@ import (
 	"github.com/gin-gonic/gin"
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
+
+	"sluice/api/service"
 )
 
 // healthz says the process serves; it checks nothing else.
@@ -21,7 +23,7 @@ func (s *Server) readyz(c *gin.Context) {
 	defer cancel()
 	if err := s.store.Ping(ctx); err != nil {
 		s.log.Warn("not ready", "err", err)
-		s.writeProblem(c, &requestError{kind: errUnavailable, detail: "the " + s.store.Engine() + " database does not answer"})
+		s.writeProblem(c, &service.Error{Kind: errUnavailable, Detail: "the " + s.store.Engine() + " database does not answer"})
 		return
 	}
 	c.JSON(http.StatusOK, gin.H{"status": "ready", "database": s.store.Engine()})
@@ -34,7 +36,7 @@ func (s *Server) opsRoutes(reg *prometheus.Registry) *gin.Engine {
 	r := gin.New()
 	r.Use(s.recoverer, s.metrics.middleware)
 	r.NoRoute(func(c *gin.Context) {
-		s.writeProblem(c, &requestError{kind: errNotFoundRoute, detail: "no such endpoint on a worker: " + c.Request.URL.Path})
+		s.writeProblem(c, &service.Error{Kind: errNotFoundRoute, Detail: "no such endpoint on a worker: " + c.Request.URL.Path})
 	})
 	r.GET("/healthz", s.healthz)
 	r.GET("/readyz", s.readyz)

@@ -17,6 +17,7 @@ import (
 	"github.com/gin-gonic/gin"
 
 	"sluice/api/ingest"
+	"sluice/api/service"
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
@@ -53,7 +54,7 @@ type PlateFitIn struct {
 	Fixed      map[string]float64 `json:"fixed,omitempty"`
 	Confidence float64            `json:"confidence,omitempty"`
 	MaxHill    float64            `json:"max_hill,omitempty"`
-	Bootstrap  *BootstrapIn       `json:"bootstrap,omitempty"`
+	Bootstrap  *wire.BootstrapIn  `json:"bootstrap,omitempty"`
 }
 
 // plateSettings is what the worker needs besides the wells; stored as the
@@ -77,7 +78,7 @@ func wellError(loc locate, i int, field, format string, a ...any) error {
 	d := fmt.Sprintf(format, a...)
 	fe := loc(i, field)
 	fe.Detail = d
-	return &requestError{kind: errInvalid, detail: d, fields: []FieldError{fe}}
+	return &service.Error{Kind: errInvalid, Detail: d, Fields: []FieldError{fe}}
 }
 
 // validPlate is a checked plate, ready to store.
@@ -178,14 +179,14 @@ func plateProblem(err error, loc locate) error {
 	if !errors.As(err, &inv) || len(inv) == 0 {
 		return err
 	}
-	re := &requestError{kind: errInvalid, detail: inv[0].Detail}
+	re := &service.Error{Kind: errInvalid, Detail: inv[0].Detail}
 	for _, we := range inv {
 		fe := loc(we.Index, we.Field)
 		fe.Detail = we.Detail
-		re.fields = append(re.fields, fe)
+		re.Fields = append(re.Fields, fe)
 	}
 	if len(inv) > 1 {
-		re.detail = fmt.Sprintf("%s (and %d more)", inv[0].Detail, len(inv)-1)
+		re.Detail = fmt.Sprintf("%s (and %d more)", inv[0].Detail, len(inv)-1)
 	}
 	return re
 }
@@ -196,7 +197,7 @@ func prefixPointer(err error, prefix string) error {
 	for i := range fields {
 		fields[i].Pointer = prefix + fields[i].Pointer
 	}
-	return &requestError{kind: errInvalid, detail: err.Error(), fields: fields}
+	return &service.Error{Kind: errInvalid, Detail: err.Error(), Fields: fields}
 }
 
 // createPlate is POST /v1/plates: JSON, long CSV (text/csv), or a reader
@@ -254,7 +255,7 @@ func (s *Server) createPlate(c *gin.Context) {
 		}
 		wells = wellsFromJSON(req.Wells)
 	default:
-		s.writeProblem(c, &requestError{kind: errUnsupportedType, detail: "Content-Type: want application/json or text/csv"})
+		s.writeProblem(c, &service.Error{Kind: errUnsupportedType, Detail: "Content-Type: want application/json or text/csv"})
 		return
 	}
 	v, err := s.validatePlate(&req, wells, loc)
@@ -294,31 +295,32 @@ func (s *Server) createPlate(c *gin.Context) {
 		}
 		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: v.p.SubmittedBy, Action: "plate.create", Target: v.p.ID, Detail: detail})
 	}
-	if wait := c.Query("wait"); wait != "" {
-		d, err := time.ParseDuration(wait)
-		if err != nil || d < 0 || d > 5*time.Minute {
-			s.writeProblem(c, badParameter("wait", "%q is not a duration up to 5m (e.g. 30s)", wait))
-			return
-		}
-		if err := s.store.Write(ctx, write); err != nil {
-			s.writeProblem(c, err)
-			return
-		}
-		s.waitForPlate(c, v.p.ID, d)
-		return
-	}
 	// The job ID is known only inside the transaction: the body is built
-	// there, after the write.
+	// there, after the write, and build hands it to the idempotency record.
 	var resp []byte
-	c.Header("Location", "/v1/plates/"+v.p.ID)
-	s.respondBuilt(c, http.StatusAccepted, "application/json", func() []byte { return resp }, func(w db.Writer) error {
+	writeAndBuild := func(w db.Writer) error {
 		if err := write(w); err != nil {
 			return err
 		}
 		var err error
 		resp, err = json.Marshal(gin.H{"plate_id": v.p.ID, "job_id": jobID})
 		return err
-	})
+	}
+	build := func() []byte { return resp }
+	if wait := c.Query("wait"); wait != "" {
+		d, err := time.ParseDuration(wait)
+		if err != nil || d < 0 || d > 5*time.Minute {
+			s.writeProblem(c, badParameter("wait", "%q is not a duration up to 5m (e.g. 30s)", wait))
+			return
+		}
+		// Submit (the 202 is what a retry replays), then wait.
+		if _, stored := s.commitBuilt(c, http.StatusAccepted, "application/json", build, writeAndBuild); stored {
+			s.waitForPlate(c, v.p.ID, d)
+		}
+		return
+	}
+	c.Header("Location", "/v1/plates/"+v.p.ID)
+	s.respondBuilt(c, http.StatusAccepted, "application/json", build, writeAndBuild)
 }
 
 // wellsFromJSON turns wells as JSON sends them into wells as read.
@@ -344,7 +346,7 @@ func wellsFromJSON(ws []WellJSON) []ingest.WellIn {
 func fitFromQuery(get func(string) string) (*PlateFitIn, error) {
 	f := &PlateFitIn{Model: get("model")}
 	if r := get("resamples"); r != "" || get("seed") != "" || get("scheme") != "" || get("interval") != "" {
-		b := &BootstrapIn{Scheme: get("scheme"), Interval: get("interval")}
+		b := &wire.BootstrapIn{Scheme: get("scheme"), Interval: get("interval")}
 		if r != "" {
 			n, err := strconv.Atoi(r)
 			if err != nil {
@@ -415,7 +417,7 @@ func (s *Server) createLayout(c *gin.Context) {
 	if _, ok := s.readJSON(c, &req); !ok {
 		return
 	}
-	if !idPattern.MatchString(req.ID) {
+	if !service.ValidID(req.ID) {
 		s.writeProblem(c, invalidField("/id", "id %q must be 1–100 letters, digits or ._:-", req.ID))
 		return
 	}
@@ -580,7 +582,7 @@ type JobView struct {
 func (s *Server) getJob(c *gin.Context) {
 	id, err := strconv.ParseInt(c.Param("id"), 10, 64)
 	if err != nil {
-		s.writeProblem(c, &requestError{kind: db.ErrNotFound, detail: "no job " + c.Param("id")})
+		s.writeProblem(c, &service.Error{Kind: db.ErrNotFound, Detail: "no job " + c.Param("id")})
 		return
 	}
 	ctx := c.Request.Context()

@@ -9,6 +9,7 @@ import (
 	"strings"
 	"testing"
 
+	"sluice/api/service"
 	"sluice/db"
 	"sluice/db/dbtest"
 )
@@ -76,7 +77,7 @@ func FuzzPlateJSON(f *testing.F) {
 		}
 		v, err := ts.srv.validatePlate(&req, wellsFromJSON(req.Wells), jsonLocate)
 		if err != nil {
-			var re *requestError
+			var re *service.Error
 			if s := statusOf(err); s >= 500 || !errors.As(err, &re) {
 				t.Fatalf("validate: %d %v for %q", s, err, in)
 			}

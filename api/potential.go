@@ -2,6 +2,7 @@ package api
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -14,6 +15,7 @@ import (
 
 	"sluice/api/ingest"
 	"sluice/api/plot"
+	"sluice/api/service"
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
@@ -243,7 +245,9 @@ func buildPotential(req *PotentialRequest, curves curveSource) (*potentialModel,
 		if h.PoMax == nil || !(*h.PoMax > 0) || *h.PoMax > 1 {
 			return nil, nil, invalidField("/hill/po_max", "po_max is required, in (0, 1]")
 		}
-		theta := []float64{0, *h.PoMax, *h.LogEC50, *h.Hill}
+		r := fit.Hill.Roles()
+		theta := make([]float64, len(fit.Hill.Params()))
+		theta[r.Bottom], theta[r.Top], theta[r.LogEC50], theta[r.Hill] = 0, *h.PoMax, *h.LogEC50, *h.Hill
 		m.po = func(c float64) float64 { return fit.Hill.Value(theta, c) }
 	case req.CurveID != "":
 		if curves == nil {
@@ -348,14 +352,14 @@ func (s *Server) storedCurve(c *gin.Context) curveSource {
 			theta[i] = float64(p.Estimate)
 		}
 		model := fit.Model(res.Model)
-		if theta[1] <= theta[0] || (model != fit.Bell && theta[3] <= 0) {
+		if model.Top(theta) <= model.Bottom(theta) || (model.Monotone() && model.HillSlope(theta) <= 0) {
 			return nil, nil, 0, invalidField("/curve_id", "fit %s is not a rising agonist curve", id)
 		}
 		po := openFraction(model, theta)
 		if res.Bootstrap == nil {
 			return po, nil, float64(res.Confidence), nil
 		}
-		draws, err := s.redrawBootstrap(run, &res)
+		draws, err := s.redrawBootstrap(c.Request.Context(), run, &res)
 		if err != nil {
 			return nil, nil, 0, err
 		}
@@ -372,8 +376,9 @@ func (s *Server) storedCurve(c *gin.Context) curveSource {
 // openFraction is the fitted response normalised to the fitted window,
 // (f(c) − bottom)/(top − bottom), clamped to [0, 1].
 func openFraction(m fit.Model, theta []float64) func(float64) float64 {
+	bottom, top := m.Bottom(theta), m.Top(theta)
 	return func(c float64) float64 {
-		v := (m.Value(theta, c) - theta[0]) / (theta[1] - theta[0])
+		v := (m.Value(theta, c) - bottom) / (top - bottom)
 		return math.Min(math.Max(v, 0), 1)
 	}
 }
@@ -381,17 +386,17 @@ func openFraction(m fit.Model, theta []float64) func(float64) float64 {
 // redrawBootstrap refits a stored run from its input, settings and seed and
 // returns the bootstrap draws, checking that the refit reproduces the stored
 // estimates.
-func (s *Server) redrawBootstrap(run *db.FitRun, res *wire.StoredFit) ([][]float64, error) {
+func (s *Server) redrawBootstrap(ctx context.Context, run *db.FitRun, res *wire.StoredFit) ([][]float64, error) {
 	var input struct {
-		ConcUnit string    `json:"conc_unit"`
-		Points   []PointIn `json:"points"`
+		ConcUnit string         `json:"conc_unit"`
+		Points   []wire.PointIn `json:"points"`
 	}
 	var settings struct {
 		Model      string             `json:"model"`
 		Fixed      map[string]float64 `json:"fixed"`
 		Confidence float64            `json:"confidence"`
 		MaxHill    float64            `json:"max_hill"`
-		Bootstrap  *BootstrapIn       `json:"bootstrap"`
+		Bootstrap  *wire.BootstrapIn  `json:"bootstrap"`
 	}
 	if err := json.Unmarshal(run.Input, &input); err != nil {
 		return nil, fmt.Errorf("stored input %s: %w", run.ID, err)
@@ -420,7 +425,7 @@ func (s *Server) redrawBootstrap(run *db.FitRun, res *wire.StoredFit) ([][]float
 	if b == nil || b.Seed == nil {
 		return nil, fmt.Errorf("stored fit %s has no bootstrap seed", run.ID)
 	}
-	if err := fit.Bootstrap(r, &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme),
+	if err := fit.Bootstrap(ctx, r, &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme),
 		Interval: fit.Interval(b.Interval), Seed: *b.Seed, Workers: s.cfg.FitWorkers}); err != nil {
 		return nil, err
 	}
@@ -497,9 +502,9 @@ func ComputePotential(body []byte) (*PotentialResponse, error) {
 
 // FieldOf returns the JSON Pointer an API error points at, if any.
 func FieldOf(err error) string {
-	var re *requestError
-	if errors.As(err, &re) && len(re.fields) > 0 {
-		return re.fields[0].Pointer
+	var re *service.Error
+	if errors.As(err, &re) && len(re.Fields) > 0 {
+		return re.Fields[0].Pointer
 	}
 	return ""
 }

@@ -3,30 +3,44 @@ package api
 import (
 	"errors"
 	"net/http"
+	"slices"
 	"strconv"
+	"strings"
 
 	"github.com/gin-gonic/gin"
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
+
+	"sluice/api/service"
 )
+
+// queryParams lists the query parameters each route takes, by method and
+// route template; a route not listed takes none. Any other parameter is a
+// 400 naming it (knownParams), so a misspelt filter never silently selects
+// everything.
+var queryParams = map[string][]string{
+	"GET /v1/fits":       {"assay_id", "compound_id", "from", "to", "limit", "cursor"},
+	"POST /v1/plates":    {"format", "barcode", "assay_id", "measured_at", "conc_unit", "mode", "layout_id", "model", "resamples", "seed", "scheme", "interval", "wait"},
+	"POST /v1/potential": {"format"},
+}
 
 // routes is the whole API surface; the OpenAPI document lists the same
 // routes (a test checks).
 func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	r := gin.New()
 	r.HandleMethodNotAllowed = true
-	r.Use(s.recoverer, s.metrics.middleware, s.limitBody)
+	r.Use(s.recoverer, s.metrics.middleware, s.limitBody, s.knownParams)
 	r.NoRoute(func(c *gin.Context) {
-		s.writeProblem(c, &requestError{kind: errNotFoundRoute, detail: "no such endpoint: " + c.Request.URL.Path})
+		s.writeProblem(c, &service.Error{Kind: errNotFoundRoute, Detail: "no such endpoint: " + c.Request.URL.Path})
 	})
 	r.NoMethod(func(c *gin.Context) {
-		s.writeProblem(c, &requestError{kind: errMethod, detail: c.Request.Method + " is not allowed on " + c.Request.URL.Path})
+		s.writeProblem(c, &service.Error{Kind: errMethod, Detail: c.Request.Method + " is not allowed on " + c.Request.URL.Path})
 	})
 
 	r.GET("/healthz", s.healthz)
 	r.GET("/readyz", s.readyz)
 	r.GET("/metrics", gin.WrapH(promhttp.HandlerFor(reg, promhttp.HandlerOpts{Registry: reg})))
-	r.GET("/v1/openapi.json", s.openAPI)
+	r.GET("/v1/openapi.json", s.openAPI())
 
 	read := r.Group("/v1", s.authenticate(ScopeRead))
 	read.GET("/fits", s.listFits)
@@ -43,17 +57,19 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/schild/:id", s.getSchild)
 	read.GET("/schild/:id/plot.svg", s.schildPlot)
 
-	submit := r.Group("/v1", s.authenticate(ScopeSubmit), s.idempotency)
+	// Writes: the use cases handle the Idempotency-Key (service.NewIdem);
+	// s.idempotency does it for the handlers that still store themselves.
+	submit := r.Group("/v1", s.authenticate(ScopeSubmit))
 	submit.POST("/fits", s.createFit)
 	submit.POST("/assays", s.createAssay)
 	submit.POST("/compounds", s.createCompound)
-	submit.POST("/layouts", s.createLayout)
-	submit.POST("/plates", s.createPlate)
+	submit.POST("/layouts", s.idempotency, s.createLayout)
+	submit.POST("/plates", s.idempotency, s.createPlate)
 	submit.POST("/schild", s.createSchild)
 
 	// Calculators: no record is stored, so scope read suffices.
-	calc := r.Group("/v1", s.authenticate(ScopeRead), s.idempotency)
-	calc.POST("/potential", s.postPotential)
+	calc := r.Group("/v1", s.authenticate(ScopeRead))
+	calc.POST("/potential", s.idempotency, s.postPotential)
 	calc.POST("/operational", s.postOperational)
 	return r
 }
@@ -77,10 +93,41 @@ func (s *Server) recoverer(c *gin.Context) {
 // the cap fails with a 413 problem.
 func (s *Server) limitBody(c *gin.Context) {
 	if c.Request.ContentLength > s.cfg.BodyLimit {
-		s.writeProblem(c, &requestError{kind: errTooLarge, detail: "the body is larger than the limit of " +
+		s.writeProblem(c, &service.Error{Kind: errTooLarge, Detail: "the body is larger than the limit of " +
 			strconv.FormatInt(s.cfg.BodyLimit, 10) + " bytes"})
 		return
 	}
 	c.Request.Body = http.MaxBytesReader(c.Writer, c.Request.Body, s.cfg.BodyLimit)
 	c.Next()
+}
+
+// knownParams refuses a query parameter the route does not take
+// (queryParams).
+func (s *Server) knownParams(c *gin.Context) {
+	if c.FullPath() == "" {
+		c.Next() // no such route: NoRoute or NoMethod answers
+		return
+	}
+	allowed := queryParams[c.Request.Method+" "+c.FullPath()]
+	var unknown []string
+	for name := range c.Request.URL.Query() {
+		if !slices.Contains(allowed, name) {
+			unknown = append(unknown, name)
+		}
+	}
+	if len(unknown) == 0 {
+		c.Next()
+		return
+	}
+	slices.Sort(unknown)
+	takes := "takes no query parameters"
+	if len(allowed) > 0 {
+		takes = "takes only " + strings.Join(allowed, ", ")
+	}
+	e := &service.Error{Kind: errBadRequest, Detail: c.Request.Method + " " + c.FullPath() + " " + takes}
+	for _, name := range unknown {
+		e.Fields = append(e.Fields, FieldError{Parameter: name, Detail: "unknown parameter " + strconv.Quote(name)})
+	}
+	e.Detail = "unknown query parameter " + strconv.Quote(unknown[0]) + ": " + e.Detail
+	s.writeProblem(c, e)
 }

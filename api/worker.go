@@ -5,9 +5,9 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"math"
 	"sort"
 	"strconv"
-	"sync"
 	"time"
 
 	"sluice/api/wire"
@@ -86,19 +86,13 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 	if b := set.Fit.Bootstrap; b != nil {
 		bs = &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval), Seed: *b.Seed}
 	}
-	// Progress is advisory: written at most every 100 ms, off the fit's path.
-	var mu sync.Mutex
-	last := time.Now()
-	progress := func(done int) {
-		mu.Lock()
-		defer mu.Unlock()
-		if time.Since(last) > 100*time.Millisecond {
-			last = time.Now()
-			s.setProgress(ctx, plateID, done, len(curves))
-		}
-	}
+	// Progress is advisory: the fitting goroutines only count, and this
+	// goroutine's ticker writes the count at most every 100 ms.
+	var progress fit.Progress
+	stopProgress := s.reportProgress(ctx, plateID, &progress, len(curves))
 	start := time.Now()
-	results, err := fit.FitBatch(ctx, curves, fs, bs, s.cfg.FitWorkers, progress)
+	results, err := fit.FitBatch(ctx, curves, fs, bs, s.cfg.FitWorkers, &progress)
+	stopProgress()
 	if err != nil {
 		if errors.Is(err, fit.ErrInvalidInput) {
 			return s.failPlate(ctx, plateID, err)
@@ -119,15 +113,19 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 			return fmt.Errorf("plate %s curve %s: %w", plateID, pc.Key, err)
 		}
 		out[i] = db.PlateCurve{Key: pc.Key, CompoundID: pc.CompoundID, AntagonistID: pc.AntagonistID,
-			AntagonistConc: pc.AntagonistConc, Status: r.Status, Result: b}
+			AntagonistConc: pc.AntagonistConc, Model: string(r.Model), Status: r.Status, Result: b,
+			EngineVersion: fit.EngineVersion, Params: storedParams(r)}
+		if r.Boot != nil {
+			out[i].BootCols, out[i].BootDraws = len(r.Params), r.Boot.Draws
+		}
 		if r.Converged() {
 			l := r.LogEC50().Estimate
 			out[i].LogEC50 = &l
 		}
 	}
-	runs, err := s.plateSchild(p, specs, set, bs)
+	runs, err := s.plateSchild(ctx, p, specs, set, bs)
 	if err != nil {
-		return err
+		return err // cancelled: River retries
 	}
 	s.metrics.plateDuration.Observe(time.Since(start).Seconds())
 	if err := ctx.Err(); err != nil {
@@ -135,6 +133,11 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 	}
 	return s.store.Write(ctx, func(w db.Writer) error {
 		if err := w.FinishPlate(ctx, plateID, db.PlateDone, qcJSON, out, ""); err != nil {
+			return err
+		}
+		if err := w.SetPlateQC(ctx, plateID, &db.PlateQC{ZPrime: qc.ZPrime, SignalWindow: qc.SignalWindow,
+			SignalToBackground: qc.SignalBackground, MaxMean: qc.MeanMax, MaxCV: qc.CV["max_control"], MinMean: qc.MeanMin,
+			MinCV: qc.CV["min_control"], Pass: qc.Pass, Reasons: qc.Reasons}); err != nil {
 			return err
 		}
 		for _, r := range runs {
@@ -151,7 +154,7 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 // the plate: the agonist's curves at each antagonist concentration, with
 // its curve without antagonist (or at antagonist concentration 0) as the
 // control. IDs are derived from the plate, so a retried job makes the same.
-func (s *Server) plateSchild(p *db.Plate, specs []plate.CurveSpec, set plateSettings, bs *fit.BootSettings) ([]*db.SchildRun, error) {
+func (s *Server) plateSchild(ctx context.Context, p *db.Plate, specs []plate.CurveSpec, set plateSettings, bs *fit.BootSettings) ([]*db.SchildRun, error) {
 	type pair struct{ agonist, antagonist string }
 	groups := map[pair][]schild.Curve{}
 	controls := map[string]fit.Curve{}
@@ -191,12 +194,15 @@ func (s *Server) plateSchild(p *db.Plate, specs []plate.CurveSpec, set plateSett
 				sset.Resamples = fit.DefaultResamples
 			}
 		}
-		res, err := schild.Analyze(curves, sset)
+		res, err := schild.Analyze(ctx, curves, sset)
+		if ctx.Err() != nil {
+			return nil, fmt.Errorf("plate %s schild: %w", p.ID, ctx.Err())
+		}
 		if err != nil {
 			s.log.Warn("plate schild", "plate", p.ID, "agonist", k.agonist, "antagonist", k.antagonist, "err", err)
 			continue
 		}
-		out := schildResponse(res, curves, sset.Seed)
+		out := wire.FromSchild(res, curves, sset.Seed)
 		out.ID = p.ID + ":" + k.agonist + ":" + k.antagonist
 		out.PlateID, out.AgonistID, out.AntagonistID = p.ID, k.agonist, k.antagonist
 		out.CreatedAt = s.now().Format(time.RFC3339Nano)
@@ -215,11 +221,34 @@ func (s *Server) plateSchild(p *db.Plate, specs []plate.CurveSpec, set plateSett
 	return runs, nil
 }
 
-// setProgress records a running plate's progress. It is advisory: a
-// failure is logged, and the job goes on.
-func (s *Server) setProgress(ctx context.Context, plateID string, done, total int) {
-	if err := s.store.SetPlateProgress(ctx, plateID, db.PlateRunning, done, total); err != nil && ctx.Err() == nil {
-		s.log.Warn("plate progress", "plate", plateID, "err", err)
+// reportProgress writes the curves counted in progress to the plate every
+// 100 ms from its own goroutine, until the returned function is called; that
+// function returns once the goroutine has ended.
+func (s *Server) reportProgress(ctx context.Context, plateID string, progress *fit.Progress, total int) (stop func()) {
+	done := make(chan struct{})
+	ended := make(chan struct{})
+	go func() {
+		defer close(ended)
+		t := time.NewTicker(100 * time.Millisecond)
+		defer t.Stop()
+		last := 0
+		for {
+			select {
+			case <-done:
+				return
+			case <-ctx.Done():
+				return
+			case <-t.C:
+				if n := progress.Curves(); n != last {
+					last = n
+					s.setProgress(ctx, plateID, n, total)
+				}
+			}
+		}
+	}()
+	return func() {
+		close(done)
+		<-ended
 	}
 }
 
@@ -233,4 +262,29 @@ func (s *Server) failPlate(ctx context.Context, plateID string, cause error) err
 	}
 	s.log.Warn("plate failed", "plate", plateID, "err", cause)
 	return nil
+}
+
+// storedParams are a result's parameters as the store keeps them (NaN and
+// ±Inf as nil).
+func storedParams(r *fit.Result) []db.FitParam {
+	finite := func(v float64) *float64 {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil
+		}
+		return &v
+	}
+	ps := make([]db.FitParam, len(r.Params))
+	for i, p := range r.Params {
+		ps[i] = db.FitParam{Name: p.Name, Estimate: finite(p.Estimate), SE: finite(p.SE), WaldLo: finite(p.WaldLo),
+			WaldHi: finite(p.WaldHi), BootLo: finite(p.BootLo), BootHi: finite(p.BootHi), Fixed: p.Fixed, AtBound: p.AtBound}
+	}
+	return ps
+}
+
+// setProgress records a running plate's progress. It is advisory: a
+// failure is logged, and the job goes on.
+func (s *Server) setProgress(ctx context.Context, plateID string, done, total int) {
+	if err := s.store.SetPlateProgress(ctx, plateID, db.PlateRunning, done, total); err != nil && ctx.Err() == nil {
+		s.log.Warn("plate progress", "plate", plateID, "err", err)
+	}
 }

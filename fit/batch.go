@@ -2,10 +2,11 @@ package fit
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"runtime"
-	"sync"
-	"sync/atomic"
+
+	"sluice/fit/boot"
 )
 
 // CurveError says which curve of a batch has invalid input.
@@ -30,18 +31,24 @@ func (e *CurveError) Unwrap() error { return e.Err }
 // the spare workers instead. Results are in input order and, for a given
 // seed, identical for any number of workers. Every curve is validated before
 // any is fitted, so invalid input returns a *CurveError and no results.
-// progress, when not nil, is called after each curve with the number done.
 //
-// When ctx is done, curves not yet started are skipped and ctx.Err() is
-// returned with no results.
-func FitBatch(ctx context.Context, curves []Curve, s *Settings, bs *BootSettings, workers int, progress func(done int)) ([]*Result, error) {
+// progress, when not nil, counts finished curves and refitted resamples;
+// the fitting goroutines only add to it atomically, and the caller reads it
+// from its own goroutine (see Progress).
+//
+// ctx is checked before each curve and, inside a curve's bootstrap, before
+// each chunk of boot.Chunk resamples: when it is done, FitBatch returns an
+// error wrapping ctx.Err() within one chunk per worker, and no results. A
+// panic while fitting a curve is returned as an error wrapping a
+// *boot.PanicError whose Index is the curve's position.
+func FitBatch(ctx context.Context, curves []Curve, s *Settings, bs *BootSettings, workers int, progress *Progress) ([]*Result, error) {
 	set, err := s.resolve()
 	if err != nil {
 		return nil, err
 	}
-	var boot BootSettings
+	var bset BootSettings
 	if bs != nil {
-		if boot, err = bs.resolve(); err != nil {
+		if bset, err = bs.resolve(); err != nil {
 			return nil, err
 		}
 	}
@@ -56,38 +63,32 @@ func FitBatch(ctx context.Context, curves []Curve, s *Settings, bs *BootSettings
 		workers = runtime.GOMAXPROCS(0)
 	}
 	outer := min(workers, len(curves))
-	boot.Workers = max(1, workers/max(outer, 1))
+	bset.Workers = max(1, workers/max(outer, 1))
 	results := make([]*Result, len(curves))
-	var next, done atomic.Int64
-	var wg sync.WaitGroup
-	var mu sync.Mutex
-	for w := 0; w < outer; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				i := int(next.Add(1)) - 1
-				if i >= len(curves) || ctx.Err() != nil {
+	// A failed bootstrap (cancelled, or a refit panicked) stops the batch
+	// through cctx, and its error is the cause.
+	cctx, cancel := context.WithCancelCause(ctx)
+	defer cancel(nil)
+	// Curves are handed out one at a time: a curve with its bootstrap is
+	// a large item, and the bootstrap checks the context itself.
+	err = boot.RunChunked(cctx, len(curves), outer, 1, func() func(int) {
+		return func(i int) {
+			r := fitDesign(curves[i].ID, set, designs[i])
+			if bs != nil {
+				if err := r.bootstrap(cctx, bset, progress); err != nil {
+					cancel(err)
 					return
 				}
-				r := fitDesign(curves[i].ID, set, designs[i])
-				if bs != nil {
-					b := boot
-					Bootstrap(r, &b) // settings already validated: no error
-				}
-				results[i] = r
-				if progress != nil {
-					n := int(done.Add(1))
-					mu.Lock()
-					progress(n)
-					mu.Unlock()
-				}
 			}
-		}()
-	}
-	wg.Wait()
-	if err := ctx.Err(); err != nil {
-		return nil, err
+			results[i] = r
+			progress.AddCurve()
+		}
+	})
+	if err != nil {
+		if _, ok := errors.AsType[*boot.PanicError](err); !ok {
+			err = context.Cause(cctx)
+		}
+		return nil, fmt.Errorf("fit batch: %w", err)
 	}
 	return results, nil
 }

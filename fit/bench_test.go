@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -55,7 +56,7 @@ func BenchmarkBootstrap1000(b *testing.B) {
 	b.ReportAllocs()
 	for b.Loop() {
 		r, _ := Fit(c, nil)
-		if err := Bootstrap(r, &BootSettings{Resamples: 1000, Seed: 1, Workers: 1}); err != nil {
+		if err := Bootstrap(context.Background(), r, &BootSettings{Resamples: 1000, Seed: 1, Workers: 1}); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -1,6 +1,8 @@
 package fit
 
 import (
+	"context"
+	"fmt"
 	"math"
 	"slices"
 
@@ -110,11 +112,22 @@ func (b *BootSettings) Validate() error {
 // Bootstrap resamples the data behind a converged fit, refits every
 // resample from the estimate, and sets r.Boot and each free parameter's
 // BootLo and BootHi. A fit that did not converge is left unchanged.
-func Bootstrap(r *Result, bs *BootSettings) error {
+//
+// The resamples run in chunks of boot.Chunk and ctx is checked before each
+// chunk: when ctx is done, Bootstrap returns an error wrapping ctx.Err()
+// within one chunk per worker and leaves r unchanged. A panic in a refit is
+// returned as an error wrapping a *boot.PanicError.
+func Bootstrap(ctx context.Context, r *Result, bs *BootSettings) error {
 	s, err := bs.resolve()
 	if err != nil {
 		return err
 	}
+	return r.bootstrap(ctx, s, nil)
+}
+
+// bootstrap is Bootstrap with resolved settings, counting each refitted
+// resample in prog.
+func (r *Result) bootstrap(ctx context.Context, s BootSettings, prog *Progress) error {
 	if !r.Converged() {
 		return nil
 	}
@@ -147,10 +160,11 @@ func Bootstrap(r *Result, bs *BootSettings) error {
 	draws := make([]float64, B*np)
 	failed := make([]bool, B)
 	atBound := make([]bool, B)
-	boot.Run(B, s.Workers, func() func(int) {
+	err := boot.Run(ctx, B, s.Workers, func() func(int) {
 		sv := newSolver(set, d, true)
 		st := boot.NewStream()
 		return func(b int) {
+			defer prog.AddResample()
 			st.Reset(s.Seed, b)
 			if s.Scheme == SchemeResidual {
 				d.residualResample(st, fitted, resid, sv.ybuf, sv.wbuf)
@@ -170,6 +184,9 @@ func Bootstrap(r *Result, bs *BootSettings) error {
 			atBound[b] = sv.anyAtBound()
 		}
 	})
+	if err != nil {
+		return fmt.Errorf("bootstrap of curve %q: %w", r.Curve, err)
+	}
 	sum := &BootSummary{Resamples: B, Scheme: s.Scheme, Interval: s.Interval, Seed: s.Seed, Draws: draws}
 	for b := range failed {
 		if failed[b] {
@@ -183,7 +200,7 @@ func Bootstrap(r *Result, bs *BootSettings) error {
 	jackOK := make([]bool, d.n)
 	if s.Interval == IntervalBCa {
 		jack = make([]float64, d.n*np)
-		boot.Run(d.n, s.Workers, func() func(int) {
+		err := boot.Run(ctx, d.n, s.Workers, func() func(int) {
 			sv := newSolver(set, d, true)
 			return func(i int) {
 				d.leaveOneOut(i, fitted, sv.ybuf, sv.wbuf)
@@ -192,6 +209,9 @@ func Bootstrap(r *Result, bs *BootSettings) error {
 				}
 			}
 		})
+		if err != nil {
+			return fmt.Errorf("jackknife of curve %q: %w", r.Curve, err)
+		}
 		for _, ok := range jackOK {
 			if !ok {
 				sum.JackknifeFailed++

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -36,7 +37,7 @@ func TestBootstrapBitIdenticalAcrossWorkers(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if err := Bootstrap(r, &BootSettings{Resamples: 500, Scheme: scheme, Seed: 7, Workers: w}); err != nil {
+			if err := Bootstrap(context.Background(), r, &BootSettings{Resamples: 500, Scheme: scheme, Seed: 7, Workers: w}); err != nil {
 				t.Fatal(err)
 			}
 			if ref == nil {
@@ -54,7 +55,7 @@ func TestBootstrapBitIdenticalAcrossWorkers(t *testing.T) {
 		}
 		// A different seed gives different draws.
 		r, _ := Fit(c, nil)
-		Bootstrap(r, &BootSettings{Resamples: 500, Scheme: scheme, Seed: 8})
+		Bootstrap(context.Background(), r, &BootSettings{Resamples: 500, Scheme: scheme, Seed: 8})
 		if slices.Equal(r.Boot.Draws, ref.Boot.Draws) {
 			t.Errorf("%s: seeds 7 and 8 gave the same draws", scheme)
 		}
@@ -107,7 +108,7 @@ func TestSteepCurveFlagsSlopeBound(t *testing.T) {
 	if !slices.Contains(r.Flags, FlagHillAtBound) || !slices.Contains(r.Flags, FlagParameterAtBound) {
 		t.Errorf("flags %v lack %s and %s", r.Flags, FlagHillAtBound, FlagParameterAtBound)
 	}
-	if err := Bootstrap(r, &BootSettings{Resamples: 200, Seed: 1}); err != nil {
+	if err := Bootstrap(context.Background(), r, &BootSettings{Resamples: 200, Seed: 1}); err != nil {
 		t.Fatal(err)
 	}
 	if r.Boot.AtBound == 0 || !slices.Contains(r.Flags, FlagBootstrapAtBound) {
@@ -170,7 +171,7 @@ func TestBootstrapCoverage(t *testing.T) {
 			if err != nil || !r.Converged() {
 				t.Fatalf("curve %d: %v %v", i, err, r.Status)
 			}
-			if err := Bootstrap(r, &BootSettings{Resamples: 1000, Scheme: k.scheme, Interval: k.interval, Seed: uint64(i)}); err != nil {
+			if err := Bootstrap(context.Background(), r, &BootSettings{Resamples: 1000, Scheme: k.scheme, Interval: k.interval, Seed: uint64(i)}); err != nil {
 				t.Fatal(err)
 			}
 			if covered[k] == nil {
@@ -187,7 +188,7 @@ func TestBootstrapCoverage(t *testing.T) {
 		}
 	}
 	for _, k := range runs {
-		for j, name := range hillNames {
+		for j, name := range Hill.Params() {
 			n := covered[k][j]
 			t.Logf("%s %s %s: %d/%d covered", k.scheme, k.interval, name, n, N)
 			if n < lo || n > hi {
@@ -195,7 +196,7 @@ func TestBootstrapCoverage(t *testing.T) {
 			}
 		}
 	}
-	for j, name := range hillNames {
+	for j, name := range Hill.Params() {
 		t.Logf("wald %s: %d/%d covered", name, wald[j], N)
 	}
 }
@@ -211,7 +212,7 @@ func TestRefitToleranceKeepsIntervals(t *testing.T) {
 		fast, _ := Fit(c, nil)
 		full, _ := Fit(c, &Settings{Solver: &lm.Settings{FuncTol: 1e-15}})
 		for _, r := range []*Result{fast, full} {
-			if err := Bootstrap(r, &BootSettings{Resamples: 1000, Seed: uint64(i)}); err != nil {
+			if err := Bootstrap(context.Background(), r, &BootSettings{Resamples: 1000, Seed: uint64(i)}); err != nil {
 				t.Fatal(err)
 			}
 		}

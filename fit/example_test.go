@@ -1,6 +1,7 @@
 package fit_test
 
 import (
+	"context"
 	"fmt"
 
 	"sluice/fit"
@@ -22,7 +23,7 @@ func Example() {
 		fmt.Println(err)
 		return
 	}
-	if err := fit.Bootstrap(r, &fit.BootSettings{Resamples: 2000, Seed: 1}); err != nil {
+	if err := fit.Bootstrap(context.Background(), r, &fit.BootSettings{Resamples: 2000, Seed: 1}); err != nil {
 		fmt.Println(err)
 		return
 	}
@@ -37,4 +38,20 @@ func Example() {
 	// EC50 198 nM (95% BCa 175–221 nM), pEC50 6.70
 	// hill 1.09 ± 0.06
 	// log EC90 − log EC50 = 0.877
+}
+
+// ExampleParseModel shows the registry behind the model names: the parse
+// error lists the registered models, and a model describes its parameters.
+func ExampleParseModel() {
+	if _, err := fit.ParseModel("hill7"); err != nil {
+		fmt.Println(err)
+	}
+	m, _ := fit.ParseModel("bell")
+	fmt.Println(m, m.Params(), "monotone:", m.Monotone())
+	theta := []float64{0, 100, -6, 1.2, -4, 1}
+	fmt.Println("log_ec50", m.LogEC50(theta), "hill", m.HillSlope(theta), "top", m.Top(theta))
+	// Output:
+	// unknown model "hill7" (want hill, hill5 or bell)
+	// bell [bottom top log_ec50 hill log_ic50 hill_block] monotone: false
+	// log_ec50 -6 hill 1.2 top 100
 }

@@ -1,6 +1,7 @@
 package boot
 
 import (
+	"context"
 	"math"
 	"slices"
 	"testing"
@@ -80,13 +81,16 @@ func TestQuantileRule(t *testing.T) {
 func TestRunIndependentOfWorkers(t *testing.T) {
 	run := func(workers int) []float64 {
 		out := make([]float64, 1000)
-		Run(len(out), workers, func() func(int) {
+		err := Run(context.Background(), len(out), workers, func() func(int) {
 			s := NewStream()
 			return func(b int) {
 				s.Reset(42, b)
 				out[b] = s.Float64() + float64(s.IntN(1000))
 			}
 		})
+		if err != nil {
+			t.Fatal(err)
+		}
 		return out
 	}
 	one := run(1)

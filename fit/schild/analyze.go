@@ -1,6 +1,7 @@
 package schild
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -27,7 +28,12 @@ type Settings struct {
 	// within each curve); zero means none. At most 100 000.
 	Resamples int
 	Seed      uint64
-	Workers   int
+	// Workers is the number of goroutines of the bootstrap; zero means
+	// GOMAXPROCS.
+	Workers int
+	// Progress, when not nil, counts the bootstrap's refitted resamples
+	// (see fit.Progress); the caller reads it from its own goroutine.
+	Progress *fit.Progress
 	// MaxDepression: a curve whose fitted top lies more than this fraction
 	// below the control's is insurmountable. Zero means 0.2 (common
 	// practice; FACTS §2 asks for "a set tolerance").
@@ -105,7 +111,13 @@ type Result struct {
 // Analyze runs the whole analysis: individual fits, dose ratios, Schild
 // regression, the two global fits and their F test, the bootstrap, and the
 // checks that decide whether the antagonism is competitive.
-func Analyze(curves []Curve, s *Settings) (*Result, error) {
+//
+// ctx is checked before each individual fit and, in the bootstrap, before
+// each chunk of boot.Chunk resamples: when it is done, Analyze returns an
+// error wrapping ctx.Err() within one chunk per worker, and no result. A
+// panic in a bootstrap refit is returned as an error wrapping a
+// *boot.PanicError.
+func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) {
 	var set Settings
 	if s != nil {
 		set = *s
@@ -146,13 +158,16 @@ func Analyze(curves []Curve, s *Settings) (*Result, error) {
 		return nil, fmt.Errorf("%w: need the control and at least one antagonist concentration", fit.ErrInvalidInput)
 	}
 	res := &Result{Control: control, Competitive: true, Confidence: set.Confidence}
-	fs := &fit.Settings{Confidence: set.Confidence}
+	fs := &fit.Settings{Model: fit.Hill, Confidence: set.Confidence}
 	for i, c := range curves {
+		if err := ctx.Err(); err != nil {
+			return nil, fmt.Errorf("schild analysis: %w", err)
+		}
 		r, err := fit.Fit(fit.Curve{ID: fmt.Sprint(c.AntagonistConc), Points: c.Points}, fs)
 		if err != nil {
 			return nil, &CurveError{i, err}
 		}
-		if h, _ := r.Param("hill"); r.Converged() && h.Estimate < 0 {
+		if r.Converged() && r.HillSlope().Estimate < 0 {
 			return nil, &CurveError{i, fmt.Errorf("%w: the curve falls with agonist concentration; Schild analysis needs agonist curves", fit.ErrInvalidInput)}
 		}
 		res.Curves = append(res.Curves, r)
@@ -165,7 +180,7 @@ func Analyze(curves []Curve, s *Settings) (*Result, error) {
 		return res, nil
 	}
 	// Dose ratios, shape checks.
-	cTop, cHill, cL := ctl.Params[1].Estimate, ctl.Params[3].Estimate, ctl.Params[2]
+	cTop, cHill, cL := ctl.Top().Estimate, ctl.HillSlope().Estimate, ctl.LogEC50()
 	var abs, drs []float64
 	for i, r := range res.Curves {
 		if i == control {
@@ -175,17 +190,17 @@ func Analyze(curves []Curve, s *Settings) (*Result, error) {
 			res.addFlag(FlagCurveFailed)
 			continue
 		}
-		L := r.Params[2]
+		L := r.LogEC50()
 		d := L.Estimate - cL.Estimate
 		se := math.Hypot(L.SE, cL.SE)
 		t := tQuantile(min(r.DOF, ctl.DOF), set.Confidence)
 		dr := DoseRatio{AntagonistConc: curves[i].AntagonistConc, DoseRatio: Estimate{Estimate: math.Pow(10, d),
 			SE: math.Ln10 * math.Pow(10, d) * se, Lo: math.Pow(10, d-t*se), Hi: math.Pow(10, d+t*se)}}
 		res.DoseRatios = append(res.DoseRatios, dr)
-		if top := r.Params[1].Estimate; top < (1-set.MaxDepression)*cTop {
+		if top := r.Top().Estimate; top < (1-set.MaxDepression)*cTop {
 			res.addFlag(FlagInsurmountable)
 		}
-		if h := r.Params[3].Estimate; h > cHill*set.MaxSlopeRatio || h < cHill/set.MaxSlopeRatio {
+		if h := r.HillSlope().Estimate; h > cHill*set.MaxSlopeRatio || h < cHill/set.MaxSlopeRatio {
 			res.addFlag(FlagNonParallel)
 		}
 		if dr.DoseRatio.Estimate <= 1 {
@@ -209,7 +224,7 @@ func Analyze(curves []Curve, s *Settings) (*Result, error) {
 		res.ChengPrusoff = chengPrusoff(res, curves)
 		return res, nil
 	}
-	g, err := globalFits(res, curves, &set)
+	g, err := globalFits(ctx, res, curves, &set)
 	if err != nil {
 		return nil, err
 	}
@@ -241,22 +256,22 @@ func (r *Result) has(f string) bool { return slices.Contains(r.Flags, f) }
 // globalFits fits the model with s free and with s = 1 from starting values
 // taken from the individual fits and the Schild regression, tests s = 1,
 // and bootstraps both.
-func globalFits(res *Result, curves []Curve, set *Settings) (*Global, error) {
+func globalFits(ctx context.Context, res *Result, curves []Curve, set *Settings) (*Global, error) {
 	d := newGlobalData(curves)
 	ctl := res.Curves[res.Control]
 	var sumB, sumT, sumH float64
 	var k int
 	for _, r := range res.Curves {
 		if r.Converged() {
-			sumB += r.Params[0].Estimate
-			sumT += r.Params[1].Estimate
-			sumH += r.Params[3].Estimate
+			sumB += r.Bottom().Estimate
+			sumT += r.Top().Estimate
+			sumH += r.HillSlope().Estimate
 			k++
 		}
 	}
 	start := make([]float64, gParams)
 	start[gBottom], start[gTop], start[gHill] = sumB/float64(k), sumT/float64(k), sumH/float64(k)
-	start[gLogEC0] = ctl.Params[2].Estimate
+	start[gLogEC0] = ctl.LogEC50().Estimate
 	start[gPK], start[gSlope] = 8, 1
 	if reg := res.Regression; reg != nil && reg.Slope > 0.2 && reg.Slope < 5 {
 		start[gPK], start[gSlope] = reg.PA2, reg.Slope
@@ -294,7 +309,9 @@ func globalFits(res *Result, curves []Curve, set *Settings) (*Global, error) {
 		g.Shared[globalNames[j]] = g.Free.Params[j]
 	}
 	if set.Resamples > 0 {
-		bootGlobal(g, d, free, unity, lower, upper, set)
+		if err := bootGlobal(ctx, g, d, free, unity, lower, upper, set); err != nil {
+			return nil, fmt.Errorf("schild bootstrap: %w", err)
+		}
 	}
 	return g, nil
 }
@@ -321,8 +338,9 @@ func summarise(s *globalSolver, d *globalData) GlobalFit {
 
 // bootGlobal resamples the s-free fit's residuals within each curve,
 // refits both models, and replaces the Wald intervals of pA2, s and pKB by
-// percentile intervals.
-func bootGlobal(g *Global, d *globalData, free, unity *globalSolver, lower, upper []float64, set *Settings) {
+// percentile intervals. On an error (ctx done, a refit panicked) g is left
+// unchanged.
+func bootGlobal(ctx context.Context, g *Global, d *globalData, free, unity *globalSolver, lower, upper []float64, set *Settings) error {
 	// Point residuals of the s-free fit, centred and scaled within each
 	// curve by √(nᵢ/(nᵢ − p/ncurves)) (an even share of the parameters).
 	fitted := make([]float64, len(d.levels))
@@ -354,12 +372,13 @@ func bootGlobal(g *Global, d *globalData, free, unity *globalSolver, lower, uppe
 	draws := make([][3]float64, B)
 	ok := make([]bool, B)
 	refit := &lm.Settings{EstimateOnly: true, FuncTol: 1e-10}
-	boot.Run(B, set.Workers, func() func(int) {
+	err := boot.Run(ctx, B, set.Workers, func() func(int) {
 		fs := newGlobalSolver(d, false, lower, upper, true)
 		us := newGlobalSolver(d, true, lower, upper, true)
 		st := boot.NewStream()
 		y := make([]float64, len(d.levels))
 		return func(b int) {
+			defer set.Progress.AddResample()
 			st.Reset(set.Seed, b)
 			for l := range d.levels {
 				rs := byCurve[d.levels[l].curve]
@@ -376,6 +395,9 @@ func bootGlobal(g *Global, d *globalData, free, unity *globalSolver, lower, uppe
 			ok[b] = true
 		}
 	})
+	if err != nil {
+		return err
+	}
 	g.Resamples = B
 	cols := [3][]float64{}
 	for b := range draws {
@@ -388,12 +410,13 @@ func bootGlobal(g *Global, d *globalData, free, unity *globalSolver, lower, uppe
 		}
 	}
 	if len(cols[0]) == 0 {
-		return
+		return nil
 	}
 	for j, e := range []*Estimate{&g.PA2, &g.Slope, &g.PKB} {
 		slices.Sort(cols[j])
 		e.Lo, e.Hi = boot.Percentile(cols[j], set.Confidence)
 	}
+	return nil
 }
 
 // chengPrusoff reads the inhibition of the control's EC80 response off the
@@ -401,25 +424,25 @@ func bootGlobal(g *Global, d *globalData, free, unity *globalSolver, lower, uppe
 // the IC50 into KB by the functional Cheng–Prusoff correction.
 func chengPrusoff(res *Result, curves []Curve) *CPEstimate {
 	ctl := res.Curves[res.Control]
-	th0 := ctl.Estimates()
+	th0, bottom0 := ctl.Estimates(), ctl.Bottom().Estimate
 	a := math.Pow(10, ctl.LogECF(80))
-	base := fit.Hill.Value(th0, a) - th0[0]
+	base := fit.Hill.Value(th0, a) - bottom0
 	var inh fit.Curve
 	for i, r := range res.Curves {
 		if i == res.Control || !r.Converged() {
 			continue
 		}
-		f := fit.Hill.Value(r.Estimates(), a) - th0[0]
+		f := fit.Hill.Value(r.Estimates(), a) - bottom0
 		inh.Points = append(inh.Points, fit.Point{Conc: curves[i].AntagonistConc, Response: 100 * (1 - f/base)})
 	}
 	if len(inh.Points) < 3 {
 		return nil
 	}
-	r, err := fit.Fit(inh, &fit.Settings{Fixed: map[string]float64{"bottom": 0, "top": 100}})
+	r, err := fit.Fit(inh, &fit.Settings{Model: fit.Hill, Fixed: map[string]float64{"bottom": 0, "top": 100}})
 	if err != nil || !r.Converged() {
 		return nil
 	}
 	ic50 := math.Pow(10, r.LogEC50().Estimate)
-	kb := ChengPrusoff(ic50, a, math.Pow(10, th0[2]), th0[3])
+	kb := ChengPrusoff(ic50, a, math.Pow(10, ctl.LogEC50().Estimate), ctl.HillSlope().Estimate)
 	return &CPEstimate{AgonistConc: a, IC50: ic50, KB: kb, PKB: -math.Log10(kb)}
 }

@@ -1,6 +1,7 @@
 package schild
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -30,7 +31,7 @@ func BenchmarkSchild1000(b *testing.B) {
 	}
 	b.ReportAllocs()
 	for b.Loop() {
-		r, err := Analyze(cs, &Settings{Resamples: 1000, Seed: 1})
+		r, err := Analyze(context.Background(), cs, &Settings{Resamples: 1000, Seed: 1})
 		if err != nil || r.Global == nil || r.Global.Failed > 0 {
 			b.Fatalf("%v %+v", err, r)
 		}

@@ -1,6 +1,7 @@
 package schild
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -104,7 +105,7 @@ func gaddumData(rng *rand.Rand, pkb, s, sd float64, reps int) []Curve {
 // FACTS §2 "Global-fit recovery": noise-free data give back the generating
 // values to 1e-6.
 func TestGlobalRecoveryFACTS(t *testing.T) {
-	r, err := Analyze(gaddumData(nil, 8, 1, 0, 1), nil)
+	r, err := Analyze(context.Background(), gaddumData(nil, 8, 1, 0, 1), nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -123,7 +124,7 @@ func TestGlobalRecoveryFACTS(t *testing.T) {
 		near(t, "dose ratio", dr.DoseRatio.Estimate, 1+dr.AntagonistConc/1e-8, 1e-4*dr.DoseRatio.Estimate)
 	}
 	// A non-unit slope is recovered too, and s = 1 is rejected.
-	r, err = Analyze(gaddumData(nil, 8, 0.7, 0, 1), nil)
+	r, err = Analyze(context.Background(), gaddumData(nil, 8, 0.7, 0, 1), nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -141,7 +142,7 @@ func TestInsurmountable(t *testing.T) {
 			cs[i].Points[k].Response = fit.Hill.Value([]float64{0, 100 * drop, -6, 1.2}, cs[i].Points[k].Conc)
 		}
 	}
-	r, err := Analyze(cs, nil)
+	r, err := Analyze(context.Background(), cs, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -170,7 +171,7 @@ func TestGlobalCoverage(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 8))
 	var pkb, slope int
 	for i := 0; i < N; i++ {
-		r, err := Analyze(gaddumData(rng, 8, 1, 4, 2), &Settings{Resamples: 400, Seed: uint64(i)})
+		r, err := Analyze(context.Background(), gaddumData(rng, 8, 1, 4, 2), &Settings{Resamples: 400, Seed: uint64(i)})
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -52,3 +52,16 @@ func BenchmarkBand1000x200(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkCostUnit calibrates membrane.Cost: one full scan of the Mg²⁺
+// equation of the cell, reported per evaluation of the equation
+// (ns/eval), on one goroutine.
+func BenchmarkCostUnit(b *testing.B) {
+	rest, ch, _, _ := benchBand()
+	eq := newMgEquation(rest, ch)
+	g := ch.MaxConductance() * 0.5
+	for b.Loop() {
+		eq.scan(g, -70)
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/(scanSteps+1+35), "ns/eval")
+}

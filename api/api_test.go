@@ -144,7 +144,7 @@ func TestFitLifecycle(t *testing.T) {
 			t.Errorf("GET returns %d, a different body:\n%s\nvs\n%s", r.Code, r.Body, w.Body)
 		}
 		l := ts.do("GET", "/v1/fits?compound_id=DNase-1&limit=10", ScopeRead, "")
-		var list FitList
+		var list wire.FitList
 		json.Unmarshal(l.Body.Bytes(), &list)
 		if l.Code != 200 || len(list.Fits) != 1 || list.Caution == "" {
 			t.Errorf("list: %d %s", l.Code, l.Body)
@@ -327,7 +327,7 @@ func TestCatalogueEndpoints(t *testing.T) {
 		t.Errorf("bad id: %d %s", w.Code, w.Body)
 	}
 	g := ts.do("GET", "/v1/assays/LGX7-dye", ScopeRead, "")
-	var e CatalogueEntry
+	var e wire.CatalogueEntry
 	json.Unmarshal(g.Body.Bytes(), &e)
 	if g.Code != 200 || e.Units != "% max" || e.CreatedBy != "test-submit" {
 		t.Errorf("get: %d %+v", g.Code, e)

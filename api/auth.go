@@ -13,6 +13,7 @@ import (
 
 	"github.com/gin-gonic/gin"
 
+	"sluice/api/service"
 	"sluice/db"
 )
 
@@ -45,16 +46,25 @@ func HashToken(secret string) string {
 	return hex.EncodeToString(h[:])
 }
 
-const actorKey = "sluice.actor"
+const (
+	actorKey = "sluice.actor"
+	scopeKey = "sluice.scope"
+)
 
 // actor returns the name of the token behind the request.
 func actor(c *gin.Context) string { return c.GetString(actorKey) }
+
+// callerOf is who sent the request, for the use cases.
+func callerOf(c *gin.Context) service.Caller {
+	return service.Caller{Name: c.GetString(actorKey), Scope: c.GetString(scopeKey)}
+}
 
 // authenticate admits requests whose bearer token has at least the scope.
 func (s *Server) authenticate(scope string) gin.HandlerFunc {
 	return func(c *gin.Context) {
 		if s.cfg.AuthDisabled {
 			c.Set(actorKey, "anonymous")
+			c.Set(scopeKey, ScopeAdmin)
 			c.Next()
 			return
 		}
@@ -62,13 +72,13 @@ func (s *Server) authenticate(scope string) gin.HandlerFunc {
 		secret, ok := strings.CutPrefix(h, "Bearer ")
 		if !ok || strings.TrimSpace(secret) == "" {
 			c.Header("WWW-Authenticate", `Bearer realm="sluice"`)
-			s.writeProblem(c, &requestError{kind: errUnauthenticated, detail: "send Authorization: Bearer <token>"})
+			s.writeProblem(c, &service.Error{Kind: errUnauthenticated, Detail: "send Authorization: Bearer <token>"})
 			return
 		}
 		tok, err := s.tokens.lookup(c.Request.Context(), HashToken(strings.TrimSpace(secret)))
 		if errors.Is(err, db.ErrNotFound) {
 			c.Header("WWW-Authenticate", `Bearer realm="sluice", error="invalid_token"`)
-			s.writeProblem(c, &requestError{kind: errUnauthenticated, detail: "the token is not valid"})
+			s.writeProblem(c, &service.Error{Kind: errUnauthenticated, Detail: "the token is not valid"})
 			return
 		}
 		if err != nil {
@@ -76,11 +86,12 @@ func (s *Server) authenticate(scope string) gin.HandlerFunc {
 			return
 		}
 		if scopeRank[tok.Scope] < scopeRank[scope] {
-			s.writeProblem(c, &requestError{kind: errForbidden,
-				detail: fmt.Sprintf("token %q has scope %s; this needs %s", tok.Name, tok.Scope, scope)})
+			s.writeProblem(c, &service.Error{Kind: errForbidden,
+				Detail: fmt.Sprintf("token %q has scope %s; this needs %s", tok.Name, tok.Scope, scope)})
 			return
 		}
 		c.Set(actorKey, tok.Name)
+		c.Set(scopeKey, tok.Scope)
 		c.Next()
 	}
 }

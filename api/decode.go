@@ -1,6 +1,8 @@
 package api
 
 import (
+	"sluice/api/service"
+
 	"bytes"
 	"encoding/json"
 	"errors"
@@ -19,10 +21,10 @@ func readBody(c *gin.Context) ([]byte, error) {
 	b, err := io.ReadAll(c.Request.Body)
 	var mbe *http.MaxBytesError
 	if errors.As(err, &mbe) {
-		return nil, &requestError{kind: errTooLarge, detail: fmt.Sprintf("the body is larger than the limit of %d bytes", mbe.Limit)}
+		return nil, &service.Error{Kind: errTooLarge, Detail: fmt.Sprintf("the body is larger than the limit of %d bytes", mbe.Limit)}
 	}
 	if err != nil {
-		return nil, &requestError{kind: errBadRequest, detail: "reading the body: " + err.Error()}
+		return nil, &service.Error{Kind: errBadRequest, Detail: "reading the body: " + err.Error()}
 	}
 	return b, nil
 }
@@ -35,7 +37,7 @@ func requireJSON(c *gin.Context) error {
 	}
 	mt, _, err := mime.ParseMediaType(ct)
 	if err != nil || (mt != "application/json" && !strings.HasSuffix(mt, "+json")) {
-		return &requestError{kind: errUnsupportedType, detail: fmt.Sprintf("Content-Type %q: want application/json", ct)}
+		return &service.Error{Kind: errUnsupportedType, Detail: fmt.Sprintf("Content-Type %q: want application/json", ct)}
 	}
 	return nil
 }
@@ -64,14 +66,14 @@ func (s *Server) readJSON(c *gin.Context, dst any) (body []byte, ok bool) {
 // and wrong types are errors that point at the field (RFC 6901).
 func decodeJSON(body []byte, dst any) error {
 	if len(bytes.TrimSpace(body)) == 0 {
-		return &requestError{kind: errBadRequest, detail: "the body is empty; want a JSON object"}
+		return &service.Error{Kind: errBadRequest, Detail: "the body is empty; want a JSON object"}
 	}
 	dec := json.NewDecoder(bytes.NewReader(body))
 	dec.DisallowUnknownFields()
 	err := dec.Decode(dst)
 	if err == nil {
 		if _, terr := dec.Token(); terr != io.EOF {
-			return &requestError{kind: errBadRequest, detail: "unexpected data after the JSON object"}
+			return &service.Error{Kind: errBadRequest, Detail: "unexpected data after the JSON object"}
 		}
 		return nil
 	}
@@ -79,23 +81,23 @@ func decodeJSON(body []byte, dst any) error {
 	var te *json.UnmarshalTypeError
 	switch {
 	case errors.As(err, &se):
-		return &requestError{kind: errBadRequest, detail: fmt.Sprintf("malformed JSON at byte %d: %v", se.Offset, se)}
+		return &service.Error{Kind: errBadRequest, Detail: fmt.Sprintf("malformed JSON at byte %d: %v", se.Offset, se)}
 	case errors.As(err, &te):
 		ptr := pointerAt(body, te.Offset)
 		d := fmt.Sprintf("%s is not a valid %s", te.Value, te.Type)
 		if strings.HasPrefix(te.Value, "number") && te.Type.String() == "float64" {
 			d = te.Value + " is out of range"
 		}
-		return &requestError{kind: errInvalid, detail: ptr + ": " + d, fields: []FieldError{{Pointer: ptr, Detail: d}}}
+		return &service.Error{Kind: errInvalid, Detail: ptr + ": " + d, Fields: []FieldError{{Pointer: ptr, Detail: d}}}
 	case strings.HasPrefix(err.Error(), "json: unknown field "):
 		name, _ := strconv.Unquote(strings.TrimPrefix(err.Error(), "json: unknown field "))
 		ptr := pointerOfKey(body, name)
 		d := fmt.Sprintf("unknown field %q", name)
-		return &requestError{kind: errInvalid, detail: d, fields: []FieldError{{Pointer: ptr, Detail: d}}}
+		return &service.Error{Kind: errInvalid, Detail: d, Fields: []FieldError{{Pointer: ptr, Detail: d}}}
 	case errors.Is(err, io.ErrUnexpectedEOF):
-		return &requestError{kind: errBadRequest, detail: "the JSON body ends early"}
+		return &service.Error{Kind: errBadRequest, Detail: "the JSON body ends early"}
 	}
-	return &requestError{kind: errBadRequest, detail: err.Error()}
+	return &service.Error{Kind: errBadRequest, Detail: err.Error()}
 }
 
 // pointerAt returns the JSON Pointer of the value that ends at byte offset

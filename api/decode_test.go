@@ -1,6 +1,8 @@
 package api
 
 import (
+	"sluice/api/service"
+
 	"errors"
 	"testing"
 )
@@ -34,11 +36,11 @@ func TestDecodeJSONPointers(t *testing.T) {
 			t.Errorf("%s: %v, want kind %v", c.body, err, c.kind)
 			continue
 		}
-		var re *requestError
+		var re *service.Error
 		errors.As(err, &re)
 		got := ""
-		if len(re.fields) > 0 {
-			got = re.fields[0].Pointer
+		if len(re.Fields) > 0 {
+			got = re.Fields[0].Pointer
 		}
 		if got != c.pointer {
 			t.Errorf("%s: pointer %q, want %q (%v)", c.body, got, c.pointer, err)

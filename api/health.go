@@ -1,6 +1,8 @@
 package api
 
 import (
+	"sluice/api/service"
+
 	"context"
 	"net/http"
 	"time"
@@ -19,7 +21,7 @@ func (s *Server) readyz(c *gin.Context) {
 	defer cancel()
 	if err := s.store.Ping(ctx); err != nil {
 		s.log.Warn("not ready", "err", err)
-		s.writeProblem(c, &requestError{kind: errUnavailable, detail: "the " + s.store.Engine() + " database does not answer"})
+		s.writeProblem(c, &service.Error{Kind: errUnavailable, Detail: "the " + s.store.Engine() + " database does not answer"})
 		return
 	}
 	c.JSON(http.StatusOK, gin.H{"status": "ready", "database": s.store.Engine()})

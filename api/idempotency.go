@@ -2,40 +2,50 @@ package api
 
 import (
 	"bytes"
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
-	"fmt"
 	"io"
+	"strings"
 
 	"github.com/gin-gonic/gin"
 
+	"sluice/api/service"
 	"sluice/db"
 )
 
-// MaxIdempotencyKey bounds the Idempotency-Key header.
-const MaxIdempotencyKey = 255
+// idemOf builds a request's idempotency from its Idempotency-Key header
+// (nil without one): the route, the query parameters except wait (which
+// changes only how the caller is answered) and the body.
+func idemOf(c *gin.Context, body []byte) (*service.Idem, error) {
+	params := map[string]string{}
+	for k, vs := range c.Request.URL.Query() {
+		if k != "wait" {
+			params[k] = strings.Join(vs, "\x00")
+		}
+	}
+	return service.NewIdem(c.GetHeader("Idempotency-Key"), c.Request.Method+" "+c.FullPath(), params, body)
+}
+
+// writeReply sends a use case's reply; a replayed one is marked
+// Idempotency-Replayed: true.
+func writeReply(c *gin.Context, r *service.Reply) {
+	if r.Location != "" {
+		c.Header("Location", r.Location)
+	}
+	if r.Replayed {
+		c.Header("Idempotency-Replayed", "true")
+	}
+	c.Data(r.Status, r.ContentType, r.Body)
+}
 
 const idemKey = "sluice.idempotency"
 
-// idemRequest is a POST's key and the hash of what it asked.
-type idemRequest struct {
-	key, hash string
-}
-
-// idempotency implements the Idempotency-Key header on POSTs: a retry with
-// the same key and body gets the original response (marked
-// Idempotency-Replayed: true); the same key with another body is a 409.
-// Keys belong to the token that used them. The record is written in the
-// same transaction as whatever the request stored (see respond).
+// idempotency is the Idempotency-Key header for the routes whose handlers
+// still store through respond: a retry with the same key and request gets
+// the original response; the same key with another request is a 409. The
+// use cases of api/service do this themselves (service.NewIdem).
 func (s *Server) idempotency(c *gin.Context) {
-	key := c.GetHeader("Idempotency-Key")
-	if key == "" {
+	if c.GetHeader("Idempotency-Key") == "" {
 		c.Next()
-		return
-	}
-	if len(key) > MaxIdempotencyKey {
-		s.writeProblem(c, &requestError{kind: errBadRequest, detail: fmt.Sprintf("Idempotency-Key is longer than %d bytes", MaxIdempotencyKey)})
 		return
 	}
 	body, err := readBody(c)
@@ -44,10 +54,11 @@ func (s *Server) idempotency(c *gin.Context) {
 		return
 	}
 	c.Request.Body = io.NopCloser(bytes.NewReader(body))
-	h := sha256.New()
-	fmt.Fprintf(h, "%s %s?%s\n", c.Request.Method, c.Request.URL.Path, c.Request.URL.RawQuery)
-	h.Write(body)
-	req := idemRequest{key: key, hash: hex.EncodeToString(h.Sum(nil))}
+	req, err := idemOf(c, body)
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
 	if s.replay(c, req) {
 		return
 	}
@@ -56,8 +67,8 @@ func (s *Server) idempotency(c *gin.Context) {
 }
 
 // replay answers from a stored record and reports whether it did.
-func (s *Server) replay(c *gin.Context, req idemRequest) bool {
-	rec, err := s.store.Idempotent(c.Request.Context(), actor(c), req.key)
+func (s *Server) replay(c *gin.Context, req *service.Idem) bool {
+	rec, err := s.store.Idempotent(c.Request.Context(), actor(c), req.Key)
 	if errors.Is(err, db.ErrNotFound) {
 		return false
 	}
@@ -65,9 +76,9 @@ func (s *Server) replay(c *gin.Context, req idemRequest) bool {
 		s.writeProblem(c, err)
 		return true
 	}
-	if rec.RequestSHA256 != req.hash {
-		s.writeProblem(c, &requestError{kind: errIdempotencyBody,
-			detail: "this Idempotency-Key was used for a different request; use a new key"})
+	if rec.RequestSHA256 != req.Hash {
+		s.writeProblem(c, &service.Error{Kind: service.ErrConflict,
+			Detail: "this Idempotency-Key was used for a different request; use a new key"})
 		return true
 	}
 	c.Header("Idempotency-Replayed", "true")
@@ -90,13 +101,13 @@ func (s *Server) respondBuilt(c *gin.Context, status int, contentType string, bu
 		}
 		body = build()
 		if keyed {
-			req := v.(idemRequest)
-			return w.InsertIdempotent(ctx, &db.Idempotent{Actor: actor(c), Key: req.key, RequestSHA256: req.hash,
+			req := v.(*service.Idem)
+			return w.InsertIdempotent(ctx, &db.Idempotent{Actor: actor(c), Key: req.Key, RequestSHA256: req.Hash,
 				Status: status, ContentType: contentType, Body: body, CreatedAt: s.now()})
 		}
 		return nil
 	})
-	if keyed && errors.Is(err, db.ErrExists) && s.replay(c, v.(idemRequest)) {
+	if keyed && errors.Is(err, db.ErrExists) && s.replay(c, v.(*service.Idem)) {
 		return
 	}
 	if err != nil {

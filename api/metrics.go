@@ -101,3 +101,16 @@ func (p poolCollector) Collect(ch chan<- prometheus.Metric) {
 	ch <- prometheus.MustNewConstMetric(poolInUseDesc, prometheus.GaugeValue, float64(s.InUse), e)
 	ch <- prometheus.MustNewConstMetric(poolIdleDesc, prometheus.GaugeValue, float64(s.Idle), e)
 }
+
+// CurveFitted implements service.Observer.
+func (m *metrics) CurveFitted(model, status string, d time.Duration, resamples, failedRefits int) {
+	m.fitDuration.WithLabelValues(model).Observe(d.Seconds())
+	m.fits.WithLabelValues(model, status).Inc()
+	if resamples > 0 {
+		m.resamples.Add(float64(resamples))
+		m.failedRefits.Add(float64(failedRefits))
+	}
+}
+
+// PlateFitted implements service.Observer.
+func (m *metrics) PlateFitted(d time.Duration) { m.plateDuration.Observe(d.Seconds()) }

@@ -1,13 +1,17 @@
 package api
 
 import (
+	"bytes"
 	"encoding/json"
+	"reflect"
 	"regexp"
+	"slices"
 	"sort"
 	"strings"
 	"testing"
 
 	"sluice/db/dbtest"
+	"sluice/fit"
 )
 
 // The OpenAPI document lists exactly the routes the router serves.
@@ -64,5 +68,84 @@ func TestOpenAPIMatchesRoutes(t *testing.T) {
 			}
 			node = obj[part]
 		}
+	}
+}
+
+// The served document's Model schema comes from fit's registry: its enum is
+// the registry's names in order and its default the registry's default,
+// for the built-in registry and for any other.
+func TestOpenAPIModelsFromRegistry(t *testing.T) {
+	ts := newTestServer(t, dbtest.SQLite(t))
+	w := ts.do("GET", "/v1/openapi.json", "", "")
+	if w.Code != 200 {
+		t.Fatalf("GET /v1/openapi.json: %d", w.Code)
+	}
+	checkModelSchema(t, w.Body.Bytes(), fit.Builtin())
+
+	one, err := fit.NewRegistry(fit.Hill5.Spec())
+	if err != nil {
+		t.Fatal(err)
+	}
+	doc, err := openAPIDocument(openAPIDoc, one)
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkModelSchema(t, doc, one)
+	// Apart from the Model schema, the served document is the file.
+	var file, served map[string]any
+	if err := json.Unmarshal(openAPIDoc, &file); err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(w.Body.Bytes(), &served); err != nil {
+		t.Fatal(err)
+	}
+	for _, d := range []map[string]any{file, served} {
+		delete(d["components"].(map[string]any)["schemas"].(map[string]any), "Model")
+	}
+	if !reflect.DeepEqual(file, served) {
+		t.Error("the served document differs from openapi.json beyond the Model schema")
+	}
+	// Byte for byte, too: the rest is served as written.
+	start, end, err := valueSpan(openAPIDoc, "components", "schemas", "Model")
+	if err != nil {
+		t.Fatal(err)
+	}
+	body := w.Body.Bytes()
+	if !bytes.HasPrefix(body, openAPIDoc[:start]) || !bytes.HasSuffix(body, openAPIDoc[end:]) {
+		t.Error("the served document rewrites more than the Model schema")
+	}
+	// A document without the schema is an error, not a silent omission.
+	if _, err := openAPIDocument([]byte(`{"components": {"schemas": {"Problem": {}}}}`), fit.Builtin()); err == nil {
+		t.Error("a document without components.schemas.Model was accepted")
+	}
+}
+
+func checkModelSchema(t *testing.T, doc []byte, models *fit.Registry) {
+	t.Helper()
+	var d struct {
+		Components struct {
+			Schemas struct {
+				Model struct {
+					Type        string   `json:"type"`
+					Enum        []string `json:"enum"`
+					Default     string   `json:"default"`
+					Description string   `json:"description"`
+				} `json:"Model"`
+			} `json:"schemas"`
+		} `json:"components"`
+	}
+	if err := json.Unmarshal(doc, &d); err != nil {
+		t.Fatal(err)
+	}
+	m := d.Components.Schemas.Model
+	var want []string
+	for _, n := range models.Names() {
+		want = append(want, string(n))
+		if spec, _ := models.Lookup(n); !strings.Contains(m.Description, spec.Summary()) {
+			t.Errorf("Model description %q lacks %s's summary", m.Description, n)
+		}
+	}
+	if m.Type != "string" || !slices.Equal(m.Enum, want) || m.Default != string(models.Default()) {
+		t.Errorf("Model schema %+v, want enum %v, default %s", m, want, models.Default())
 	}
 }

@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"sluice/api/wire"
 	"sluice/db/dbtest"
 	"sluice/fit"
 	"sluice/fit/schild"
@@ -27,7 +28,7 @@ func TestOperationalEndpoint(t *testing.T) {
 	if w.Code != 200 {
 		t.Fatalf("%d %s", w.Code, w.Body)
 	}
-	var o OperationalResponse
+	var o wire.OperationalResponse
 	json.Unmarshal(w.Body.Bytes(), &o)
 	if math.Abs(float64(o.Tau.Estimate)-1.5) > 1e-3 || math.Abs(float64(o.KA.Estimate)-2e-6) > 2e-9 || math.Abs(o.Em-100) > 1e-3 {
 		t.Errorf("%s", w.Body)

@@ -18,6 +18,7 @@ import (
 	"github.com/gin-gonic/gin"
 
 	"sluice/api/ingest"
+	"sluice/api/service"
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
@@ -54,7 +55,7 @@ type PlateFitIn struct {
 	Fixed      map[string]float64 `json:"fixed,omitempty"`
 	Confidence float64            `json:"confidence,omitempty"`
 	MaxHill    float64            `json:"max_hill,omitempty"`
-	Bootstrap  *BootstrapIn       `json:"bootstrap,omitempty"`
+	Bootstrap  *wire.BootstrapIn  `json:"bootstrap,omitempty"`
 }
 
 // plateSettings is what the worker needs besides the wells; stored as the
@@ -78,7 +79,7 @@ func wellError(loc locate, i int, field, format string, a ...any) error {
 	d := fmt.Sprintf(format, a...)
 	fe := loc(i, field)
 	fe.Detail = d
-	return &requestError{kind: errInvalid, detail: d, fields: []FieldError{fe}}
+	return &service.Error{Kind: errInvalid, Detail: d, Fields: []FieldError{fe}}
 }
 
 // validPlate is a checked plate, ready to store.
@@ -206,7 +207,7 @@ func prefixPointer(err error, prefix string) error {
 	for i := range fields {
 		fields[i].Pointer = prefix + fields[i].Pointer
 	}
-	return &requestError{kind: errInvalid, detail: err.Error(), fields: fields}
+	return &service.Error{Kind: errInvalid, Detail: err.Error(), Fields: fields}
 }
 
 // createPlate is POST /v1/plates: JSON, long CSV (text/csv), or a reader
@@ -260,7 +261,7 @@ func (s *Server) createPlate(c *gin.Context) {
 		}
 		wells = wellsFromJSON(req.Wells)
 	default:
-		s.writeProblem(c, &requestError{kind: errUnsupportedType, detail: "Content-Type: want application/json or text/csv"})
+		s.writeProblem(c, &service.Error{Kind: errUnsupportedType, Detail: "Content-Type: want application/json or text/csv"})
 		return
 	}
 	v, err := s.validatePlate(&req, wells, loc)
@@ -338,7 +339,7 @@ func wellsFromJSON(ws []WellJSON) []ingest.WellIn {
 func fitFromQuery(get func(string) string) (*PlateFitIn, error) {
 	f := &PlateFitIn{Model: get("model")}
 	if r := get("resamples"); r != "" || get("seed") != "" || get("scheme") != "" || get("interval") != "" {
-		b := &BootstrapIn{Scheme: get("scheme"), Interval: get("interval")}
+		b := &wire.BootstrapIn{Scheme: get("scheme"), Interval: get("interval")}
 		if r != "" {
 			n, err := strconv.Atoi(r)
 			if err != nil {
@@ -403,7 +404,7 @@ func (s *Server) createLayout(c *gin.Context) {
 	if _, ok := s.readJSON(c, &req); !ok {
 		return
 	}
-	if !idPattern.MatchString(req.ID) {
+	if !service.ValidID(req.ID) {
 		s.writeProblem(c, invalidField("/id", "id %q must be 1–100 letters, digits or ._:-", req.ID))
 		return
 	}
@@ -571,7 +572,7 @@ type JobView struct {
 func (s *Server) getJob(c *gin.Context) {
 	id, err := strconv.ParseInt(c.Param("id"), 10, 64)
 	if err != nil {
-		s.writeProblem(c, &requestError{kind: db.ErrNotFound, detail: "no job " + c.Param("id")})
+		s.writeProblem(c, &service.Error{Kind: db.ErrNotFound, Detail: "no job " + c.Param("id")})
 		return
 	}
 	ctx := c.Request.Context()

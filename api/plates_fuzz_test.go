@@ -5,6 +5,7 @@ import (
 	"errors"
 	"testing"
 
+	"sluice/api/service"
 	"sluice/db/dbtest"
 )
 
@@ -28,7 +29,7 @@ func FuzzPlateJSON(f *testing.F) {
 		}
 		v, err := ts.srv.validatePlate(&req, wellsFromJSON(req.Wells), jsonLocate)
 		if err != nil {
-			var re *requestError
+			var re *service.Error
 			if s := statusOf(err); s >= 500 || !errors.As(err, &re) {
 				t.Fatalf("validate: %d %v for %q", s, err, in)
 			}

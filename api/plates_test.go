@@ -10,6 +10,7 @@ import (
 	"testing"
 	"time"
 
+	"sluice/api/wire"
 	"sluice/db"
 	"sluice/db/dbtest"
 	"sluice/fit"
@@ -68,7 +69,7 @@ func TestPlateJSONEndToEnd(t *testing.T) {
 		wells, truth := invented384(1)
 		seed := uint64(11) // fixed, so that the check below is deterministic
 		body, _ := json.Marshal(PlateRequest{Barcode: "LK-0384-01", Format: 384, Mode: "agonist", Wells: wells,
-			MeasuredAt: "2026-11-30T10:00:00Z", Fit: &PlateFitIn{Bootstrap: &BootstrapIn{Resamples: 300, Seed: &seed}}})
+			MeasuredAt: "2026-11-30T10:00:00Z", Fit: &PlateFitIn{Bootstrap: &wire.BootstrapIn{Resamples: 300, Seed: &seed}}})
 		w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
 		if w.Code != 200 {
 			t.Fatalf("%d %s", w.Code, w.Body)
@@ -208,7 +209,7 @@ func TestPlateBadInput(t *testing.T) {
 		{mk(func(r *PlateRequest) { r.Format = 100 }), "/format"},
 		{mk(func(r *PlateRequest) { r.Mode = "both" }), "/mode"},
 		{mk(func(r *PlateRequest) { r.Fit = &PlateFitIn{Model: "hill9"} }), "/fit/model"},
-		{mk(func(r *PlateRequest) { r.Fit = &PlateFitIn{Bootstrap: &BootstrapIn{Resamples: -1}} }), "/fit/bootstrap/resamples"},
+		{mk(func(r *PlateRequest) { r.Fit = &PlateFitIn{Bootstrap: &wire.BootstrapIn{Resamples: -1}} }), "/fit/bootstrap/resamples"},
 		{mk(func(r *PlateRequest) {
 			for i := range r.Wells {
 				if r.Wells[i].Role == "min_control" {
@@ -242,7 +243,7 @@ func TestPlateBadInput(t *testing.T) {
 func TestPlateJobInterrupted(t *testing.T) {
 	ts := newTestServer(t, dbtest.SQLite(t))
 	wells, _ := invented384(4)
-	body, _ := json.Marshal(PlateRequest{Barcode: "LK-KILL", Format: 384, Wells: wells, Fit: &PlateFitIn{Bootstrap: &BootstrapIn{Resamples: 5000}}})
+	body, _ := json.Marshal(PlateRequest{Barcode: "LK-KILL", Format: 384, Wells: wells, Fit: &PlateFitIn{Bootstrap: &wire.BootstrapIn{Resamples: 5000}}})
 	w := ts.do("POST", "/v1/plates", ScopeSubmit, string(body))
 	if w.Code != 202 {
 		t.Fatalf("%d %s", w.Code, w.Body)

@@ -25,8 +25,8 @@ func (s *Server) fitPlot(c *gin.Context) {
 	}
 	var res wire.StoredFit
 	var input struct {
-		ConcUnit string    `json:"conc_unit"`
-		Points   []PointIn `json:"points"`
+		ConcUnit string         `json:"conc_unit"`
+		Points   []wire.PointIn `json:"points"`
 	}
 	if err := json.Unmarshal(run.Result, &res); err != nil {
 		s.writeProblem(c, fmt.Errorf("stored result %s: %w", run.ID, err))

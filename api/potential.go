@@ -14,6 +14,7 @@ import (
 
 	"sluice/api/ingest"
 	"sluice/api/plot"
+	"sluice/api/service"
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
@@ -242,7 +243,9 @@ func buildPotential(req *PotentialRequest, curves curveSource) (*potentialModel,
 		if h.PoMax == nil || !(*h.PoMax > 0) || *h.PoMax > 1 {
 			return nil, nil, invalidField("/hill/po_max", "po_max is required, in (0, 1]")
 		}
-		theta := []float64{0, *h.PoMax, *h.LogEC50, *h.Hill}
+		r := fit.Hill.Roles()
+		theta := make([]float64, len(fit.Hill.Params()))
+		theta[r.Bottom], theta[r.Top], theta[r.LogEC50], theta[r.Hill] = 0, *h.PoMax, *h.LogEC50, *h.Hill
 		m.po = func(c float64) float64 { return fit.Hill.Value(theta, c) }
 	case req.CurveID != "":
 		if curves == nil {
@@ -349,7 +352,7 @@ func (s *Server) storedCurve(c *gin.Context) curveSource {
 			theta[i] = float64(p.Estimate)
 		}
 		model := fit.Model(res.Model)
-		if theta[1] <= theta[0] || (model != fit.Bell && theta[3] <= 0) {
+		if model.Top(theta) <= model.Bottom(theta) || (model.Monotone() && model.HillSlope(theta) <= 0) {
 			return nil, nil, 0, invalidField("/curve_id", "fit %s is not a rising agonist curve", id)
 		}
 		po := openFraction(model, theta)
@@ -373,8 +376,9 @@ func (s *Server) storedCurve(c *gin.Context) curveSource {
 // openFraction is the fitted response normalised to the fitted window,
 // (f(c) − bottom)/(top − bottom), clamped to [0, 1].
 func openFraction(m fit.Model, theta []float64) func(float64) float64 {
+	bottom, top := m.Bottom(theta), m.Top(theta)
 	return func(c float64) float64 {
-		v := (m.Value(theta, c) - theta[0]) / (theta[1] - theta[0])
+		v := (m.Value(theta, c) - bottom) / (top - bottom)
 		return math.Min(math.Max(v, 0), 1)
 	}
 }
@@ -384,15 +388,15 @@ func openFraction(m fit.Model, theta []float64) func(float64) float64 {
 // estimates.
 func (s *Server) redrawBootstrap(ctx context.Context, run *db.FitRun, res *wire.StoredFit) ([][]float64, error) {
 	var input struct {
-		ConcUnit string    `json:"conc_unit"`
-		Points   []PointIn `json:"points"`
+		ConcUnit string         `json:"conc_unit"`
+		Points   []wire.PointIn `json:"points"`
 	}
 	var settings struct {
 		Model      string             `json:"model"`
 		Fixed      map[string]float64 `json:"fixed"`
 		Confidence float64            `json:"confidence"`
 		MaxHill    float64            `json:"max_hill"`
-		Bootstrap  *BootstrapIn       `json:"bootstrap"`
+		Bootstrap  *wire.BootstrapIn  `json:"bootstrap"`
 	}
 	if err := json.Unmarshal(run.Input, &input); err != nil {
 		return nil, fmt.Errorf("stored input %s: %w", run.ID, err)
@@ -498,9 +502,9 @@ func ComputePotential(body []byte) (*PotentialResponse, error) {
 
 // FieldOf returns the JSON Pointer an API error points at, if any.
 func FieldOf(err error) string {
-	var re *requestError
-	if errors.As(err, &re) && len(re.fields) > 0 {
-		return re.fields[0].Pointer
+	var re *service.Error
+	if errors.As(err, &re) && len(re.Fields) > 0 {
+		return re.Fields[0].Pointer
 	}
 	return ""
 }

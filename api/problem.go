@@ -3,13 +3,14 @@ package api
 import (
 	"encoding/json"
 	"errors"
-	"fmt"
 	"net/http"
 	"strings"
 
 	"github.com/gin-gonic/gin"
 
 	"sluice/api/ingest"
+	"sluice/api/service"
+	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
 )
@@ -27,21 +28,16 @@ type Problem struct {
 
 // FieldError points at one offending field: a JSON Pointer (RFC 6901) into
 // the request body, a query parameter, or a row and column of a CSV body.
-type FieldError struct {
-	Pointer   string `json:"pointer,omitempty"`
-	Parameter string `json:"parameter,omitempty"`
-	Row       int    `json:"row,omitempty"`
-	Column    int    `json:"column,omitempty"`
-	Detail    string `json:"detail"`
-}
+// The use cases raise the same type.
+type FieldError = wire.FieldError
 
-// Error categories the handlers raise; statusOf maps them to HTTP.
+// Error categories. The use cases raise theirs (service.Err…); the
+// handlers add those of HTTP itself. statusOf maps them to HTTP.
 var (
-	errBadRequest      = errors.New("bad request")       // malformed syntax
-	errInvalid         = errors.New("invalid request")   // well-formed but unusable
-	errUnauthenticated = errors.New("unauthenticated")   // no valid token
-	errForbidden       = errors.New("forbidden")         // token lacks the scope
-	errIdempotencyBody = errors.New("idempotency clash") // same key, different body
+	errBadRequest      = service.ErrBadRequest         // malformed syntax
+	errInvalid         = service.ErrInvalid            // well-formed but unusable
+	errUnauthenticated = errors.New("unauthenticated") // no valid token
+	errForbidden       = errors.New("forbidden")       // token lacks the scope
 	errTooLarge        = errors.New("request body too large")
 	errUnsupportedType = errors.New("unsupported media type")
 	errNotFoundRoute   = errors.New("no such endpoint")
@@ -55,8 +51,9 @@ var statusTable = []struct {
 	err    error
 	status int
 }{
-	{errBadRequest, http.StatusBadRequest},
-	{errInvalid, http.StatusUnprocessableEntity},
+	{service.ErrBadRequest, http.StatusBadRequest},
+	{service.ErrInvalid, http.StatusUnprocessableEntity},
+	{service.ErrTooMuchWork, http.StatusUnprocessableEntity},
 	{fit.ErrInvalidInput, http.StatusUnprocessableEntity},
 	{ingest.ErrBadValue, http.StatusUnprocessableEntity},
 	{ingest.ErrNotNumber, http.StatusUnprocessableEntity},
@@ -67,7 +64,7 @@ var statusTable = []struct {
 	{errForbidden, http.StatusForbidden},
 	{db.ErrNotFound, http.StatusNotFound},
 	{db.ErrExists, http.StatusConflict},
-	{errIdempotencyBody, http.StatusConflict},
+	{service.ErrConflict, http.StatusConflict},
 	{errTooLarge, http.StatusRequestEntityTooLarge},
 	{errUnsupportedType, http.StatusUnsupportedMediaType},
 	{errNotFoundRoute, http.StatusNotFound},
@@ -84,24 +81,14 @@ func statusOf(err error) int {
 	return http.StatusInternalServerError
 }
 
-// requestError is an error with the fields it concerns.
-type requestError struct {
-	kind   error
-	detail string
-	fields []FieldError
-}
-
-func (e *requestError) Error() string { return e.detail }
-func (e *requestError) Unwrap() error { return e.kind }
-
+// invalidField is a 422 pointing at a field of the body.
 func invalidField(pointer, format string, a ...any) error {
-	d := fmt.Sprintf(format, a...)
-	return &requestError{kind: errInvalid, detail: d, fields: []FieldError{{Pointer: pointer, Detail: d}}}
+	return service.Invalid(pointer, format, a...)
 }
 
+// badParameter is a 400 naming a query parameter.
 func badParameter(name, format string, a ...any) error {
-	d := fmt.Sprintf(format, a...)
-	return &requestError{kind: errBadRequest, detail: d, fields: []FieldError{{Parameter: name, Detail: d}}}
+	return service.BadParameter(name, format, a...)
 }
 
 // problemType is the base of the problem type URIs; they name categories
@@ -114,36 +101,28 @@ func (s *Server) writeProblem(c *gin.Context, err error) {
 	status := statusOf(err)
 	p := Problem{Status: status, Title: http.StatusText(status), Instance: c.Request.URL.Path}
 	p.Type = problemType + strings.ReplaceAll(strings.ToLower(p.Title), " ", "-")
-	var re *requestError
+	var re *service.Error
 	switch {
 	case status >= 500 && errors.As(err, &re):
-		p.Detail = re.detail
+		p.Detail = re.Detail
 	case status >= 500:
 		s.log.Error("request failed", "path", c.Request.URL.Path, "err", err)
 		p.Detail = "internal error; the request was not completed"
 	case errors.As(err, &re):
-		p.Detail, p.Errors = re.detail, re.fields
+		p.Detail, p.Errors = re.Detail, re.Fields
 	default:
 		p.Detail = err.Error()
-		p.Errors = fieldsOf(err)
+		p.Errors = service.FieldsOf(err)
 	}
-	body, _ := json.Marshal(p)
+	body, merr := json.Marshal(p)
+	if merr != nil {
+		s.log.Error("encode problem", "path", c.Request.URL.Path, "err", merr)
+		c.AbortWithStatus(http.StatusInternalServerError)
+		return
+	}
 	c.Data(status, "application/problem+json", body)
 	c.Abort()
 }
 
 // fieldsOf points at the field a fit or ingest error concerns.
-func fieldsOf(err error) []FieldError {
-	var pe *fit.PointError
-	var se *fit.SettingError
-	var ce *ingest.ParseError
-	switch {
-	case errors.As(err, &pe):
-		return []FieldError{{Pointer: fmt.Sprintf("/points/%d/%s", pe.Index, pe.Field), Detail: pe.Err.Error()}}
-	case errors.As(err, &se):
-		return []FieldError{{Pointer: "/" + strings.ReplaceAll(se.Field, ".", "/"), Detail: se.Err.Error()}}
-	case errors.As(err, &ce):
-		return []FieldError{{Row: ce.Line, Column: ce.Column, Detail: ce.Err.Error()}}
-	}
-	return nil
-}
+func fieldsOf(err error) []FieldError { return service.FieldsOf(err) }

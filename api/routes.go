@@ -1,6 +1,8 @@
 package api
 
 import (
+	"sluice/api/service"
+
 	"errors"
 	"net/http"
 	"strconv"
@@ -17,16 +19,16 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	r.HandleMethodNotAllowed = true
 	r.Use(s.recoverer, s.metrics.middleware, s.limitBody)
 	r.NoRoute(func(c *gin.Context) {
-		s.writeProblem(c, &requestError{kind: errNotFoundRoute, detail: "no such endpoint: " + c.Request.URL.Path})
+		s.writeProblem(c, &service.Error{Kind: errNotFoundRoute, Detail: "no such endpoint: " + c.Request.URL.Path})
 	})
 	r.NoMethod(func(c *gin.Context) {
-		s.writeProblem(c, &requestError{kind: errMethod, detail: c.Request.Method + " is not allowed on " + c.Request.URL.Path})
+		s.writeProblem(c, &service.Error{Kind: errMethod, Detail: c.Request.Method + " is not allowed on " + c.Request.URL.Path})
 	})
 
 	r.GET("/healthz", s.healthz)
 	r.GET("/readyz", s.readyz)
 	r.GET("/metrics", gin.WrapH(promhttp.HandlerFor(reg, promhttp.HandlerOpts{Registry: reg})))
-	r.GET("/v1/openapi.json", s.openAPI)
+	r.GET("/v1/openapi.json", s.openAPI())
 
 	read := r.Group("/v1", s.authenticate(ScopeRead))
 	read.GET("/fits", s.listFits)
@@ -43,17 +45,19 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/schild/:id", s.getSchild)
 	read.GET("/schild/:id/plot.svg", s.schildPlot)
 
-	submit := r.Group("/v1", s.authenticate(ScopeSubmit), s.idempotency)
+	// Writes: the use cases handle the Idempotency-Key (service.NewIdem);
+	// s.idempotency does it for the handlers that still store themselves.
+	submit := r.Group("/v1", s.authenticate(ScopeSubmit))
 	submit.POST("/fits", s.createFit)
 	submit.POST("/assays", s.createAssay)
 	submit.POST("/compounds", s.createCompound)
-	submit.POST("/layouts", s.createLayout)
-	submit.POST("/plates", s.createPlate)
+	submit.POST("/layouts", s.idempotency, s.createLayout)
+	submit.POST("/plates", s.idempotency, s.createPlate)
 	submit.POST("/schild", s.createSchild)
 
 	// Calculators: no record is stored, so scope read suffices.
-	calc := r.Group("/v1", s.authenticate(ScopeRead), s.idempotency)
-	calc.POST("/potential", s.postPotential)
+	calc := r.Group("/v1", s.authenticate(ScopeRead))
+	calc.POST("/potential", s.idempotency, s.postPotential)
 	calc.POST("/operational", s.postOperational)
 	return r
 }
@@ -77,7 +81,7 @@ func (s *Server) recoverer(c *gin.Context) {
 // the cap fails with a 413 problem.
 func (s *Server) limitBody(c *gin.Context) {
 	if c.Request.ContentLength > s.cfg.BodyLimit {
-		s.writeProblem(c, &requestError{kind: errTooLarge, detail: "the body is larger than the limit of " +
+		s.writeProblem(c, &service.Error{Kind: errTooLarge, Detail: "the body is larger than the limit of " +
 			strconv.FormatInt(s.cfg.BodyLimit, 10) + " bytes"})
 		return
 	}

@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"sluice/api/wire"
 	"sluice/db/dbtest"
 	"sluice/fit"
 	"sluice/fit/plate"
@@ -36,7 +37,7 @@ func TestSchildEndpoint(t *testing.T) {
 	if w.Code != 201 {
 		t.Fatalf("%d %s", w.Code, w.Body)
 	}
-	var r SchildResponse
+	var r wire.SchildResponse
 	json.Unmarshal(w.Body.Bytes(), &r)
 	// FACTS §2: the generating pKB 8 and slope 1 to 1e-6; dose ratios 2, 11, 101.
 	if !r.Competitive || r.Global == nil || r.Global.PKB == nil {
@@ -64,7 +65,7 @@ func TestSchildEndpoint(t *testing.T) {
 	// A depressed maximum: flagged, no pA2 or pKB, a reason, and the
 	// Cheng–Prusoff estimate.
 	w = ts.do("POST", "/v1/schild", ScopeSubmit, schildBody(func(b float64) float64 { return 1 / (1 + b/100) }, ""))
-	var d SchildResponse
+	var d wire.SchildResponse
 	json.Unmarshal(w.Body.Bytes(), &d)
 	if w.Code != 201 || d.Competitive || d.Global != nil || d.Regression != nil || d.Withheld == "" ||
 		!strings.Contains(strings.Join(d.Flags, ","), "insurmountable") || d.ChengPrusoff == nil {
@@ -115,7 +116,7 @@ func TestPlateSchild(t *testing.T) {
 	if w.Code != 200 || len(v.Schild) != 1 || len(v.Curves) != 4 {
 		t.Fatalf("%d: %d schild, %d curves: %s", w.Code, len(v.Schild), len(v.Curves), w.Body)
 	}
-	var r SchildResponse
+	var r wire.SchildResponse
 	json.Unmarshal(v.Schild[0], &r)
 	if r.AgonistID != "LX-REF" || r.AntagonistID != "LA-1" || r.Global == nil || r.Global.PKB == nil ||
 		math.Abs(float64(r.Global.PKB.Estimate)-8) > 1e-3 {

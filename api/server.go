@@ -13,6 +13,7 @@ import (
 	"github.com/google/uuid"
 	"github.com/prometheus/client_golang/prometheus"
 
+	"sluice/api/service"
 	"sluice/db"
 )
 
@@ -39,9 +40,13 @@ type Deps struct {
 	// Now and NewID default to the clock and UUIDv7; tests may fix them.
 	Now   func() time.Time
 	NewID func() string
+	// Budget bounds synchronous work (service.Budget; zero means its
+	// defaults).
+	Budget service.Budget
 }
 
-// Server serves the API.
+// Server serves the API: it translates HTTP to the use cases of its
+// service and back.
 type Server struct {
 	cfg     Config
 	store   db.Store
@@ -49,6 +54,7 @@ type Server struct {
 	metrics *metrics
 	now     func() time.Time
 	newID   func() string
+	svc     *service.Service
 	tokens  *tokenCache
 	engine  *gin.Engine
 }
@@ -78,6 +84,11 @@ func New(cfg Config, d Deps) (*Server, error) {
 		return nil, err
 	}
 	s.metrics = m
+	s.svc, err = service.New(service.Deps{Store: d.Store, Now: s.now, NewID: s.newID, Log: s.log,
+		FitWorkers: cfg.FitWorkers, Budget: d.Budget, Observer: m})
+	if err != nil {
+		return nil, err
+	}
 	s.engine = s.routes(reg)
 	return s, nil
 }

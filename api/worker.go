@@ -186,7 +186,7 @@ func (s *Server) plateSchild(ctx context.Context, p *db.Plate, specs []plate.Cur
 			s.log.Warn("plate schild", "plate", p.ID, "agonist", k.agonist, "antagonist", k.antagonist, "err", err)
 			continue
 		}
-		out := schildResponse(res, curves, sset.Seed)
+		out := wire.FromSchild(res, curves, sset.Seed)
 		out.ID = p.ID + ":" + k.agonist + ":" + k.antagonist
 		out.PlateID, out.AgonistID, out.AntagonistID = p.ID, k.agonist, k.antagonist
 		out.CreatedAt = s.now().Format(time.RFC3339Nano)

@@ -15,7 +15,7 @@ import (
 // model's parameters with zero rows for fixed ones. lo and hi are NaN when
 // the covariance is not finite or dof < 1.
 func Band(m Model, theta, cov []float64, dof int, confidence float64, conc []float64) (y, lo, hi []float64) {
-	cm := m.curve()
+	cm := m.Spec()
 	np := len(theta)
 	g := make([]float64, np)
 	t := math.NaN()

@@ -188,7 +188,7 @@ func TestBootstrapCoverage(t *testing.T) {
 		}
 	}
 	for _, k := range runs {
-		for j, name := range hillNames {
+		for j, name := range Hill.Params() {
 			n := covered[k][j]
 			t.Logf("%s %s %s: %d/%d covered", k.scheme, k.interval, name, n, N)
 			if n < lo || n > hi {
@@ -196,7 +196,7 @@ func TestBootstrapCoverage(t *testing.T) {
 			}
 		}
 	}
-	for j, name := range hillNames {
+	for j, name := range Hill.Params() {
 		t.Logf("wald %s: %d/%d covered", name, wald[j], N)
 	}
 }

@@ -39,3 +39,19 @@ func Example() {
 	// hill 1.09 ± 0.06
 	// log EC90 − log EC50 = 0.877
 }
+
+// ExampleParseModel shows the registry behind the model names: the parse
+// error lists the registered models, and a model describes its parameters.
+func ExampleParseModel() {
+	if _, err := fit.ParseModel("hill7"); err != nil {
+		fmt.Println(err)
+	}
+	m, _ := fit.ParseModel("bell")
+	fmt.Println(m, m.Params(), "monotone:", m.Monotone())
+	theta := []float64{0, 100, -6, 1.2, -4, 1}
+	fmt.Println("log_ec50", m.LogEC50(theta), "hill", m.HillSlope(theta), "top", m.Top(theta))
+	// Output:
+	// unknown model "hill7" (want hill, hill5 or bell)
+	// bell [bottom top log_ec50 hill log_ic50 hill_block] monotone: false
+	// log_ec50 -6 hill 1.2 top 100
+}

@@ -68,37 +68,37 @@ func fitDesign(id string, set *resolved, d *design) *Result {
 		}
 	}
 	r.Iterations = iters
-	if set.model == Hill && !set.fixed[iBottom] && !set.fixed[iTop] {
-		canonicalHill(&best)
+	if ro := set.curve.roles; set.curve.twin && !set.fixed[ro.Bottom] && !set.fixed[ro.Top] {
+		canonicalTwin(&best, ro)
 	}
 	r.fill(&best)
 	return r
 }
 
-// canonicalHill resolves the Hill equation's one symmetry: (bottom, top,
-// hill) and (top, bottom, −hill) describe the same curve. Sluice reports
-// bottom as the lower plateau and lets the sign of hill give the direction,
-// so a solution with top < bottom is mapped to its twin, covariance
-// included (the map is linear: a permutation and a sign).
-func canonicalHill(r *lm.Result) {
+// canonicalTwin resolves the symmetry of a model with a twin (Hill's):
+// (bottom, top, hill) and (top, bottom, −hill) describe the same curve.
+// Sluice reports bottom as the lower plateau and lets the sign of hill give
+// the direction, so a solution with top < bottom is mapped to its twin,
+// covariance included (the map is linear: a permutation and a sign).
+func canonicalTwin(r *lm.Result, ro Roles) {
 	x := r.X
-	if !(x[iTop] < x[iBottom]) {
+	if !(x[ro.Top] < x[ro.Bottom]) {
 		return
 	}
-	x[iBottom], x[iTop], x[iHill] = x[iTop], x[iBottom], -x[iHill]
-	r.AtBound[iBottom], r.AtBound[iTop] = r.AtBound[iTop], r.AtBound[iBottom]
+	x[ro.Bottom], x[ro.Top], x[ro.Hill] = x[ro.Top], x[ro.Bottom], -x[ro.Hill]
+	r.AtBound[ro.Bottom], r.AtBound[ro.Top] = r.AtBound[ro.Top], r.AtBound[ro.Bottom]
 	np := len(x)
 	perm := func(j int) int {
 		switch j {
-		case iBottom:
-			return iTop
-		case iTop:
-			return iBottom
+		case ro.Bottom:
+			return ro.Top
+		case ro.Top:
+			return ro.Bottom
 		}
 		return j
 	}
 	sign := func(j int) float64 {
-		if j == iHill {
+		if j == ro.Hill {
 			return -1
 		}
 		return 1
@@ -175,10 +175,11 @@ func (r *Result) fill(lr *lm.Result) {
 // flagShape adds the flags that read the fitted curve against the design.
 func (r *Result) flagShape() {
 	set, d := r.set, r.design
+	ro := set.curve.roles
 	for j, p := range r.Params {
 		if p.AtBound {
 			r.addFlag(FlagParameterAtBound)
-			if j == iHill || (set.model == Bell && j == iHillBlock) {
+			if set.curve.isSlope(j) {
 				r.addFlag(FlagHillAtBound)
 			}
 		}
@@ -187,16 +188,16 @@ func (r *Result) flagShape() {
 	if !ok {
 		return
 	}
-	L := r.Params[iLogEC].Estimate
+	L := r.Params[ro.LogEC50].Estimate
 	if L < lo || L > hi {
 		r.addFlag(FlagEC50OutsideRange)
 	}
 	// Far plateau: at the highest tested concentration a monotone curve
 	// should have covered at least 80 % of its window (common practice).
-	if set.model != Bell {
-		h := r.Params[iHill].Estimate
+	if set.curve.monotone {
+		h := r.Params[ro.Hill].Estimate
 		th := r.Estimates()
-		b, t := th[iBottom], th[iTop]
+		b, t := th[ro.Bottom], th[ro.Top]
 		if t != b {
 			q := (set.curve.value(th, hi, nil) - b) / (t - b)
 			if h < 0 {

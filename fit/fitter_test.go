@@ -24,7 +24,7 @@ func TestCanonicalHill(t *testing.T) {
 		t.Skip("the solver left the twin by itself")
 	}
 	twin := sv.res
-	canonicalHill(&twin)
+	canonicalTwin(&twin, Hill.Roles())
 	r, _ := Fit(c, nil)
 	for j, p := range r.Params {
 		if math.Abs(twin.X[j]-p.Estimate) > 1e-6*math.Max(1, math.Abs(p.Estimate)) {

@@ -2,20 +2,55 @@ package fit
 
 import "math"
 
-type hillCurve struct{}
+// The parameter layout the built-in models share: Hill's four, to which
+// Hill5 and Bell append their own. Only the models' files and tests use
+// these; other code goes through Roles.
+const (
+	iBottom = 0
+	iTop    = 1
+	iLogEC  = 2
+	iHill   = 3
+)
 
-var hillNames = []string{"bottom", "top", "log_ec50", "hill"}
+// sharedRoles is the Roles of the shared layout.
+func sharedRoles() Roles { return Roles{Bottom: iBottom, Top: iTop, LogEC50: iLogEC, Hill: iHill} }
 
-func (hillCurve) names() []string { return hillNames }
+// hillSpec is the four-parameter Hill (logistic) equation on log10
+// concentration x (FACTS §1; Hill 1910):
+//
+//	y = bottom + (top − bottom) / (1 + 10^((log_ec50 − x)·hill))
+//
+// hill > 0 rises with concentration (agonist), hill < 0 falls
+// (inhibition); bottom and top are the lower and upper plateaus. The curve
+// has a twin, (bottom, top, hill) ↔ (top, bottom, −hill), and the fit
+// reports the one with bottom < top. EC_F has a closed form (hillLogECF).
+func hillSpec() *Spec {
+	return newSpec(Spec{
+		name:    Hill,
+		summary: "four-parameter Hill equation, rising or falling (fix hill, bottom or top for three parameters)",
+		params: []param{
+			{name: "bottom"},
+			{name: "top"},
+			{name: "log_ec50", bound: boundPotency},
+			{name: "hill", bound: boundSlope},
+		},
+		roles:    sharedRoles(),
+		monotone: true,
+		twin:     true,
+		curve:    hillValue,
+		starts:   hillStarts,
+		logECF:   hillLogECF,
+	})
+}
 
-// value evaluates the Hill equation. With s = 1/(1 + u), u = 10^((L − x)h):
+// hillValue evaluates the Hill equation. With s = 1/(1 + u), u = 10^((L − x)h):
 //
 //	∂y/∂bottom = 1 − s,  ∂y/∂top = s,
 //	∂y/∂L = −(top − bottom)·s(1 − s)·ln10·h,  ∂y/∂h = −(top − bottom)·s(1 − s)·ln10·(L − x).
 //
 // At x = −Inf (vehicle) s is exactly 0 for h > 0 and 1 for h < 0, and the
 // derivatives with respect to L and h vanish.
-func (hillCurve) value(t []float64, x float64, g []float64) float64 {
+func hillValue(t []float64, x float64, g []float64) float64 {
 	b, top, L, h := t[iBottom], t[iTop], t[iLogEC], t[iHill]
 	if math.IsInf(x, -1) {
 		s := hillFraction(L, h, x)
@@ -30,6 +65,15 @@ func (hillCurve) value(t []float64, x float64, g []float64) float64 {
 		g[iBottom], g[iTop], g[iLogEC], g[iHill] = 1-s, s, -q*h, -q*(L-x)
 	}
 	return b + (top-b)*s
+}
+
+// hillLogECF is log10 EC_F of the Hill equation: F % of the way from the
+// zero-concentration plateau (bottom for a rising curve, top for a falling
+// one) to the other (FACTS §1):
+//
+//	log EC_F = log EC50 + log10(F/(100 − F))/|hill|
+func hillLogECF(t []float64, F float64) float64 {
+	return t[iLogEC] + math.Log10(F/(100-F))/math.Abs(t[iHill])
 }
 
 // hillFraction is s = 1/(1 + 10^((L − x)h)), the fraction of the window from

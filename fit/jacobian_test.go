@@ -20,7 +20,7 @@ func TestJacobiansFiniteDifference(t *testing.T) {
 		{Bell, []float64{0.5, 110, -6, 1.4, -4.2, 0.9}},
 	}
 	for _, c := range cases {
-		cm := c.m.curve()
+		cm := c.m.Spec()
 		np := len(c.theta)
 		g := make([]float64, np)
 		for x := -9.0; x <= -3; x += 0.37 {

@@ -1,94 +1,224 @@
 package fit
 
 import (
+	"errors"
 	"fmt"
 	"math"
+	"slices"
 )
 
-// Model names a curve family.
+// Model names a curve family. Its definition (a *Spec) lives in a Registry:
+// the built-in models are in Builtin(), and Settings.Models may name
+// another registry.
 type Model string
 
-// The models.
+// The built-in models; each is defined in its own file (hill.go, hill5.go,
+// bell.go) and listed once in registry.go.
 const (
-	// Hill is the four-parameter Hill (logistic) equation on log10
-	// concentration x (FACTS §1; Hill 1910):
-	//
-	//	y = bottom + (top − bottom) / (1 + 10^((log_ec50 − x)·hill))
-	//
-	// hill > 0 rises with concentration (agonist), hill < 0 falls
-	// (inhibition); bottom and top are the lower and upper plateaus.
+	// Hill is the four-parameter Hill (logistic) equation (hill.go).
 	Hill Model = "hill"
-	// Hill5 is the asymmetric five-parameter (Richards) logistic,
-	// parameterised so that log_ec50 stays the concentration of
-	// half-maximal response whatever the asymmetry s > 0:
-	//
-	//	y = bottom + (top − bottom) / (1 + (2^(1/s) − 1)·10^((log_ec50 − x)·hill))^s
-	//
-	// s = 1 is the Hill equation (Richards 1959, J Exp Bot 10:290; the
-	// half-maximal reparameterisation follows from solving y = midpoint).
+	// Hill5 is the asymmetric five-parameter logistic (hill5.go).
 	Hill5 Model = "hill5"
-	// Bell is a rising Hill term times a falling one, for activation
-	// followed by block or desensitisation (FACTS §1):
-	//
-	//	y = bottom + (top − bottom)·A(x)·B(x)
-	//	A = 1/(1 + 10^((log_ec50 − x)·hill)),  B = 1/(1 + 10^((x − log_ic50)·hill_block))
-	//
-	// with hill, hill_block > 0. The observed peak and half-peak differ from
-	// top and EC50 unless IC50 ≫ EC50.
+	// Bell is activation times block, a bell-shaped curve (bell.go).
 	Bell Model = "bell"
 )
 
-// Models lists the models in a stable order.
-var Models = []Model{Hill, Hill5, Bell}
+// ParseModel returns the built-in model with the given name; "" means the
+// default, Hill. The error is a *ModelError listing the valid names.
+func ParseModel(s string) (Model, error) { return builtin.Parse(s) }
 
-// ParseModel returns the model with the given name; "" means Hill.
-func ParseModel(s string) (Model, error) {
-	switch Model(s) {
-	case "", Hill:
-		return Hill, nil
-	case Hill5, Bell:
-		return Model(s), nil
+// Spec returns the model's definition in Builtin(). It panics for a name
+// that is not registered there, a programmer error: names from outside
+// pass through ParseModel first.
+func (m Model) Spec() *Spec {
+	s, ok := builtin.Lookup(m)
+	if !ok {
+		panic("fit: unknown model " + string(m))
 	}
-	return "", fmt.Errorf("%w: unknown model %q (want hill, hill5 or bell)", ErrInvalidInput, s)
+	return s
 }
 
-// Params returns the model's parameter names in order.
-func (m Model) Params() []string { return m.curve().names() }
+// Params returns the model's parameter names in order, as a new slice.
+func (m Model) Params() []string { return m.Spec().Params() }
+
+// Roles returns where the shared parameters sit in the model's parameters.
+func (m Model) Roles() Roles { return m.Spec().roles }
+
+// Monotone reports whether every curve of the model is monotone in
+// concentration (see Spec.Monotone).
+func (m Model) Monotone() bool { return m.Spec().monotone }
 
 // Value returns the model's response at concentration conc (molar) for the
 // parameters theta, in the order of Params.
-func (m Model) Value(theta []float64, conc float64) float64 {
-	return m.curve().value(theta, log10Conc(conc), nil)
-}
+func (m Model) Value(theta []float64, conc float64) float64 { return m.Spec().Value(theta, conc) }
 
 // ValueGrad returns the response at conc (molar) and writes its gradient
 // with respect to theta into grad (len(Params)).
 func (m Model) ValueGrad(theta []float64, conc float64, grad []float64) float64 {
-	return m.curve().value(theta, log10Conc(conc), grad)
+	return m.Spec().ValueGrad(theta, conc, grad)
 }
 
-func (m Model) curve() curveModel {
-	switch m {
-	case Hill, "":
-		return hillCurve{}
-	case Hill5:
-		return hill5Curve{}
-	case Bell:
-		return bellCurve{}
+// Bottom, Top, LogEC50 and HillSlope read the shared parameters out of
+// theta (in the order of Params).
+func (m Model) Bottom(theta []float64) float64 { return theta[m.Spec().roles.Bottom] }
+
+// Top is the upper plateau parameter (see Bottom).
+func (m Model) Top(theta []float64) float64 { return theta[m.Spec().roles.Top] }
+
+// LogEC50 is the potency parameter, log10(EC50/M) (see Bottom).
+func (m Model) LogEC50(theta []float64) float64 { return theta[m.Spec().roles.LogEC50] }
+
+// HillSlope is the slope parameter of the rise (see Bottom).
+func (m Model) HillSlope(theta []float64) float64 { return theta[m.Spec().roles.Hill] }
+
+// Roles gives the index, in a model's parameters, of each parameter that
+// every Sluice model shares: all of them run from a zero-concentration
+// plateau towards another with a potency and a slope. Code outside a
+// model's own file reads parameters through these (or through Result's
+// accessors), never by number.
+type Roles struct {
+	// Bottom and Top are the lower and upper plateaus of the window
+	// (bottom < top for a canonical Hill fit; see Spec.Twin).
+	Bottom, Top int
+	// LogEC50 is log10 of the potency in molar.
+	LogEC50 int
+	// Hill is the slope of the rise: > 0 rises with concentration.
+	Hill int
+}
+
+// A Spec defines one curve family: everything the fitter, the flags and the
+// service need to know about it. A model's file builds its Spec (hill.go:
+// hillSpec) and registry.go lists it; nothing else in the package names a
+// model. A Spec is read-only once registered.
+type Spec struct {
+	name       Model
+	summary    string
+	params     []param
+	paramNames []string // the params' names, shared read-only inside the package
+	roles      Roles
+	// monotone: every curve of the family is monotone in concentration,
+	// so the far plateau of the fitted window can be checked
+	// (top_not_reached / bottom_not_reached).
+	monotone bool
+	// twin: (bottom, top, hill) and (top, bottom, −hill) are the same
+	// curve, and the fitter reports the twin with bottom < top.
+	twin bool
+	// curve is f(x; θ) on x = log10(conc/M), x = −Inf for the vehicle;
+	// when grad is not nil it also writes ∂f/∂θⱼ.
+	curve func(theta []float64, x float64, grad []float64) float64
+	// starts returns starting values from the data, best first (selfstart.go).
+	starts func(set *resolved, d *design) [][]float64
+	// logECF is log10 EC_F, nil when the model has none (see Spec.LogECF).
+	logECF func(theta []float64, F float64) float64
+}
+
+// Name returns the model's name.
+func (s *Spec) Name() Model { return s.name }
+
+// Summary returns one line that says what the model is for (help texts and
+// the API document).
+func (s *Spec) Summary() string { return s.summary }
+
+// Params returns the parameter names in order, as a new slice: a caller may
+// change it without changing the model.
+func (s *Spec) Params() []string { return slices.Clone(s.paramNames) }
+
+// Roles returns where the shared parameters sit.
+func (s *Spec) Roles() Roles { return s.roles }
+
+// Monotone reports whether every curve of the model is monotone in
+// concentration (false for Bell, which rises and falls).
+func (s *Spec) Monotone() bool { return s.monotone }
+
+// Slopes returns the indices of the slope parameters: those bounded by
+// Settings.MaxHill, whose stop at the bound flags hill_at_bound.
+func (s *Spec) Slopes() []int {
+	var out []int
+	for j, p := range s.params {
+		if p.isSlope() {
+			out = append(out, j)
+		}
 	}
-	panic("fit: unknown model " + string(m))
+	return out
+}
+
+// Value returns the response at concentration conc (molar) for theta.
+func (s *Spec) Value(theta []float64, conc float64) float64 {
+	return s.curve(theta, log10Conc(conc), nil)
+}
+
+// ValueGrad returns the response at conc (molar) and writes its gradient
+// with respect to theta into grad (len(Params)).
+func (s *Spec) ValueGrad(theta []float64, conc float64, grad []float64) float64 {
+	return s.curve(theta, log10Conc(conc), grad)
+}
+
+// LogECF returns log10 of EC_F, the concentration (molar) at which the
+// curve has gone F % of the way from its zero-concentration plateau
+// towards the other end of its window, 0 < F < 100; each model's file
+// says what the window is and how EC_F is found. It returns NaN for F
+// outside (0, 100) and for a model that defines none.
+func (s *Spec) LogECF(theta []float64, F float64) float64 {
+	if !(F > 0 && F < 100) || s.logECF == nil {
+		return math.NaN()
+	}
+	return s.logECF(theta, F)
+}
+
+// value is f on x = log10(conc/M), for the fitter.
+func (s *Spec) value(theta []float64, x float64, grad []float64) float64 {
+	return s.curve(theta, x, grad)
+}
+
+// names returns the parameter names without copying; the package never
+// changes them.
+func (s *Spec) names() []string { return s.paramNames }
+
+// isSlope reports whether parameter j is a slope parameter.
+func (s *Spec) isSlope(j int) bool { return s.params[j].isSlope() }
+
+// validate checks a Spec before it is registered.
+func (s *Spec) validate() error {
+	np := len(s.params)
+	switch {
+	case s.name == "":
+		return errors.New("a model has no name")
+	case np == 0 || np > maxParams:
+		return fmt.Errorf("model %s: %d parameters, want 1 to %d", s.name, np, maxParams)
+	case s.curve == nil || s.starts == nil:
+		return fmt.Errorf("model %s: no curve or no starting values", s.name)
+	}
+	seen := map[string]bool{}
+	for j, p := range s.params {
+		if p.name == "" || seen[p.name] {
+			return fmt.Errorf("model %s: parameter %d has an empty or repeated name %q", s.name, j, p.name)
+		}
+		seen[p.name] = true
+	}
+	r := s.roles
+	idx := []int{r.Bottom, r.Top, r.LogEC50, r.Hill}
+	for _, j := range idx {
+		if j < 0 || j >= np {
+			return fmt.Errorf("model %s: role index %d outside its %d parameters", s.name, j, np)
+		}
+	}
+	if len(idx) != len(map[int]bool{r.Bottom: true, r.Top: true, r.LogEC50: true, r.Hill: true}) {
+		return fmt.Errorf("model %s: two roles share a parameter", s.name)
+	}
+	return nil
+}
+
+// newSpec fills in the names of the parameters.
+func newSpec(s Spec) *Spec {
+	s.paramNames = make([]string, len(s.params))
+	for j, p := range s.params {
+		s.paramNames[j] = p.name
+	}
+	return &s
 }
 
 // maxParams is the largest number of parameters of any model.
 const maxParams = 6
-
-// curveModel is one curve family on x = log10(conc/M); x = −Inf is the
-// vehicle.
-type curveModel interface {
-	names() []string
-	// value returns f(x; θ) and, when grad is not nil, writes ∂f/∂θⱼ.
-	value(theta []float64, x float64, grad []float64) float64
-}
 
 const ln10 = math.Ln10
 
@@ -99,11 +229,3 @@ func log10Conc(c float64) float64 {
 	}
 	return math.Log10(c)
 }
-
-// Parameter indices shared by the models.
-const (
-	iBottom = 0
-	iTop    = 1
-	iLogEC  = 2
-	iHill   = 3
-)

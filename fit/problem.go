@@ -5,7 +5,7 @@ import "sluice/fit/lm"
 // problem adapts a grouped curve to lm.Residuals: residual ȳₗ − f(xₗ; θ)
 // with weight Wₗ.
 type problem struct {
-	curve curveModel
+	curve *Spec
 	x, y  []float64
 	grad  [maxParams]float64
 	np    int

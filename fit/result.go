@@ -94,10 +94,29 @@ func (r *Result) Estimates() []float64 {
 	return v
 }
 
+// spec returns the fit's model definition: the one it was fitted with, or
+// for a Result built by hand the built-in model of its name.
+func (r *Result) spec() *Spec {
+	if r.set != nil {
+		return r.set.curve
+	}
+	return r.Model.Spec()
+}
+
 // LogEC50 returns log10(EC50/M); for every model it is the parameter
 // log_ec50 (for Hill5 the half-maximal concentration; for Bell that of the
 // rising term).
-func (r *Result) LogEC50() Param { return r.Params[iLogEC] }
+func (r *Result) LogEC50() Param { return r.Params[r.spec().roles.LogEC50] }
+
+// Bottom returns the lower plateau parameter, bottom.
+func (r *Result) Bottom() Param { return r.Params[r.spec().roles.Bottom] }
+
+// Top returns the upper plateau parameter, top.
+func (r *Result) Top() Param { return r.Params[r.spec().roles.Top] }
+
+// HillSlope returns the slope parameter of the rise, hill: > 0 for a curve
+// that rises with concentration.
+func (r *Result) HillSlope() Param { return r.Params[r.spec().roles.Hill] }
 
 // EC50 returns the EC50 in molar with its interval: the bootstrap interval
 // of log_ec50 when there is one, else the Wald interval, back-transformed
@@ -112,36 +131,13 @@ func (r *Result) EC50() (est, lo, hi float64) {
 }
 
 // LogECF returns log10 of the concentration giving F % of the response from
-// the zero-concentration plateau to the other one, 0 < F < 100, for the Hill
-// and Hill5 models (FACTS §1 for Hill: log EC_F = log EC50 + log10(F/(100 −
-// F))/|hill|; for Hill5 by solving the curve for the fraction). It returns
-// NaN for Bell and for F outside (0, 100).
+// the zero-concentration plateau towards the other end of the window,
+// 0 < F < 100 (Spec.LogECF; FACTS §1 for Hill: log EC_F = log EC50 +
+// log10(F/(100 − F))/|hill|; for Hill5 by solving the curve for the
+// fraction; for Bell on the rising limb, from bottom to the peak). It
+// returns NaN for F outside (0, 100).
 func (r *Result) LogECF(F float64) float64 {
-	if !(F > 0 && F < 100) {
-		return math.NaN()
-	}
-	th := r.Estimates()
-	return logECF(r.Model, th, F)
-}
-
-func logECF(m Model, th []float64, F float64) float64 {
-	L, h := th[iLogEC], th[iHill]
-	switch m {
-	case Hill:
-		return L + math.Log10(F/(100-F))/math.Abs(h)
-	case Hill5:
-		// Fraction toward top: q = (1 + k·u)^(−s), u = 10^((L − x)h). For a
-		// rising curve q = F/100; for a falling one q = 1 − F/100.
-		s := th[iAsym]
-		q := F / 100
-		if h < 0 {
-			q = 1 - q
-		}
-		k := math.Exp2(1/s) - 1
-		u := (math.Pow(q, -1/s) - 1) / k
-		return L - math.Log10(u)/h
-	}
-	return math.NaN()
+	return r.spec().LogECF(r.Estimates(), F)
 }
 
 func (r *Result) addFlag(f string) {

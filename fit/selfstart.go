@@ -7,19 +7,7 @@ import "math"
 // potency over the tested range and vary the slope, for the fits whose first
 // start fails. Fixed parameters are set to their values in every start.
 func startValues(set *resolved, d *design) [][]float64 {
-	var starts [][]float64
-	switch set.model {
-	case Hill:
-		starts = hillStarts(set, d)
-	case Hill5:
-		for _, h := range hillStarts(set, d) {
-			for _, s := range []float64{1, 0.5, 2} {
-				starts = append(starts, append(append([]float64(nil), h...), s))
-			}
-		}
-	case Bell:
-		starts = bellStarts(set, d)
-	}
+	starts := set.curve.starts(set, d)
 	lower := make([]float64, len(set.fixed))
 	upper := make([]float64, len(set.fixed))
 	set.bounds(d, lower, upper)
@@ -41,11 +29,12 @@ func plateaus(set *resolved, d *design) (b, t float64) {
 	for _, y := range d.ybar {
 		b, t = math.Min(b, y), math.Max(t, y)
 	}
-	if set.fixed[iBottom] {
-		b = set.fixedValue[iBottom]
+	r := set.curve.roles
+	if set.fixed[r.Bottom] {
+		b = set.fixedValue[r.Bottom]
 	}
-	if set.fixed[iTop] {
-		t = set.fixedValue[iTop]
+	if set.fixed[r.Top] {
+		t = set.fixedValue[r.Top]
 	}
 	if t <= b {
 		t = b + math.Max(1, math.Abs(b))
@@ -57,8 +46,8 @@ func plateaus(set *resolved, d *design) (b, t float64) {
 // it falls: the sign of the weighted least-squares slope of the level means
 // on x, with the vehicle placed one decade below the lowest concentration.
 func direction(set *resolved, d *design) float64 {
-	if set.fixed[iHill] {
-		if set.fixedValue[iHill] < 0 {
+	if j := set.curve.roles.Hill; set.fixed[j] {
+		if set.fixedValue[j] < 0 {
 			return -1
 		}
 		return 1
@@ -84,7 +73,9 @@ func direction(set *resolved, d *design) float64 {
 
 // hillStarts linearises the Hill equation: with p = (y − bottom)/(top −
 // bottom), log10(p/(1 − p)) = (x − log_ec50)·hill, a straight line in x
-// through the levels whose p lies in (0.05, 0.95).
+// through the levels whose p lies in (0.05, 0.95). It suits any sigmoid
+// model: it sets the four shared parameters (Roles) and leaves the
+// model's others at zero, for the model's starts to fill in.
 func hillStarts(set *resolved, d *design) [][]float64 {
 	b, t := plateaus(set, d)
 	dir := direction(set, d)
@@ -119,14 +110,21 @@ func hillStarts(set *resolved, d *design) [][]float64 {
 	} else if x50, ok := crossing(d, (b+t)/2, dir); ok {
 		L = x50
 	}
-	if set.fixed[iHill] {
-		h = set.fixedValue[iHill]
+	r := set.curve.roles
+	if set.fixed[r.Hill] {
+		h = set.fixedValue[r.Hill]
 	}
-	starts := [][]float64{{b, t, L, h}}
+	np := len(set.fixed)
+	start := func(b, t, L, h float64) []float64 {
+		st := make([]float64, np)
+		st[r.Bottom], st[r.Top], st[r.LogEC50], st[r.Hill] = b, t, L, h
+		return st
+	}
+	starts := [][]float64{start(b, t, L, h)}
 	span := math.Max(hi-lo, 1)
 	for _, f := range []float64{0.5, 0.2, 0.8} {
 		for _, hh := range []float64{dir, 3 * dir, -dir} {
-			starts = append(starts, []float64{b, t, lo + f*span, hh})
+			starts = append(starts, start(b, t, lo+f*span, hh))
 		}
 	}
 	return starts
@@ -146,47 +144,4 @@ func crossing(d *design, y0, dir float64) (float64, bool) {
 		}
 	}
 	return 0, false
-}
-
-// bellStarts places log_ec50 where the rising limb crosses half the peak and
-// log_ic50 where the falling limb does, with unit slopes.
-func bellStarts(set *resolved, d *design) [][]float64 {
-	b, t := plateaus(set, d)
-	lo, hi, ok := d.finiteRange()
-	if !ok {
-		lo, hi = 0, 0
-	}
-	peak := 0
-	for l, y := range d.ybar {
-		if y > d.ybar[peak] {
-			peak = l
-		}
-	}
-	half := (b + d.ybar[peak]) / 2
-	L, Li := (lo+d.x[peak])/2, hi+1
-	if math.IsInf(d.x[peak], -1) {
-		L = lo
-	}
-	for l := 1; l <= peak; l++ {
-		if !math.IsInf(d.x[l-1], -1) && d.ybar[l-1] <= half && d.ybar[l] >= half {
-			L = d.x[l-1] + (d.x[l]-d.x[l-1])*(half-d.ybar[l-1])/(d.ybar[l]-d.ybar[l-1]+1e-300)
-			break
-		}
-	}
-	for l := peak + 1; l < len(d.x); l++ {
-		if d.ybar[l-1] >= half && d.ybar[l] <= half {
-			Li = d.x[l-1] + (d.x[l]-d.x[l-1])*(d.ybar[l-1]-half)/(d.ybar[l-1]-d.ybar[l]+1e-300)
-			break
-		}
-	}
-	if !set.fixed[iTop] {
-		t += 0.1 * (t - b) // the unblocked maximum lies above the observed peak
-	}
-	span := math.Max(hi-lo, 1)
-	return [][]float64{
-		{b, t, L, 1, Li, 1},
-		{b, t, L, 2, Li, 2},
-		{b, t, lo + 0.3*span, 1, lo + 0.8*span, 1},
-		{b, 2 * t, L - 0.5, 1, Li + 0.5, 1},
-	}
 }

@@ -10,20 +10,24 @@ import (
 // Settings control a fit. A nil *Settings, and any zero field, means the
 // documented default.
 type Settings struct {
-	// Model is the curve family; "" means Hill.
+	// Model is the curve family; "" means the registry's default, Hill.
 	Model Model
+	// Models is the registry Model is looked up in; nil means Builtin().
+	Models *Registry
 	// Fixed holds parameters by name at the given values: the
 	// three-parameter variants are {"hill": 1}, {"bottom": 0},
 	// {"top": 100}, and any combination. Nil means none.
 	Fixed map[string]float64
 	// Confidence is the level of every interval. Zero means 0.95; range (0, 1).
 	Confidence float64
-	// MaxHill bounds the magnitude of the slopes hill and hill_block. A
+	// MaxHill bounds the magnitude of the slope parameters (Spec.Slopes:
+	// hill, and Bell's hill_block). A
 	// curve whose whole rise falls between two tested concentrations has no
 	// identifiable slope and would otherwise run away; such a fit ends at
 	// the bound and is flagged hill_at_bound. Zero means 10; range (0, 1000].
 	MaxHill float64
-	// PotencyMargin bounds log_ec50 (and log_ic50) to the tested range
+	// PotencyMargin bounds the potency parameters (log_ec50, and Bell's
+	// log_ic50) to the tested range
 	// widened by this many decades on each side, so that a curve with no
 	// response cannot send its potency to infinity. Zero means 3; range (0, 20].
 	PotencyMargin float64
@@ -38,20 +42,10 @@ const (
 	DefaultPotencyMargin = 3
 )
 
-// Asymmetry bounds for Hill5: beyond them the curve is a step on one side.
-const (
-	minAsymmetry = 0.05
-	maxAsymmetry = 20
-)
-
-// minBellSlope keeps the bell curve's slopes positive, so that it always
-// rises before it falls.
-const minBellSlope = 0.01
-
 // resolved is Settings with defaults applied and names mapped to indices.
 type resolved struct {
 	model      Model
-	curve      curveModel
+	curve      *Spec
 	fixed      []bool
 	fixedValue []float64
 	confidence float64
@@ -65,11 +59,16 @@ func (s *Settings) resolve() (*resolved, error) {
 	if s != nil {
 		in = *s
 	}
-	m, err := ParseModel(string(in.Model))
+	reg := in.Models
+	if reg == nil {
+		reg = builtin
+	}
+	m, err := reg.Parse(string(in.Model))
 	if err != nil {
 		return nil, &SettingError{"model", err}
 	}
-	r := &resolved{model: m, curve: m.curve(), confidence: in.Confidence, maxHill: in.MaxHill,
+	spec, _ := reg.Lookup(m)
+	r := &resolved{model: m, curve: spec, confidence: in.Confidence, maxHill: in.MaxHill,
 		margin: in.PotencyMargin, solver: in.Solver}
 	if r.confidence == 0 {
 		r.confidence = DefaultConfidence
@@ -131,26 +130,15 @@ func (r *resolved) freeCount() int {
 	return k
 }
 
-// bounds writes the box for each parameter given the design.
+// bounds writes the box of each parameter given the design: each
+// parameter's default bound (bound.go) for the tested range.
 func (r *resolved) bounds(d *design, lower, upper []float64) {
 	lo, hi, ok := d.finiteRange()
 	if !ok {
 		lo, hi = 0, 0
 	}
-	for j := range lower {
-		lower[j], upper[j] = math.Inf(-1), math.Inf(1)
-	}
-	lower[iLogEC], upper[iLogEC] = lo-r.margin, hi+r.margin
-	switch r.model {
-	case Hill:
-		lower[iHill], upper[iHill] = -r.maxHill, r.maxHill
-	case Hill5:
-		lower[iHill], upper[iHill] = -r.maxHill, r.maxHill
-		lower[iAsym], upper[iAsym] = minAsymmetry, maxAsymmetry
-	case Bell:
-		lower[iHill], upper[iHill] = minBellSlope, r.maxHill
-		lower[iLogIC], upper[iLogIC] = lo-r.margin, hi+r.margin
-		lower[iHillBlock], upper[iHillBlock] = minBellSlope, r.maxHill
+	for j, p := range r.curve.params {
+		lower[j], upper[j] = p.box(lo, hi, r.margin, r.maxHill)
 	}
 }
 

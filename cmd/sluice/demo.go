@@ -17,6 +17,7 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 
 	"sluice/api"
+	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
 	"sluice/fit/plate"
@@ -147,7 +148,7 @@ func demoPlate(rng *rand.Rand, week int, mode string, noisyMax bool) api.PlateRe
 	num := func(v float64) *float64 { return &v }
 	req := api.PlateRequest{AssayID: demoAssay, Barcode: fmt.Sprintf("LK-384-%02d", week), Format: 384, Mode: mode,
 		MeasuredAt: time.Date(2026, 10, 5+7*week, 9, 0, 0, 0, time.UTC).Format(time.RFC3339), ConcUnit: "nM",
-		Fit: &api.PlateFitIn{Bootstrap: &api.BootstrapIn{Resamples: 200, Seed: func() *uint64 { s := uint64(week); return &s }()}}}
+		Fit: &api.PlateFitIn{Bootstrap: &wire.BootstrapIn{Resamples: 200, Seed: func() *uint64 { s := uint64(week); return &s }()}}}
 	maxSD := 50.0
 	if noisyMax {
 		maxSD = 450

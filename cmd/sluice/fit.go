@@ -28,7 +28,8 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 			"optional curve (many curves in one file). Flags:\n")
 		fs.PrintDefaults()
 	}
-	model := fs.String("model", "hill", "model: hill, hill5 or bell")
+	models := fit.Builtin()
+	model := fs.String("model", string(models.Default()), "curve model, one of:\n"+models.Help())
 	fix := fs.String("fix", "", "fixed parameters, e.g. bottom=0,top=100 or hill=1")
 	unit := fs.String("unit", "M", "concentration unit of the file: M, mM, uM, nM or pM")
 	resamples := fs.Int("bootstrap", 0, "bootstrap resamples B, 0 for none (at most 100000)")
@@ -125,9 +126,7 @@ func writeTable(w io.Writer, results []*fit.Result) error {
 	fmt.Fprintln(tw, "curve\tmodel\tstatus\tpEC50\tEC50 (M)\tCI\thill\tbottom\ttop\tr²\tflags")
 	for _, r := range results {
 		est, lo, hi := r.EC50()
-		h, _ := r.Param("hill")
-		b, _ := r.Param("bottom")
-		t, _ := r.Param("top")
+		h, b, t := r.HillSlope(), r.Bottom(), r.Top()
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t[%s, %s]\t%s\t%s\t%s\t%s\t%s\n", r.Curve, r.Model, r.Status,
 			g4(-math.Log10(est)), g3(est), g3(lo), g3(hi), g3(h.Estimate), g3(b.Estimate), g3(t.Estimate),
 			g4(r.R2), strings.Join(r.Flags, ","))

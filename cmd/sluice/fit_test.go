@@ -161,3 +161,22 @@ func TestFitCommandCurvesAndUnits(t *testing.T) {
 		t.Errorf("csv output (%v):\n%s\nstderr %s", err, csvOut, csvErr)
 	}
 }
+
+// The help of --model is generated from fit's registry: every model, with
+// its summary, and the registry's default.
+func TestFitHelpListsModels(t *testing.T) {
+	code, _, stderr := runCLI(t, "", "fit", "-h")
+	if code != 0 {
+		t.Fatalf("exit %d", code)
+	}
+	models := fit.Builtin()
+	for _, m := range models.Names() {
+		spec, _ := models.Lookup(m)
+		if !strings.Contains(stderr, string(m)+" ") || !strings.Contains(stderr, spec.Summary()) {
+			t.Errorf("help does not describe %s:\n%s", m, stderr)
+		}
+	}
+	if want := fmt.Sprintf("(default %q)", models.Default()); !strings.Contains(stderr, want) {
+		t.Errorf("help does not say %s", want)
+	}
+}

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"encoding/json"
 	"errors"
 	"flag"
@@ -8,8 +9,8 @@ import (
 	"io"
 	"strings"
 
-	"sluice/api"
 	"sluice/api/ingest"
+	"sluice/api/wire"
 	"sluice/fit/schild"
 )
 
@@ -47,11 +48,18 @@ func runSchild(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return 2
 	}
 	defer closeIn()
-	out, err := api.SchildFromCSV(in, u, &schild.Settings{Resamples: *resamples, Seed: *seed})
+	curves, err := ingest.ReadSchildCSV(in, u)
 	if err != nil {
 		fmt.Fprintf(stderr, "sluice schild: %s: %v\n", pos[0], err)
 		return 2
 	}
+	set := &schild.Settings{Resamples: *resamples, Seed: *seed}
+	res, err := schild.Analyze(context.Background(), curves, set)
+	if err != nil {
+		fmt.Fprintf(stderr, "sluice schild: %s: %v\n", pos[0], err)
+		return 2
+	}
+	out := wire.FromSchild(res, curves, set.Seed)
 	if *format == "json" {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")

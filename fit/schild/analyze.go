@@ -158,7 +158,7 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 		return nil, fmt.Errorf("%w: need the control and at least one antagonist concentration", fit.ErrInvalidInput)
 	}
 	res := &Result{Control: control, Competitive: true, Confidence: set.Confidence}
-	fs := &fit.Settings{Confidence: set.Confidence}
+	fs := &fit.Settings{Model: fit.Hill, Confidence: set.Confidence}
 	for i, c := range curves {
 		if err := ctx.Err(); err != nil {
 			return nil, fmt.Errorf("schild analysis: %w", err)
@@ -167,7 +167,7 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 		if err != nil {
 			return nil, &CurveError{i, err}
 		}
-		if h, _ := r.Param("hill"); r.Converged() && h.Estimate < 0 {
+		if r.Converged() && r.HillSlope().Estimate < 0 {
 			return nil, &CurveError{i, fmt.Errorf("%w: the curve falls with agonist concentration; Schild analysis needs agonist curves", fit.ErrInvalidInput)}
 		}
 		res.Curves = append(res.Curves, r)
@@ -180,7 +180,7 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 		return res, nil
 	}
 	// Dose ratios, shape checks.
-	cTop, cHill, cL := ctl.Params[1].Estimate, ctl.Params[3].Estimate, ctl.Params[2]
+	cTop, cHill, cL := ctl.Top().Estimate, ctl.HillSlope().Estimate, ctl.LogEC50()
 	var abs, drs []float64
 	for i, r := range res.Curves {
 		if i == control {
@@ -190,17 +190,17 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 			res.addFlag(FlagCurveFailed)
 			continue
 		}
-		L := r.Params[2]
+		L := r.LogEC50()
 		d := L.Estimate - cL.Estimate
 		se := math.Hypot(L.SE, cL.SE)
 		t := tQuantile(min(r.DOF, ctl.DOF), set.Confidence)
 		dr := DoseRatio{AntagonistConc: curves[i].AntagonistConc, DoseRatio: Estimate{Estimate: math.Pow(10, d),
 			SE: math.Ln10 * math.Pow(10, d) * se, Lo: math.Pow(10, d-t*se), Hi: math.Pow(10, d+t*se)}}
 		res.DoseRatios = append(res.DoseRatios, dr)
-		if top := r.Params[1].Estimate; top < (1-set.MaxDepression)*cTop {
+		if top := r.Top().Estimate; top < (1-set.MaxDepression)*cTop {
 			res.addFlag(FlagInsurmountable)
 		}
-		if h := r.Params[3].Estimate; h > cHill*set.MaxSlopeRatio || h < cHill/set.MaxSlopeRatio {
+		if h := r.HillSlope().Estimate; h > cHill*set.MaxSlopeRatio || h < cHill/set.MaxSlopeRatio {
 			res.addFlag(FlagNonParallel)
 		}
 		if dr.DoseRatio.Estimate <= 1 {
@@ -263,15 +263,15 @@ func globalFits(ctx context.Context, res *Result, curves []Curve, set *Settings)
 	var k int
 	for _, r := range res.Curves {
 		if r.Converged() {
-			sumB += r.Params[0].Estimate
-			sumT += r.Params[1].Estimate
-			sumH += r.Params[3].Estimate
+			sumB += r.Bottom().Estimate
+			sumT += r.Top().Estimate
+			sumH += r.HillSlope().Estimate
 			k++
 		}
 	}
 	start := make([]float64, gParams)
 	start[gBottom], start[gTop], start[gHill] = sumB/float64(k), sumT/float64(k), sumH/float64(k)
-	start[gLogEC0] = ctl.Params[2].Estimate
+	start[gLogEC0] = ctl.LogEC50().Estimate
 	start[gPK], start[gSlope] = 8, 1
 	if reg := res.Regression; reg != nil && reg.Slope > 0.2 && reg.Slope < 5 {
 		start[gPK], start[gSlope] = reg.PA2, reg.Slope
@@ -424,25 +424,25 @@ func bootGlobal(ctx context.Context, g *Global, d *globalData, free, unity *glob
 // the IC50 into KB by the functional Cheng–Prusoff correction.
 func chengPrusoff(res *Result, curves []Curve) *CPEstimate {
 	ctl := res.Curves[res.Control]
-	th0 := ctl.Estimates()
+	th0, bottom0 := ctl.Estimates(), ctl.Bottom().Estimate
 	a := math.Pow(10, ctl.LogECF(80))
-	base := fit.Hill.Value(th0, a) - th0[0]
+	base := fit.Hill.Value(th0, a) - bottom0
 	var inh fit.Curve
 	for i, r := range res.Curves {
 		if i == res.Control || !r.Converged() {
 			continue
 		}
-		f := fit.Hill.Value(r.Estimates(), a) - th0[0]
+		f := fit.Hill.Value(r.Estimates(), a) - bottom0
 		inh.Points = append(inh.Points, fit.Point{Conc: curves[i].AntagonistConc, Response: 100 * (1 - f/base)})
 	}
 	if len(inh.Points) < 3 {
 		return nil
 	}
-	r, err := fit.Fit(inh, &fit.Settings{Fixed: map[string]float64{"bottom": 0, "top": 100}})
+	r, err := fit.Fit(inh, &fit.Settings{Model: fit.Hill, Fixed: map[string]float64{"bottom": 0, "top": 100}})
 	if err != nil || !r.Converged() {
 		return nil
 	}
 	ic50 := math.Pow(10, r.LogEC50().Estimate)
-	kb := ChengPrusoff(ic50, a, math.Pow(10, th0[2]), th0[3])
+	kb := ChengPrusoff(ic50, a, math.Pow(10, ctl.LogEC50().Estimate), ctl.HillSlope().Estimate)
 	return &CPEstimate{AgonistConc: a, IC50: ic50, KB: kb, PKB: -math.Log10(kb)}
 }

@@ -40,8 +40,14 @@ type level struct {
 type globalModel struct {
 	levels []level
 	y      []float64 // level means (the resample's, when bootstrapping)
-	g      [4]float64
-	theta  [4]float64 // kept here so that no call allocates
+	hill   fit.Roles // where bottom, top, log EC50 and hill sit in fit.Hill's parameters
+	g      []float64 // fit.Hill's gradient and parameters, kept here so that no call allocates
+	theta  []float64
+}
+
+func newGlobalModel(levels []level, y []float64) globalModel {
+	np := len(fit.Hill.Params())
+	return globalModel{levels: levels, y: y, hill: fit.Hill.Roles(), g: make([]float64, np), theta: make([]float64, np)}
 }
 
 // Eval writes residuals ȳ − f and their Jacobian (column-major). With
@@ -64,16 +70,17 @@ func (m *globalModel) Eval(p, r, jac []float64) {
 			}
 			dPK, dS = q*p[gSlope], q*(lv.lb+p[gPK])
 		}
-		m.theta = [4]float64{p[gBottom], p[gTop], L, p[gHill]}
+		h := m.hill
+		m.theta[h.Bottom], m.theta[h.Top], m.theta[h.LogEC50], m.theta[h.Hill] = p[gBottom], p[gTop], L, p[gHill]
 		var f float64
 		if jac == nil {
-			f = fit.Hill.Value(m.theta[:], lv.conc)
+			f = fit.Hill.Value(m.theta, lv.conc)
 		} else {
-			f = fit.Hill.ValueGrad(m.theta[:], lv.conc, m.g[:])
-			dL := m.g[2]
-			jac[gBottom*nl+i] = -m.g[0]
-			jac[gTop*nl+i] = -m.g[1]
-			jac[gHill*nl+i] = -m.g[3]
+			f = fit.Hill.ValueGrad(m.theta, lv.conc, m.g)
+			dL := m.g[h.LogEC50]
+			jac[gBottom*nl+i] = -m.g[h.Bottom]
+			jac[gTop*nl+i] = -m.g[h.Top]
+			jac[gHill*nl+i] = -m.g[h.Hill]
 			jac[gLogEC0*nl+i] = -dL
 			jac[gPK*nl+i] = -dL * dPK
 			jac[gSlope*nl+i] = -dL * dS
@@ -149,7 +156,7 @@ type globalSolver struct {
 }
 
 func newGlobalSolver(d *globalData, unitSlope bool, lower, upper []float64, estimateOnly bool) *globalSolver {
-	s := &globalSolver{model: globalModel{levels: d.levels, y: d.ybar}, x0: make([]float64, gParams)}
+	s := &globalSolver{model: newGlobalModel(d.levels, d.ybar), x0: make([]float64, gParams)}
 	fixed := make([]bool, gParams)
 	fixed[gSlope] = unitSlope
 	s.prob = lm.Problem{M: len(d.levels), N: gParams, Func: &s.model, Weights: d.w, Fixed: fixed, Lower: lower, Upper: upper}

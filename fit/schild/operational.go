@@ -61,22 +61,25 @@ func FitOperational(points []fit.Point, em, confidence float64) (*OperationalFit
 		confidence = 0.95
 	}
 	// Start: the partial agonist's own Hill fit gives Emax and EC50.
-	h, err := fit.Fit(fit.Curve{Points: points}, &fit.Settings{Fixed: map[string]float64{"bottom": 0}})
+	h, err := fit.Fit(fit.Curve{Points: points}, &fit.Settings{Model: fit.Hill, Fixed: map[string]float64{"bottom": 0}})
 	if err != nil {
 		return nil, err
 	}
 	if !h.Converged() {
 		return nil, errors.New("the partial agonist's curve did not fit")
 	}
-	emax := math.Min(h.Params[1].Estimate, 0.95*em)
-	n0 := math.Max(0.3, h.Params[3].Estimate)
+	emax := math.Min(h.Top().Estimate, 0.95*em)
+	n0 := math.Max(0.3, h.HillSlope().Estimate)
 	tau := math.Pow(emax/(em-emax), 1/n0) // Emax = Em·τⁿ/(1 + τⁿ)
-	ec50 := math.Pow(10, h.Params[2].Estimate)
+	ec50 := math.Pow(10, h.LogEC50().Estimate)
 	ka := ec50 * (math.Pow(2+math.Pow(tau, n0), 1/n0) - 1)
 	p := &opProblem{pts: points, em: em}
-	res, err := lm.Solve(&lm.Problem{M: len(points), N: 3, Func: p,
-		Lower: []float64{-4, -15, 0.1}, Upper: []float64{4, 2, 10}},
-		[]float64{math.Log10(tau), math.Log10(ka), n0}, nil)
+	var lower, upper, start [opParams]float64
+	lower[opLogTau], upper[opLogTau], start[opLogTau] = -4, 4, math.Log10(tau)
+	lower[opLogKA], upper[opLogKA], start[opLogKA] = -15, 2, math.Log10(ka)
+	lower[opSlope], upper[opSlope], start[opSlope] = 0.1, 10, n0
+	res, err := lm.Solve(&lm.Problem{M: len(points), N: opParams, Func: p,
+		Lower: lower[:], Upper: upper[:]}, start[:], nil)
 	if err != nil {
 		return nil, err
 	}
@@ -85,7 +88,7 @@ func FitOperational(points []fit.Point, em, confidence float64) (*OperationalFit
 		se := res.SE(j)
 		return Estimate{Estimate: res.X[j], SE: se, Lo: res.X[j] - t*se, Hi: res.X[j] + t*se}
 	}
-	o := &OperationalFit{Em: em, LogTau: est(0), LogKA: est(1), Slope: est(2), RSS: res.RSS, DOF: res.DOF}
+	o := &OperationalFit{Em: em, LogTau: est(opLogTau), LogKA: est(opLogKA), Slope: est(opSlope), RSS: res.RSS, DOF: res.DOF}
 	back := func(e Estimate) Estimate {
 		return Estimate{Estimate: math.Pow(10, e.Estimate), SE: math.NaN(), Lo: math.Pow(10, e.Lo), Hi: math.Pow(10, e.Hi)}
 	}
@@ -93,13 +96,21 @@ func FitOperational(points []fit.Point, em, confidence float64) (*OperationalFit
 	return o, nil
 }
 
+// The operational fit's parameters, in order.
+const (
+	opLogTau = iota // log10 τ
+	opLogKA         // log10(KA/M)
+	opSlope         // n
+	opParams
+)
+
 type opProblem struct {
 	pts []fit.Point
 	em  float64
 }
 
 func (p *opProblem) value(x []float64, a float64) float64 {
-	return Operational(p.em, math.Pow(10, x[1]), math.Pow(10, x[0]), x[2], a)
+	return Operational(p.em, math.Pow(10, x[opLogKA]), math.Pow(10, x[opLogTau]), x[opSlope], a)
 }
 
 func (p *opProblem) Eval(x, r, jac []float64) {
@@ -110,8 +121,8 @@ func (p *opProblem) Eval(x, r, jac []float64) {
 	if jac == nil {
 		return
 	}
-	var xp, xm [3]float64
-	for j := 0; j < 3; j++ {
+	var xp, xm [opParams]float64
+	for j := 0; j < opParams; j++ {
 		copy(xp[:], x)
 		copy(xm[:], x)
 		h := 1e-6 * math.Max(1, math.Abs(x[j]))

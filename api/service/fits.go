@@ -1,0 +1,276 @@
+package service
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"net/http"
+	"time"
+
+	"sluice/api/ingest"
+	"sluice/api/wire"
+	"sluice/db"
+	"sluice/fit"
+)
+
+// Limits on a fit request.
+const (
+	MaxPoints      = 100_000
+	MaxLabels      = 50
+	MaxLabelLength = 200
+)
+
+// fitInput is a validated fit request, ready to fit.
+type fitInput struct {
+	curve    fit.Curve
+	settings fit.Settings
+	boot     *fit.BootSettings
+	store    bool
+}
+
+// validateFit checks a request and converts it; every error points at a
+// field. A bootstrap without a seed gets one here, written back into req so
+// that it is stored and returned.
+func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
+	model, err := fit.ParseModel(req.Model)
+	if err != nil {
+		return nil, Invalid("/model", "%v", err)
+	}
+	unit, err := ingest.ParseUnit(req.ConcUnit)
+	if err != nil {
+		return nil, Invalid("/conc_unit", "%v", err)
+	}
+	if len(req.Points) > MaxPoints {
+		return nil, Invalid("/points", "%d points is more than the limit of %d", len(req.Points), MaxPoints)
+	}
+	in := &fitInput{store: req.Store == nil || *req.Store}
+	for i, p := range req.Points {
+		if p.Conc == nil {
+			return nil, Invalid(fmt.Sprintf("/points/%d/conc", i), "conc is required")
+		}
+		if p.Response == nil {
+			return nil, Invalid(fmt.Sprintf("/points/%d/response", i), "response is required")
+		}
+		pt := fit.Point{Conc: unit.ToMolar(*p.Conc), Response: *p.Response}
+		if p.Weight != nil {
+			if *p.Weight <= 0 {
+				return nil, Invalid(fmt.Sprintf("/points/%d/weight", i), "weight must be > 0")
+			}
+			pt.Weight = *p.Weight
+		}
+		in.curve.Points = append(in.curve.Points, pt)
+	}
+	free := len(model.Params())
+	for name := range req.Fixed {
+		for _, p := range model.Params() {
+			if p == name {
+				free--
+			}
+		}
+	}
+	if len(req.Points) <= free {
+		return nil, Invalid("/points", "%d points cannot fit %d free parameters of %s; send at least %d",
+			len(req.Points), free, model, free+1)
+	}
+	if len(req.Labels) > MaxLabels {
+		return nil, Invalid("/labels", "more than %d labels", MaxLabels)
+	}
+	for k, v := range req.Labels {
+		if len(k) == 0 || len(k) > MaxLabelLength || len(v) > MaxLabelLength {
+			return nil, Invalid("/labels/"+EscapePointer(k), "label names must be 1–%d bytes and values at most %d", MaxLabelLength, MaxLabelLength)
+		}
+	}
+	in.settings = fit.Settings{Model: model, Fixed: req.Fixed, Confidence: req.Confidence, MaxHill: req.MaxHill}
+	if b := req.Bootstrap; b != nil {
+		in.boot = &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval),
+			Workers: s.fitWorkers}
+		if b.Seed == nil {
+			seed := s.newSeed()
+			b.Seed = &seed
+		}
+		in.boot.Seed = *b.Seed
+	}
+	return in, nil
+}
+
+// checkRefs checks that the records a fit names exist.
+func (s *Service) checkRefs(ctx context.Context, req *wire.FitRequest) error {
+	for _, ref := range []struct{ ptr, id, kind string }{
+		{"/assay_id", req.AssayID, "assay"}, {"/compound_id", req.CompoundID, "compound"}, {"/refit_of", req.RefitOf, "fit"},
+	} {
+		if ref.id == "" {
+			continue
+		}
+		var err error
+		switch ref.kind {
+		case "assay":
+			_, err = s.store.Assay(ctx, ref.id)
+		case "compound":
+			_, err = s.store.Compound(ctx, ref.id)
+		default:
+			_, err = s.store.FitRun(ctx, ref.id)
+		}
+		if errors.Is(err, db.ErrNotFound) {
+			return Invalid(ref.ptr, "no %s with id %q", ref.kind, ref.id)
+		}
+		if err != nil {
+			return fmt.Errorf("look up %s %q: %w", ref.kind, ref.id, err)
+		}
+	}
+	return nil
+}
+
+// Fit is POST /v1/fits: fit one curve and store it (201 with its
+// Location) unless req.Store is false (200). raw is the body as sent; its
+// SHA-256 is the run's input_sha256.
+func (s *Service) Fit(ctx context.Context, who Caller, idem *Idem, req *wire.FitRequest, raw []byte) (*Reply, error) {
+	return s.write(ctx, who, idem, func(ctx context.Context) (commitFunc, error) {
+		in, err := s.validateFit(req)
+		if err != nil {
+			return nil, err
+		}
+		if err := s.checkRefs(ctx, req); err != nil {
+			return nil, err
+		}
+		in.curve.ID = req.CompoundID
+		start := time.Now()
+		res, err := fit.Fit(in.curve, &in.settings)
+		if err == nil && in.boot != nil {
+			err = fit.Bootstrap(ctx, res, in.boot)
+		}
+		if err != nil {
+			return nil, err // a *fit.PointError or *fit.SettingError: 422 with its pointer
+		}
+		var resamples, failed int
+		if res.Boot != nil {
+			resamples, failed = res.Boot.Resamples, res.Boot.Failed
+		}
+		s.obs.CurveFitted(string(res.Model), res.Status, time.Since(start), resamples, failed)
+
+		out := wire.StoredFit{FitResult: wire.FromFit(res)}
+		if !in.store {
+			return func(context.Context, db.Writer) (*Reply, error) { return jsonReply(http.StatusOK, out, "") }, nil
+		}
+		run, err := s.newFitRun(who, req, raw, res, &out)
+		if err != nil {
+			return nil, err
+		}
+		reply, err := jsonReply(http.StatusCreated, out, "/v1/fits/"+out.ID)
+		if err != nil {
+			return nil, err
+		}
+		run.Result = reply.Body
+		detail, err := json.Marshal(map[string]string{"model": string(res.Model), "status": res.Status})
+		if err != nil {
+			return nil, fmt.Errorf("audit detail: %w", err)
+		}
+		return func(ctx context.Context, w db.Writer) (*Reply, error) {
+			if err := w.InsertFitRun(ctx, run); err != nil {
+				return nil, fmt.Errorf("store fit %s: %w", run.ID, err)
+			}
+			if err := w.InsertAudit(ctx, &db.AuditEntry{At: run.CreatedAt, Actor: who.Name, Action: "fit.create", Target: run.ID,
+				Detail: detail}); err != nil {
+				return nil, fmt.Errorf("audit fit %s: %w", run.ID, err)
+			}
+			return reply, nil
+		}, nil
+	})
+}
+
+// newFitRun is the stored form of a fit; it fills out's provenance.
+func (s *Service) newFitRun(who Caller, req *wire.FitRequest, raw []byte, res *fit.Result, out *wire.StoredFit) (*db.FitRun, error) {
+	now := s.now()
+	sum := sha256.Sum256(raw)
+	out.ID = s.newID()
+	out.CreatedAt = now.Format(time.RFC3339Nano)
+	out.SubmittedBy = who.Name
+	out.AssayID, out.CompoundID, out.RefitOf, out.Labels = req.AssayID, req.CompoundID, req.RefitOf, req.Labels
+	out.InputSHA256 = hex.EncodeToString(sum[:])
+	run := &db.FitRun{ID: out.ID, CreatedAt: now, SubmittedBy: who.Name, AssayID: req.AssayID,
+		CompoundID: req.CompoundID, RefitOf: req.RefitOf, Model: string(res.Model), Status: res.Status,
+		EngineVersion: fit.EngineVersion, InputSHA256: out.InputSHA256}
+	if l := res.LogEC50().Estimate; res.Converged() {
+		run.LogEC50 = &l
+	}
+	var err error
+	run.Settings, err = json.Marshal(wire.FitSettings{Model: string(res.Model), Fixed: req.Fixed, Confidence: res.Confidence,
+		MaxHill: req.MaxHill, Bootstrap: req.Bootstrap})
+	if err != nil {
+		return nil, fmt.Errorf("encode fit settings: %w", err)
+	}
+	run.Input, err = json.Marshal(wire.FitInput{ConcUnit: req.ConcUnit, Points: req.Points})
+	if err != nil {
+		return nil, fmt.Errorf("encode fit input: %w", err)
+	}
+	if len(req.Labels) > 0 {
+		if run.Labels, err = json.Marshal(req.Labels); err != nil {
+			return nil, fmt.Errorf("encode labels: %w", err)
+		}
+	}
+	for _, p := range res.Params {
+		run.Params = append(run.Params, db.FitParam{Name: p.Name, Estimate: finite(p.Estimate), SE: finite(p.SE),
+			WaldLo: finite(p.WaldLo), WaldHi: finite(p.WaldHi), BootLo: finite(p.BootLo), BootHi: finite(p.BootHi),
+			Fixed: p.Fixed, AtBound: p.AtBound})
+	}
+	return run, nil
+}
+
+// finite returns nil for NaN and ±Inf, which SQL stores as NULL.
+func finite(v float64) *float64 {
+	if v != v || v > 1.7976931348623157e308 || v < -1.7976931348623157e308 {
+		return nil
+	}
+	return &v
+}
+
+// FitRun is GET /v1/fits/{id}: the stored run, its result as it was
+// returned.
+func (s *Service) FitRun(ctx context.Context, id string) (*db.FitRun, error) {
+	return s.store.FitRun(ctx, id)
+}
+
+// StoredFit is a stored fit with its documents decoded.
+type StoredFit struct {
+	Run      *db.FitRun
+	Result   wire.StoredFit
+	Input    wire.FitInput
+	Settings wire.FitSettings
+}
+
+// StoredFit reads a stored fit and decodes its documents.
+func (s *Service) StoredFit(ctx context.Context, id string) (*StoredFit, error) {
+	run, err := s.FitRun(ctx, id)
+	if err != nil {
+		return nil, err
+	}
+	sf := &StoredFit{Run: run}
+	if err := json.Unmarshal(run.Result, &sf.Result); err != nil {
+		return nil, fmt.Errorf("stored fit %s: result: %w", id, err)
+	}
+	if err := json.Unmarshal(run.Input, &sf.Input); err != nil {
+		return nil, fmt.Errorf("stored fit %s: input: %w", id, err)
+	}
+	if err := json.Unmarshal(run.Settings, &sf.Settings); err != nil {
+		return nil, fmt.Errorf("stored fit %s: settings: %w", id, err)
+	}
+	return sf, nil
+}
+
+// Fits is GET /v1/fits: stored runs newest first, one page.
+func (s *Service) Fits(ctx context.Context, f db.FitFilter) (*wire.FitList, error) {
+	if f.Limit < 0 || f.Limit > db.MaxListLimit {
+		return nil, BadParameter("limit", "%d is not a whole number from 1 to %d", f.Limit, db.MaxListLimit)
+	}
+	runs, next, err := s.store.FitRuns(ctx, f)
+	if err != nil {
+		return nil, err
+	}
+	out := &wire.FitList{Fits: make([]json.RawMessage, len(runs)), NextCursor: next, Caution: wire.Caution}
+	for i, r := range runs {
+		out.Fits[i] = r.Result
+	}
+	return out, nil
+}

@@ -1,0 +1,169 @@
+package service
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/binary"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"hash"
+	"slices"
+
+	"sluice/db"
+)
+
+// MaxIdempotencyKey bounds an Idempotency-Key in bytes.
+const MaxIdempotencyKey = 255
+
+// Idem is an idempotent request: its key and the hash of what it asks.
+// A nil *Idem is a request without a key.
+type Idem struct {
+	Key  string
+	Hash string // hex SHA-256 of the route, the parameters and the body
+}
+
+// NewIdem validates key and hashes what the request asks: the route (e.g.
+// "POST /v1/plates"), the query parameters that change what is stored
+// (never ones like wait, which only change how the caller is answered) and
+// the body. An empty key gives nil: the request is not idempotent.
+func NewIdem(key, route string, params map[string]string, body []byte) (*Idem, error) {
+	if key == "" {
+		return nil, nil
+	}
+	if len(key) > MaxIdempotencyKey {
+		return nil, &Error{Kind: ErrBadRequest, Detail: fmt.Sprintf("Idempotency-Key is longer than %d bytes", MaxIdempotencyKey)}
+	}
+	for _, r := range key {
+		if r < 0x20 || r == 0x7f {
+			return nil, &Error{Kind: ErrBadRequest, Detail: "Idempotency-Key holds a control character"}
+		}
+	}
+	h := sha256.New()
+	field(h, route)
+	names := make([]string, 0, len(params))
+	for k := range params {
+		names = append(names, k)
+	}
+	slices.Sort(names)
+	for _, k := range names {
+		field(h, k)
+		field(h, params[k])
+	}
+	field(h, string(body))
+	return &Idem{Key: key, Hash: hex.EncodeToString(h.Sum(nil))}, nil
+}
+
+// field writes s length-prefixed, so that no two lists hash alike.
+func field(h hash.Hash, s string) {
+	var n [8]byte
+	binary.BigEndian.PutUint64(n[:], uint64(len(s)))
+	h.Write(n[:])
+	h.Write([]byte(s))
+}
+
+// Reply is what a write answers. It is stored with the request's key, so a
+// replay is byte-identical, status included.
+type Reply struct {
+	Status      int
+	ContentType string
+	Body        []byte
+	// Location is the stored record's path, "" for none. It is not part of
+	// the stored reply.
+	Location string
+	// Replayed is true when the reply is a stored one.
+	Replayed bool
+}
+
+// commitFunc stores what a request wrote inside the transaction and
+// returns its reply.
+type commitFunc func(ctx context.Context, w db.Writer) (*Reply, error)
+
+// write is the one path of every write use case:
+//
+//  1. a stored reply for idem's key is replayed before any work is done
+//     (another request under that key is ErrConflict);
+//  2. prepare does the work (validation, numerics) and returns the commit;
+//  3. the commit runs in one transaction that also stores its reply with
+//     the key;
+//  4. when a concurrent request with the same key committed first (its key
+//     exists), its reply is returned and nothing of this one is kept.
+func (s *Service) write(ctx context.Context, who Caller, idem *Idem, prepare func(ctx context.Context) (commitFunc, error)) (*Reply, error) {
+	if r, err := s.replay(ctx, who, idem); r != nil || err != nil {
+		return r, err
+	}
+	commit, err := prepare(ctx)
+	if err != nil {
+		return nil, err
+	}
+	var reply *Reply
+	err = s.store.Write(ctx, func(w db.Writer) error {
+		r, err := commit(ctx, w)
+		if err != nil {
+			return err
+		}
+		if idem != nil {
+			err := w.InsertIdempotent(ctx, &db.Idempotent{Actor: who.Name, Key: idem.Key, RequestSHA256: idem.Hash,
+				Status: r.Status, ContentType: r.ContentType, Body: r.Body, CreatedAt: s.now()})
+			if err != nil {
+				return fmt.Errorf("store reply for key %q: %w", idem.Key, err)
+			}
+		}
+		reply = r
+		return nil
+	})
+	if idem != nil && errors.Is(err, db.ErrExists) {
+		// Either a concurrent request under this key won, or the record
+		// itself exists; only the first is answered from the store.
+		if r, rerr := s.replay(ctx, who, idem); r != nil || rerr != nil {
+			return r, rerr
+		}
+	}
+	if err != nil {
+		return nil, err
+	}
+	return reply, nil
+}
+
+// replay returns the stored reply for idem's key, nil when there is none.
+func (s *Service) replay(ctx context.Context, who Caller, idem *Idem) (*Reply, error) {
+	if idem == nil {
+		return nil, nil
+	}
+	rec, err := s.store.Idempotent(ctx, who.Name, idem.Key)
+	if errors.Is(err, db.ErrNotFound) {
+		return nil, nil
+	}
+	if err != nil {
+		return nil, fmt.Errorf("look up key %q: %w", idem.Key, err)
+	}
+	if rec.RequestSHA256 != idem.Hash {
+		return nil, &Error{Kind: ErrConflict, Detail: "this Idempotency-Key was used for a different request; use a new key"}
+	}
+	return &Reply{Status: rec.Status, ContentType: rec.ContentType, Body: rec.Body, Replayed: true}, nil
+}
+
+// calculate answers a request that stores nothing (a calculator) under
+// its key: the reply is replayed for a retry.
+func (s *Service) calculate(ctx context.Context, who Caller, idem *Idem, compute func(ctx context.Context) (*Reply, error)) (*Reply, error) {
+	if idem == nil {
+		return compute(ctx)
+	}
+	return s.write(ctx, who, idem, func(ctx context.Context) (commitFunc, error) {
+		r, err := compute(ctx)
+		if err != nil {
+			return nil, err
+		}
+		return func(context.Context, db.Writer) (*Reply, error) { return r, nil }, nil
+	})
+}
+
+// jsonReply encodes v as a JSON reply.
+func jsonReply(status int, v any, location string) (*Reply, error) {
+	b, err := json.Marshal(v)
+	if err != nil {
+		return nil, fmt.Errorf("encode reply: %w", err)
+	}
+	return &Reply{Status: status, ContentType: "application/json", Body: b, Location: location}, nil
+}

@@ -1,0 +1,50 @@
+package service
+
+import (
+	"context"
+
+	"sluice/db"
+)
+
+// The store as the use cases see it: small interfaces over db.Store's
+// methods, declared here by their consumer. A db.Store satisfies Store.
+
+// Writes runs a transaction: all of fn's writes or none.
+type Writes interface {
+	Write(ctx context.Context, fn func(db.Writer) error) error
+}
+
+// Replies finds the stored reply to an idempotent request.
+type Replies interface {
+	Idempotent(ctx context.Context, actor, key string) (*db.Idempotent, error)
+}
+
+// Catalogue reads assays and compounds.
+type Catalogue interface {
+	Assay(ctx context.Context, id string) (*db.Assay, error)
+	Assays(ctx context.Context) ([]db.Assay, error)
+	Compound(ctx context.Context, id string) (*db.Compound, error)
+	Compounds(ctx context.Context) ([]db.Compound, error)
+}
+
+// FitRuns reads stored fits.
+type FitRuns interface {
+	FitRun(ctx context.Context, id string) (*db.FitRun, error)
+	FitRuns(ctx context.Context, f db.FitFilter) (runs []db.FitRun, next string, err error)
+}
+
+// SchildRuns reads stored Schild analyses.
+type SchildRuns interface {
+	SchildRun(ctx context.Context, id string) (*db.SchildRun, error)
+}
+
+// Store is everything the service reads and writes.
+type Store interface {
+	Writes
+	Replies
+	Catalogue
+	FitRuns
+	SchildRuns
+}
+
+var _ Store = db.Store(nil)

@@ -37,7 +37,7 @@ func TestCostFormula(t *testing.T) {
 // makes fits dearer fails here, and the constants must follow.
 func TestCostCountsBoundMeasuredEvaluations(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
-	for _, m := range Models {
+	for _, m := range Builtin().Names() {
 		var fitEvals, refitEvals, curves, refits int
 		var params int
 		for trial := 0; trial < 40; trial++ {

@@ -90,9 +90,18 @@ func (s *Server) replay(c *gin.Context, req *service.Idem) bool {
 // respondBuilt is respond for a body known only once the write has run
 // (e.g. it holds an ID the transaction created).
 func (s *Server) respondBuilt(c *gin.Context, status int, contentType string, build func() []byte, write func(db.Writer) error) {
+	if body, stored := s.commitBuilt(c, status, contentType, build, write); stored {
+		c.Data(status, contentType, body)
+	}
+}
+
+// commitBuilt runs write and stores the response it builds with the
+// request's idempotency record, in one transaction. It reports stored
+// false when it has answered instead: with a problem, or with the reply of
+// a concurrent request with the same key that won the race.
+func (s *Server) commitBuilt(c *gin.Context, status int, contentType string, build func() []byte, write func(db.Writer) error) (body []byte, stored bool) {
 	v, keyed := c.Get(idemKey)
 	ctx := c.Request.Context()
-	var body []byte
 	err := s.store.Write(ctx, func(w db.Writer) error {
 		if write != nil {
 			if err := write(w); err != nil {
@@ -108,13 +117,13 @@ func (s *Server) respondBuilt(c *gin.Context, status int, contentType string, bu
 		return nil
 	})
 	if keyed && errors.Is(err, db.ErrExists) && s.replay(c, v.(*service.Idem)) {
-		return
+		return nil, false
 	}
 	if err != nil {
 		s.writeProblem(c, err)
-		return
+		return nil, false
 	}
-	c.Data(status, contentType, body)
+	return body, true
 }
 
 // respond stores what the request wrote (write, may be nil) together with

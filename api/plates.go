@@ -294,26 +294,25 @@ func (s *Server) createPlate(c *gin.Context) {
 		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: v.p.SubmittedBy, Action: "plate.create", Target: v.p.ID,
 			Detail: []byte(fmt.Sprintf(`{"barcode":%q,"wells":%d}`, v.p.Barcode, len(v.wells)))})
 	}
+	// The job ID is known only inside the transaction; build the body there.
+	build := func() []byte {
+		resp, _ := json.Marshal(gin.H{"plate_id": v.p.ID, "job_id": jobID})
+		return resp
+	}
 	if wait := c.Query("wait"); wait != "" {
 		d, err := time.ParseDuration(wait)
 		if err != nil || d < 0 || d > 5*time.Minute {
 			s.writeProblem(c, badParameter("wait", "%q is not a duration up to 5m (e.g. 30s)", wait))
 			return
 		}
-		if err := s.store.Write(ctx, write); err != nil {
-			s.writeProblem(c, err)
-			return
+		// Submit (the 202 is what a retry replays), then wait.
+		if _, stored := s.commitBuilt(c, http.StatusAccepted, "application/json", build, write); stored {
+			s.waitForPlate(c, v.p.ID, d)
 		}
-		s.waitForPlate(c, v.p.ID, d)
 		return
 	}
-	// The job ID is known only inside the transaction; build the body there.
-	var resp []byte
 	c.Header("Location", "/v1/plates/"+v.p.ID)
-	s.respondBuilt(c, http.StatusAccepted, "application/json", func() []byte {
-		resp, _ = json.Marshal(gin.H{"plate_id": v.p.ID, "job_id": jobID})
-		return resp
-	}, write)
+	s.respondBuilt(c, http.StatusAccepted, "application/json", build, write)
 }
 
 // wellsFromJSON turns wells as JSON sends them into wells as read.

@@ -1,23 +1,35 @@
 package api
 
 import (
-	"sluice/api/service"
-
 	"errors"
 	"net/http"
+	"slices"
 	"strconv"
+	"strings"
 
 	"github.com/gin-gonic/gin"
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
+
+	"sluice/api/service"
 )
+
+// queryParams lists the query parameters each route takes, by method and
+// route template; a route not listed takes none. Any other parameter is a
+// 400 naming it (knownParams), so a misspelt filter never silently selects
+// everything.
+var queryParams = map[string][]string{
+	"GET /v1/fits":       {"assay_id", "compound_id", "from", "to", "limit", "cursor"},
+	"POST /v1/plates":    {"format", "barcode", "assay_id", "measured_at", "conc_unit", "mode", "layout_id", "model", "resamples", "seed", "scheme", "interval", "wait"},
+	"POST /v1/potential": {"format"},
+}
 
 // routes is the whole API surface; the OpenAPI document lists the same
 // routes (a test checks).
 func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	r := gin.New()
 	r.HandleMethodNotAllowed = true
-	r.Use(s.recoverer, s.metrics.middleware, s.limitBody)
+	r.Use(s.recoverer, s.metrics.middleware, s.limitBody, s.knownParams)
 	r.NoRoute(func(c *gin.Context) {
 		s.writeProblem(c, &service.Error{Kind: errNotFoundRoute, Detail: "no such endpoint: " + c.Request.URL.Path})
 	})
@@ -87,4 +99,35 @@ func (s *Server) limitBody(c *gin.Context) {
 	}
 	c.Request.Body = http.MaxBytesReader(c.Writer, c.Request.Body, s.cfg.BodyLimit)
 	c.Next()
+}
+
+// knownParams refuses a query parameter the route does not take
+// (queryParams).
+func (s *Server) knownParams(c *gin.Context) {
+	if c.FullPath() == "" {
+		c.Next() // no such route: NoRoute or NoMethod answers
+		return
+	}
+	allowed := queryParams[c.Request.Method+" "+c.FullPath()]
+	var unknown []string
+	for name := range c.Request.URL.Query() {
+		if !slices.Contains(allowed, name) {
+			unknown = append(unknown, name)
+		}
+	}
+	if len(unknown) == 0 {
+		c.Next()
+		return
+	}
+	slices.Sort(unknown)
+	takes := "takes no query parameters"
+	if len(allowed) > 0 {
+		takes = "takes only " + strings.Join(allowed, ", ")
+	}
+	e := &service.Error{Kind: errBadRequest, Detail: c.Request.Method + " " + c.FullPath() + " " + takes}
+	for _, name := range unknown {
+		e.Fields = append(e.Fields, FieldError{Parameter: name, Detail: "unknown parameter " + strconv.Quote(name)})
+	}
+	e.Detail = "unknown query parameter " + strconv.Quote(unknown[0]) + ": " + e.Detail
+	s.writeProblem(c, e)
 }

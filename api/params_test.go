@@ -1,0 +1,48 @@
+package api
+
+import (
+	"strings"
+	"testing"
+
+	"sluice/db/dbtest"
+)
+
+// TestUnknownQueryParameters walks every route: a parameter the route does
+// not take is a 400 problem naming it (GET /v1/fits?compound=X used to
+// return every fit), and the parameters a route does take are never refused
+// as unknown.
+func TestUnknownQueryParameters(t *testing.T) {
+	ts := newTestServer(t, dbtest.SQLite(t))
+	routes := ts.srv.engine.Routes()
+	if len(routes) < 20 {
+		t.Fatalf("only %d routes", len(routes))
+	}
+	for _, rt := range routes {
+		path := strings.ReplaceAll(rt.Path, ":id", "1")
+		w := ts.do(rt.Method, path+"?compund_id=X", ScopeAdmin, "")
+		p := problemOf(t, w)
+		if w.Code != 400 || len(p.Errors) != 1 || p.Errors[0].Parameter != "compund_id" {
+			t.Errorf("%s %s?compund_id=X: %d %+v, want 400 naming compund_id", rt.Method, rt.Path, w.Code, p)
+		}
+		for _, name := range queryParams[rt.Method+" "+rt.Path] {
+			w := ts.do(rt.Method, path+"?"+name+"=1", ScopeAdmin, "")
+			if w.Code == 400 && strings.Contains(w.Body.String(), "unknown parameter") {
+				t.Errorf("%s %s?%s: refused as unknown", rt.Method, rt.Path, name)
+			}
+		}
+	}
+	// Every listed route exists.
+	for key := range queryParams {
+		found := false
+		for _, rt := range routes {
+			found = found || rt.Method+" "+rt.Path == key
+		}
+		if !found {
+			t.Errorf("queryParams lists %s, which is no route", key)
+		}
+	}
+	// The filters themselves still work.
+	if w := ts.do("GET", "/v1/fits?compound_id=X&limit=5", ScopeRead, ""); w.Code != 200 {
+		t.Errorf("GET /v1/fits?compound_id=X&limit=5: %d %s", w.Code, w.Body)
+	}
+}

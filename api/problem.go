@@ -60,6 +60,7 @@ var statusTable = []struct {
 	{ingest.ErrMissingColumn, http.StatusUnprocessableEntity},
 	{ingest.ErrNoData, http.StatusUnprocessableEntity},
 	{db.ErrReference, http.StatusUnprocessableEntity},
+	{db.ErrInvalid, http.StatusUnprocessableEntity},
 	{errUnauthenticated, http.StatusUnauthorized},
 	{errForbidden, http.StatusForbidden},
 	{db.ErrNotFound, http.StatusNotFound},

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"math"
 	"sort"
 	"strconv"
 	"time"
@@ -106,7 +107,11 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 			AntagonistConc: specs[i].AntagonistConc, FitResult: wire.FromFit(r)}
 		b, _ := json.Marshal(pc)
 		out[i] = db.PlateCurve{Key: pc.Key, CompoundID: pc.CompoundID, AntagonistID: pc.AntagonistID,
-			AntagonistConc: pc.AntagonistConc, Status: r.Status, Result: b}
+			AntagonistConc: pc.AntagonistConc, Model: string(r.Model), Status: r.Status, Result: b,
+			EngineVersion: fit.EngineVersion, Params: storedParams(r)}
+		if r.Boot != nil {
+			out[i].BootCols, out[i].BootDraws = len(r.Params), r.Boot.Draws
+		}
 		if r.Converged() {
 			l := r.LogEC50().Estimate
 			out[i].LogEC50 = &l
@@ -122,6 +127,11 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 	}
 	return s.store.Write(ctx, func(w db.Writer) error {
 		if err := w.FinishPlate(ctx, plateID, db.PlateDone, qcJSON, out, ""); err != nil {
+			return err
+		}
+		if err := w.SetPlateQC(ctx, plateID, &db.PlateQC{ZPrime: qc.ZPrime, SignalWindow: qc.SignalWindow,
+			SignalToBackground: qc.SignalBackground, MaxMean: qc.MeanMax, MaxCV: qc.CV["max_control"], MinMean: qc.MeanMin,
+			MinCV: qc.CV["min_control"], Pass: qc.Pass, Reasons: qc.Reasons}); err != nil {
 			return err
 		}
 		for _, r := range runs {
@@ -240,4 +250,21 @@ func (s *Server) failPlate(ctx context.Context, plateID string, cause error) err
 	}
 	s.log.Warn("plate failed", "plate", plateID, "err", cause)
 	return nil
+}
+
+// storedParams are a result's parameters as the store keeps them (NaN and
+// ±Inf as nil).
+func storedParams(r *fit.Result) []db.FitParam {
+	finite := func(v float64) *float64 {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil
+		}
+		return &v
+	}
+	ps := make([]db.FitParam, len(r.Params))
+	for i, p := range r.Params {
+		ps[i] = db.FitParam{Name: p.Name, Estimate: finite(p.Estimate), SE: finite(p.SE), WaldLo: finite(p.WaldLo),
+			WaldHi: finite(p.WaldHi), BootLo: finite(p.BootLo), BootHi: finite(p.BootHi), Fixed: p.Fixed, AtBound: p.AtBound}
+	}
+	return ps
 }

@@ -10,7 +10,8 @@ import (
 // querier is what both engines offer a statement: the pool, or a
 // transaction.
 type querier interface {
-	exec(ctx context.Context, q string, args ...any) error
+	// exec runs a statement and returns the number of rows it touched.
+	exec(ctx context.Context, q string, args ...any) (int64, error)
 	queryRow(ctx context.Context, q string, args ...any) rowScanner
 	query(ctx context.Context, q string, args ...any) (rowsScanner, error)
 }
@@ -32,9 +33,10 @@ type engine interface {
 	stats() PoolStats
 	close()
 	name() string
-	// translate maps the driver's errors to ErrNotFound, ErrExists and
-	// ErrReference, wrapping the original.
-	translate(err error) error
+	// classify returns the store's category of a driver error
+	// (ErrNotFound, ErrExists, ErrReference, ErrInvalid), or nil when it
+	// has none.
+	classify(err error) error
 	// timeArg encodes a timestamp as the engine stores it.
 	timeArg(t time.Time) any
 }

@@ -2,6 +2,7 @@ package db
 
 import (
 	"context"
+	"strings"
 	"testing"
 	"time"
 )
@@ -9,7 +10,7 @@ import (
 // Stored runs are immutable: the schema itself refuses UPDATE and DELETE.
 func TestFitRunsImmutableSQLite(t *testing.T) {
 	ctx := context.Background()
-	s, err := openSQLite(ctx, t.TempDir())
+	s, err := openSQLite(ctx, t.TempDir(), Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -22,9 +23,9 @@ func TestFitRunsImmutableSQLite(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, q := range []string{"UPDATE fit_runs SET status = 'x'", "DELETE FROM fit_runs", "UPDATE fit_params SET name = 'x'", "DELETE FROM fit_params"} {
-		if err := s.e.exec(ctx, q); err == nil {
-			t.Errorf("%s succeeded", q)
+	for _, q := range []string{"UPDATE curve_results SET status = 'x'", "DELETE FROM curve_results", "UPDATE curve_results SET params = '[]'"} {
+		if _, err := s.e.exec(ctx, q); err == nil || !strings.Contains(err.Error(), "immutable") {
+			t.Errorf("%s: %v, want the immutability trigger's refusal", q, err)
 		}
 	}
 }

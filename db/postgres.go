@@ -4,12 +4,14 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"strings"
 	"time"
 
 	"github.com/jackc/pgx/v5"
 	"github.com/jackc/pgx/v5/pgconn"
 	"github.com/jackc/pgx/v5/pgxpool"
 	"github.com/jackc/pgx/v5/stdlib"
+	"github.com/riverqueue/river/riverdriver"
 	"github.com/riverqueue/river/riverdriver/riverpgxv5"
 )
 
@@ -18,9 +20,10 @@ type pgEngine struct {
 	pool *pgxpool.Pool
 }
 
-// openPostgres connects a pool to url and applies the migrations. The pool
-// comes from pgxpool.ParseConfig, so the URL's pool_* parameters apply.
-func openPostgres(ctx context.Context, url string) (*sqlStore, error) {
+// openPostgres connects a pool to url and migrates (or checks) the schema.
+// The pool comes from pgxpool.ParseConfig, so the URL's pool_* parameters
+// apply.
+func openPostgres(ctx context.Context, url string, o Options) (*sqlStore, error) {
 	cfg, err := pgxpool.ParseConfig(url)
 	if err != nil {
 		return nil, fmt.Errorf("database URL: %w", err)
@@ -33,15 +36,12 @@ func openPostgres(ctx context.Context, url string) (*sqlStore, error) {
 		pool.Close()
 		return nil, fmt.Errorf("connect to PostgreSQL: %w", err)
 	}
-	// goose works on database/sql; open one over the same pool.
-	sqlDB := stdlib.OpenDBFromPool(pool)
-	err = migrate(ctx, sqlDB, "postgres")
-	sqlDB.Close()
-	if err != nil {
+	driver := riverpgxv5.New(pool)
+	if err := pgMigrate(ctx, pool, driver, o); err != nil {
 		pool.Close()
 		return nil, err
 	}
-	q, err := newRiverQueue(ctx, riverpgxv5.New(pool), func(q querier) (pgx.Tx, bool) {
+	q, err := newRiverQueue(ctx, driver, func(q querier) (pgx.Tx, bool) {
 		t, ok := q.(pgTx)
 		return t.tx, ok
 	}, 200*time.Millisecond)
@@ -52,9 +52,40 @@ func openPostgres(ctx context.Context, url string) (*sqlStore, error) {
 	return &sqlStore{e: &pgEngine{pool: pool}, q: q}, nil
 }
 
-func (e *pgEngine) exec(ctx context.Context, q string, args ...any) error {
-	_, err := e.pool.Exec(ctx, q, args...)
-	return err
+// migrationLock is the key of the PostgreSQL advisory lock held while
+// migrating: the first 8 bytes of SHA-256("sluice migrations") as a signed
+// integer. It is per database, so schemas of one database (the tests')
+// migrate one at a time too.
+const migrationLock int64 = 0x0e5f050d9de802a5
+
+// pgMigrate runs the migrator under a session-level advisory lock
+// (pg_advisory_lock, PostgreSQL documentation §9.28.10) held on one
+// connection of the pool, so that replicas starting together migrate one
+// after the other and the later ones find nothing to do. Checking alone
+// takes no lock.
+func pgMigrate(ctx context.Context, pool *pgxpool.Pool, driver riverdriver.Driver[pgx.Tx], o Options) error {
+	// goose works on database/sql; open one over the same pool.
+	sqlDB := stdlib.OpenDBFromPool(pool)
+	defer sqlDB.Close()
+	m := migrator[pgx.Tx]{db: sqlDB, engine: "postgres", river: driver}
+	if o.SkipMigrations {
+		return m.check(ctx)
+	}
+	conn, err := pool.Acquire(ctx)
+	if err != nil {
+		return fmt.Errorf("migrations: %w", err)
+	}
+	defer conn.Release()
+	if _, err := conn.Exec(ctx, "SELECT pg_advisory_lock($1)", migrationLock); err != nil {
+		return fmt.Errorf("migrations: lock: %w", err)
+	}
+	defer conn.Exec(context.WithoutCancel(ctx), "SELECT pg_advisory_unlock($1)", migrationLock)
+	return m.up(ctx, o.to)
+}
+
+func (e *pgEngine) exec(ctx context.Context, q string, args ...any) (int64, error) {
+	tag, err := e.pool.Exec(ctx, q, args...)
+	return tag.RowsAffected(), err
 }
 
 func (e *pgEngine) queryRow(ctx context.Context, q string, args ...any) rowScanner {
@@ -65,40 +96,12 @@ func (e *pgEngine) query(ctx context.Context, q string, args ...any) (rowsScanne
 	return e.pool.Query(ctx, q, args...)
 }
 
-// inTx runs fn atomically. A write that only executes statements (every
-// Writer method today) is sent as one pipelined batch: PostgreSQL runs the
-// statements before a Sync as one implicit transaction, rolled back whole on
-// any error (PostgreSQL docs, "Pipelining" in the frontend/backend
-// protocol), so the write costs one round trip instead of one per statement
-// plus BEGIN and COMMIT. A write that reads is run again inside an explicit
-// transaction.
+// inTx runs fn in one transaction (BEGIN … COMMIT), rolled back when fn
+// returns an error. Each statement's error reaches fn as it happens; bulk
+// rows go out in one round trip inside it (COPY for wells, a pipelined
+// pgx.Batch for curves).
 func (e *pgEngine) inTx(ctx context.Context, fn func(querier) error) error {
-	rec := &pgRecorder{}
-	err := fn(rec)
-	if err != nil && !errors.Is(err, errNeedsTx) {
-		return err
-	}
-	if rec.read || errors.Is(err, errNeedsTx) {
-		return pgx.BeginFunc(ctx, e.pool, func(tx pgx.Tx) error { return fn(pgTx{tx}) })
-	}
-	if rec.batch.Len() == 0 {
-		return nil
-	}
-	return e.pool.SendBatch(ctx, &rec.batch).Close()
-}
-
-// errNeedsTx stops a recorded write that tries to read.
-var errNeedsTx = errors.New("write reads: needs a transaction")
-
-// pgRecorder queues a write's statements into a batch.
-type pgRecorder struct {
-	batch pgx.Batch
-	read  bool
-}
-
-func (r *pgRecorder) exec(ctx context.Context, q string, args ...any) error {
-	r.batch.Queue(q, args...)
-	return nil
+	return pgx.BeginFunc(ctx, e.pool, func(tx pgx.Tx) error { return fn(pgTx{tx}) })
 }
 
 // copyWells bulk-loads wells with COPY.
@@ -113,20 +116,6 @@ func (t pgTx) copyWells(ctx context.Context, plateID string, wells []WellRow) er
 	return err
 }
 
-func (r *pgRecorder) queryRow(ctx context.Context, q string, args ...any) rowScanner {
-	r.read = true
-	return errRow{errNeedsTx}
-}
-
-func (r *pgRecorder) query(ctx context.Context, q string, args ...any) (rowsScanner, error) {
-	r.read = true
-	return nil, errNeedsTx
-}
-
-type errRow struct{ err error }
-
-func (r errRow) Scan(...any) error { return r.err }
-
 func (e *pgEngine) ping(ctx context.Context) error { return e.pool.Ping(ctx) }
 func (e *pgEngine) close()                         { e.pool.Close() }
 func (e *pgEngine) name() string                   { return "postgres" }
@@ -137,33 +126,45 @@ func (e *pgEngine) stats() PoolStats {
 	return PoolStats{Max: int(s.MaxConns()), Open: int(s.TotalConns()), InUse: int(s.AcquiredConns()), Idle: int(s.IdleConns())}
 }
 
-// translate maps pgx's errors and SQLSTATEs (PostgreSQL Appendix A) to the
-// store's.
-func (e *pgEngine) translate(err error) error {
-	if err == nil {
-		return nil
-	}
+// classify maps pgx's errors and SQLSTATEs (PostgreSQL documentation,
+// Appendix A, "PostgreSQL Error Codes") to the store's categories.
+func (e *pgEngine) classify(err error) error {
 	if errors.Is(err, pgx.ErrNoRows) {
-		return fmt.Errorf("%w (%v)", ErrNotFound, err)
+		return ErrNotFound
 	}
 	var pe *pgconn.PgError
-	if errors.As(err, &pe) {
-		switch pe.Code {
-		case "23505": // unique_violation
-			return fmt.Errorf("%w: %s", ErrExists, pe.Message)
-		case "23503": // foreign_key_violation
-			return fmt.Errorf("%w: %s", ErrReference, pe.Detail)
-		}
+	if !errors.As(err, &pe) {
+		return nil
 	}
-	return err
+	switch {
+	case pe.Code == "23505": // unique_violation
+		return ErrExists
+	case pe.Code == "23503": // foreign_key_violation
+		return ErrReference
+	case pe.Code == "23502", pe.Code == "23514": // not_null_violation, check_violation
+		return ErrInvalid
+	case strings.HasPrefix(pe.Code, "22"): // class 22, data exception
+		return ErrInvalid
+	}
+	return nil
 }
 
 // pgTx adapts a transaction.
 type pgTx struct{ tx pgx.Tx }
 
-func (t pgTx) exec(ctx context.Context, q string, args ...any) error {
-	_, err := t.tx.Exec(ctx, q, args...)
-	return err
+func (t pgTx) exec(ctx context.Context, q string, args ...any) (int64, error) {
+	tag, err := t.tx.Exec(ctx, q, args...)
+	return tag.RowsAffected(), err
+}
+
+// execMany runs one statement for many rows as one pipelined batch inside
+// the transaction: one round trip, and the first failing row's error.
+func (t pgTx) execMany(ctx context.Context, q string, rows [][]any) error {
+	var b pgx.Batch
+	for _, r := range rows {
+		b.Queue(q, r...)
+	}
+	return t.tx.SendBatch(ctx, &b).Close()
 }
 
 func (t pgTx) queryRow(ctx context.Context, q string, args ...any) rowScanner {

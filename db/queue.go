@@ -4,11 +4,11 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"strconv"
 	"time"
 
 	"github.com/riverqueue/river"
 	"github.com/riverqueue/river/riverdriver"
-	"github.com/riverqueue/river/rivermigrate"
 	"github.com/riverqueue/river/rivertype"
 )
 
@@ -66,13 +66,6 @@ type riverQueue[TTx any] struct {
 }
 
 func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(querier) (TTx, bool), poll time.Duration) (*riverQueue[TTx], error) {
-	m, err := rivermigrate.New(driver, nil)
-	if err != nil {
-		return nil, fmt.Errorf("job queue migrations: %w", err)
-	}
-	if _, err := m.Migrate(ctx, rivermigrate.DirectionUp, nil); err != nil {
-		return nil, fmt.Errorf("job queue migrations: %w", err)
-	}
 	insert, err := river.NewClient(driver, &river.Config{})
 	if err != nil {
 		return nil, fmt.Errorf("job queue: %w", err)
@@ -83,7 +76,7 @@ func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx],
 func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args PlateFitArgs) (int64, error) {
 	tx, ok := q.txOf(qr)
 	if !ok {
-		return 0, errNeedsTx
+		return 0, errors.New("enqueue outside a transaction")
 	}
 	res, err := q.insert.InsertTx(ctx, tx, args, &river.InsertOpts{MaxAttempts: maxAttempts})
 	if err != nil {
@@ -95,10 +88,10 @@ func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args PlateFit
 func (q *riverQueue[TTx]) job(ctx context.Context, id int64) (*Job, error) {
 	row, err := q.insert.JobGet(ctx, id)
 	if errors.Is(err, river.ErrNotFound) {
-		return nil, fmt.Errorf("%w: job %d", ErrNotFound, id)
+		return nil, &Error{Op: "Job", Key: strconv.FormatInt(id, 10), Err: ErrNotFound}
 	}
 	if err != nil {
-		return nil, err
+		return nil, &Error{Op: "Job", Key: strconv.FormatInt(id, 10), Err: err, cause: err}
 	}
 	return jobOf(row), nil
 }

@@ -46,15 +46,26 @@ type FitRun struct {
 	Result   []byte
 	Labels   []byte // a JSON object
 	Params   []FitParam
+	// MeasuredAt is the experiment's time; zero means CreatedAt (the
+	// upload time, until the API accepts one).
+	MeasuredAt time.Time
+	// BootDraws are the bootstrap parameter vectors row by row, B ×
+	// BootCols (the number of parameters); nil without a bootstrap.
+	BootCols  int
+	BootDraws []float64
 }
 
 // FitParam is one parameter of a stored run, for queries across runs.
 type FitParam struct {
-	Name           string
-	Estimate, SE   *float64
-	WaldLo, WaldHi *float64
-	BootLo, BootHi *float64
-	Fixed, AtBound bool
+	Name     string   `json:"name"`
+	Estimate *float64 `json:"estimate"`
+	SE       *float64 `json:"se"`
+	WaldLo   *float64 `json:"wald_lo"`
+	WaldHi   *float64 `json:"wald_hi"`
+	BootLo   *float64 `json:"boot_lo"`
+	BootHi   *float64 `json:"boot_hi"`
+	Fixed    bool     `json:"fixed"`
+	AtBound  bool     `json:"at_bound"`
 }
 
 // FitFilter selects runs for FitRuns; zero fields do not filter.

@@ -21,9 +21,18 @@ type SchildRun struct {
 const schildCols = "id, created_at, submitted_by, plate_id, agonist_id, antagonist_id, engine_version, input_sha256, input, result"
 
 func (w *sqlWriter) InsertSchildRun(ctx context.Context, r *SchildRun) error {
-	return w.e.translate(w.q.exec(ctx, "INSERT INTO schild_runs ("+schildCols+") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)",
+	const op = "InsertSchildRun"
+	in, ok := jsonDoc(r.Input, "")
+	if !ok || in == nil {
+		return w.invalid(op, r.ID, "input")
+	}
+	res, ok := jsonDoc(r.Result, "")
+	if !ok || res == nil {
+		return w.invalid(op, r.ID, "result")
+	}
+	return w.insert(ctx, op, r.ID, "INSERT INTO schild_runs ("+schildCols+") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)",
 		r.ID, w.e.timeArg(r.CreatedAt), r.SubmittedBy, nullString(r.PlateID), r.AgonistID, r.AntagonistID, r.EngineVersion,
-		r.InputSHA256, string(r.Input), string(r.Result)))
+		r.InputSHA256, in, res)
 }
 
 func scanSchild(row rowScanner) (*SchildRun, error) {
@@ -39,22 +48,25 @@ func scanSchild(row rowScanner) (*SchildRun, error) {
 
 func (s *sqlStore) SchildRun(ctx context.Context, id string) (*SchildRun, error) {
 	r, err := scanSchild(s.e.queryRow(ctx, "SELECT "+schildCols+" FROM schild_runs WHERE id = $1", id))
-	return r, s.e.translate(err)
+	if err != nil {
+		return nil, s.read("SchildRun", id, err)
+	}
+	return r, nil
 }
 
 func (s *sqlStore) PlateSchildRuns(ctx context.Context, plateID string) ([]SchildRun, error) {
 	rows, err := s.e.query(ctx, "SELECT "+schildCols+" FROM schild_runs WHERE plate_id = $1 ORDER BY agonist_id, antagonist_id", plateID)
 	if err != nil {
-		return nil, s.e.translate(err)
+		return nil, s.read("PlateSchildRuns", plateID, err)
 	}
 	defer rows.Close()
 	var out []SchildRun
 	for rows.Next() {
 		r, err := scanSchild(rows)
 		if err != nil {
-			return nil, s.e.translate(err)
+			return nil, s.read("PlateSchildRuns", plateID, err)
 		}
 		out = append(out, *r)
 	}
-	return out, s.e.translate(rows.Err())
+	return out, s.read("PlateSchildRuns", plateID, rows.Err())
 }

@@ -22,10 +22,10 @@ type sqliteEngine struct {
 // SQLiteFile is the database file's name in the data directory.
 const SQLiteFile = "sluice.db"
 
-// openSQLite opens (creating) dir/sluice.db in WAL mode and applies the
-// migrations. WAL with synchronous=NORMAL keeps every commit atomic and
+// openSQLite opens (creating) dir/sluice.db in WAL mode and migrates (or
+// checks) the schema. WAL with synchronous=NORMAL keeps every commit atomic and
 // durable across a process crash, and fsyncs only at checkpoints.
-func openSQLite(ctx context.Context, dir string) (*sqlStore, error) {
+func openSQLite(ctx context.Context, dir string, o Options) (*sqlStore, error) {
 	if err := os.MkdirAll(dir, 0o750); err != nil {
 		return nil, fmt.Errorf("data directory: %w", err)
 	}
@@ -42,11 +42,14 @@ func openSQLite(ctx context.Context, dir string) (*sqlStore, error) {
 		db.Close()
 		return nil, fmt.Errorf("open SQLite: %w", err)
 	}
-	if err := migrate(ctx, db, "sqlite"); err != nil {
+	// SQLite has one writer at a time and the file belongs to one process:
+	// migrations need no lock of their own.
+	driver := riversqlite.New(db)
+	if err := (migrator[*sql.Tx]{db: db, engine: "sqlite", river: driver}).prepare(ctx, o); err != nil {
 		db.Close()
 		return nil, err
 	}
-	q, err := newRiverQueue(ctx, riversqlite.New(db), func(q querier) (*sql.Tx, bool) {
+	q, err := newRiverQueue(ctx, driver, func(q querier) (*sql.Tx, bool) {
 		t, ok := q.(sqlTx)
 		return t.tx, ok
 	}, 100*time.Millisecond)
@@ -57,9 +60,15 @@ func openSQLite(ctx context.Context, dir string) (*sqlStore, error) {
 	return &sqlStore{e: &sqliteEngine{db: db}, q: q}, nil
 }
 
-func (e *sqliteEngine) exec(ctx context.Context, q string, args ...any) error {
-	_, err := e.db.ExecContext(ctx, q, args...)
-	return err
+func (e *sqliteEngine) exec(ctx context.Context, q string, args ...any) (int64, error) {
+	return rowsAffected(e.db.ExecContext(ctx, q, args...))
+}
+
+func rowsAffected(r sql.Result, err error) (int64, error) {
+	if err != nil {
+		return 0, err
+	}
+	return r.RowsAffected()
 }
 
 func (e *sqliteEngine) queryRow(ctx context.Context, q string, args ...any) rowScanner {
@@ -74,6 +83,9 @@ func (e *sqliteEngine) query(ctx context.Context, q string, args ...any) (rowsSc
 	return sqlRows{rows}, nil
 }
 
+// inTx runs fn in one transaction, begun IMMEDIATE (the DSN's _txlock)
+// so that two writers queue on the busy timeout instead of failing on
+// upgrade; SQLite has one writer at a time.
 func (e *sqliteEngine) inTx(ctx context.Context, fn func(querier) error) error {
 	tx, err := e.db.BeginTx(ctx, nil)
 	if err != nil {
@@ -96,33 +108,32 @@ func (e *sqliteEngine) stats() PoolStats {
 	return PoolStats{Max: s.MaxOpenConnections, Open: s.OpenConnections, InUse: s.InUse, Idle: s.Idle}
 }
 
-// translate maps database/sql's and SQLite's result codes
-// (https://sqlite.org/rescode.html) to the store's errors.
-func (e *sqliteEngine) translate(err error) error {
-	if err == nil {
-		return nil
-	}
+// classify maps database/sql's errors and SQLite's extended result codes
+// (https://sqlite.org/rescode.html) to the store's categories.
+func (e *sqliteEngine) classify(err error) error {
 	if errors.Is(err, sql.ErrNoRows) {
-		return fmt.Errorf("%w (%v)", ErrNotFound, err)
+		return ErrNotFound
 	}
 	var se *sqlite.Error
-	if errors.As(err, &se) {
-		switch se.Code() {
-		case sqlite3.SQLITE_CONSTRAINT_PRIMARYKEY, sqlite3.SQLITE_CONSTRAINT_UNIQUE:
-			return fmt.Errorf("%w: %v", ErrExists, se)
-		case sqlite3.SQLITE_CONSTRAINT_FOREIGNKEY:
-			return fmt.Errorf("%w: %v", ErrReference, se)
-		}
+	if !errors.As(err, &se) {
+		return nil
 	}
-	return err
+	switch se.Code() {
+	case sqlite3.SQLITE_CONSTRAINT_PRIMARYKEY, sqlite3.SQLITE_CONSTRAINT_UNIQUE:
+		return ErrExists
+	case sqlite3.SQLITE_CONSTRAINT_FOREIGNKEY:
+		return ErrReference
+	case sqlite3.SQLITE_CONSTRAINT_CHECK, sqlite3.SQLITE_CONSTRAINT_NOTNULL, sqlite3.SQLITE_MISMATCH:
+		return ErrInvalid
+	}
+	return nil
 }
 
 // sqlTx and sqlRows adapt database/sql.
 type sqlTx struct{ tx *sql.Tx }
 
-func (t sqlTx) exec(ctx context.Context, q string, args ...any) error {
-	_, err := t.tx.ExecContext(ctx, q, args...)
-	return err
+func (t sqlTx) exec(ctx context.Context, q string, args ...any) (int64, error) {
+	return rowsAffected(t.tx.ExecContext(ctx, q, args...))
 }
 
 func (t sqlTx) queryRow(ctx context.Context, q string, args ...any) rowScanner {

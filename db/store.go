@@ -1,52 +1,118 @@
 package db
 
-import "context"
+import (
+	"context"
+	"time"
+)
 
-// Store is the persistence the service needs. Reads run outside
-// transactions; every write runs inside Write, all or nothing.
+// Store is the persistence the service needs: the small interfaces below,
+// one per kind of caller, composed. Reads run outside transactions; every
+// write runs inside Write, all or nothing. Consumers should declare the
+// few methods they use (or take one of these interfaces), not Store.
 type Store interface {
-	// Write runs fn in one transaction, committed when fn returns nil.
-	Write(ctx context.Context, fn func(Writer) error) error
+	Transactor
+	Catalogue
+	Results
+	Plates
+	Tokens
+	AuditLog
+	Idempotency
+	Jobs
+	Health
+	// Close releases the engine's connections.
+	Close()
+}
 
+// Transactor runs writes.
+type Transactor interface {
+	// Write runs fn in one transaction, committed when fn returns nil; see
+	// sqlStore.Write for what a failed call inside it means.
+	Write(ctx context.Context, fn func(Writer) error) error
+}
+
+// Catalogue reads assays and compounds.
+type Catalogue interface {
 	Assay(ctx context.Context, id string) (*Assay, error)
+	// Assays lists every assay by ID.
 	Assays(ctx context.Context) ([]Assay, error)
 	Compound(ctx context.Context, id string) (*Compound, error)
+	// Compounds lists every compound by ID.
 	Compounds(ctx context.Context) ([]Compound, error)
+}
+
+// Results reads stored analyses: single fits and Schild runs.
+type Results interface {
 	FitRun(ctx context.Context, id string) (*FitRun, error)
 	// FitRuns lists runs newest first and returns the cursor of the next
 	// page ("" on the last).
 	FitRuns(ctx context.Context, f FitFilter) (runs []FitRun, next string, err error)
-	// TokenByHash returns the unrevoked token with that hash.
-	TokenByHash(ctx context.Context, hash string) (*Token, error)
-	Idempotent(ctx context.Context, actor, key string) (*Idempotent, error)
-	// Audit returns the newest entries first, at most limit.
-	Audit(ctx context.Context, limit int) ([]AuditEntry, error)
+	// CurveResult returns a stored curve result of either kind.
+	CurveResult(ctx context.Context, id string) (*CurveResult, error)
+	// CompoundCurves returns a compound's curve results, single fits and
+	// plate curves alike, oldest experiment (measured_at) first.
+	CompoundCurves(ctx context.Context, f CurveFilter) ([]CurveResult, error)
+	SchildRun(ctx context.Context, id string) (*SchildRun, error)
+	// PlateSchildRuns lists a plate's Schild runs by agonist, antagonist.
+	PlateSchildRuns(ctx context.Context, plateID string) ([]SchildRun, error)
+}
 
+// Plates reads plates, their wells, curves and layouts, and records a
+// running job's progress.
+type Plates interface {
 	Plate(ctx context.Context, id string) (*Plate, error)
 	PlateByJob(ctx context.Context, jobID int64) (*Plate, error)
+	// Wells lists a plate's wells by row, column.
 	Wells(ctx context.Context, plateID string) ([]WellRow, error)
+	// PlateCurves lists a plate's curves by key.
 	PlateCurves(ctx context.Context, plateID string) ([]PlateCurve, error)
 	Layout(ctx context.Context, id string) (*Layout, error)
 	// SetPlateProgress records a running job's progress (outside any
 	// transaction: it is advisory).
 	SetPlateProgress(ctx context.Context, plateID, status string, done, total int) error
-	SchildRun(ctx context.Context, id string) (*SchildRun, error)
-	PlateSchildRuns(ctx context.Context, plateID string) ([]SchildRun, error)
+	// PlateQCSeries returns one QC metric over an assay's assessed plates,
+	// oldest experiment first.
+	PlateQCSeries(ctx context.Context, assayID, metric string, from, to time.Time) ([]QCPoint, error)
+}
+
+// Tokens reads API tokens.
+type Tokens interface {
+	// TokenByHash returns the unrevoked token with that hash.
+	TokenByHash(ctx context.Context, hash string) (*Token, error)
+	// Tokens lists every token, revoked ones too, by name; Hash is empty.
+	Tokens(ctx context.Context) ([]Token, error)
+}
+
+// AuditLog reads the audit log.
+type AuditLog interface {
+	// Audit returns the newest entries first, at most limit.
+	Audit(ctx context.Context, limit int) ([]AuditEntry, error)
+}
+
+// Idempotency reads stored responses of keyed requests.
+type Idempotency interface {
+	Idempotent(ctx context.Context, actor, key string) (*Idempotent, error)
+}
+
+// Jobs runs the job queue.
+type Jobs interface {
 	// Job returns a queued job's state.
 	Job(ctx context.Context, id int64) (*Job, error)
 	// StartWorkers starts workers goroutines that take plate jobs and run
 	// work, until StopWorkers.
 	StartWorkers(ctx context.Context, work WorkFunc, workers int) error
 	StopWorkers(ctx context.Context) error
+}
 
+// Health tells whether the store answers, for probes and metrics.
+type Health interface {
 	Ping(ctx context.Context) error
 	Stats() PoolStats
 	// Engine names the engine: "postgres" or "sqlite".
 	Engine() string
-	Close()
 }
 
-// Writer holds the writes allowed inside a transaction.
+// Writer holds the writes allowed inside a transaction. Insert* calls
+// fail with ErrExists, without aborting the write, when the key is taken.
 type Writer interface {
 	InsertAssay(ctx context.Context, a *Assay) error
 	InsertCompound(ctx context.Context, c *Compound) error
@@ -55,8 +121,10 @@ type Writer interface {
 	// UpsertToken inserts the token or, when one with that name exists,
 	// replaces its hash and scope (for the admin token seeded at start).
 	UpsertToken(ctx context.Context, t *Token) error
+	// RevokeToken revokes the unrevoked token whose name or ID is
+	// nameOrID, as of at; ErrNotFound when there is none.
+	RevokeToken(ctx context.Context, nameOrID string, at time.Time) error
 	InsertAudit(ctx context.Context, e *AuditEntry) error
-	// InsertIdempotent fails with ErrExists when the key is taken.
 	InsertIdempotent(ctx context.Context, r *Idempotent) error
 
 	InsertLayout(ctx context.Context, l *Layout) error
@@ -69,5 +137,7 @@ type Writer interface {
 	// FinishPlate stores a plate's curves (keeping any stored by an
 	// earlier attempt) and its final status, QC and error.
 	FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error
+	// SetPlateQC stores a plate's QC figures as columns.
+	SetPlateQC(ctx context.Context, plateID string, qc *PlateQC) error
 	InsertSchildRun(ctx context.Context, r *SchildRun) error
 }

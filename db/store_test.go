@@ -2,8 +2,10 @@ package db_test
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
 	"fmt"
+	"reflect"
 	"testing"
 	"time"
 
@@ -259,4 +261,14 @@ func TestReopenSQLite(t *testing.T) {
 	if _, err := s.Assay(ctx, "a"); err != nil {
 		t.Error(err)
 	}
+}
+
+// jsonEqual compares JSON documents by value (PostgreSQL's jsonb
+// normalises spacing and key order).
+func jsonEqual(got []byte, want string) bool {
+	var a, b any
+	if json.Unmarshal(got, &a) != nil || json.Unmarshal([]byte(want), &b) != nil {
+		return false
+	}
+	return reflect.DeepEqual(a, b)
 }

@@ -215,6 +215,9 @@ func (s *Service) newFitRun(who Caller, req *wire.FitRequest, raw []byte, res *f
 			WaldLo: finite(p.WaldLo), WaldHi: finite(p.WaldHi), BootLo: finite(p.BootLo), BootHi: finite(p.BootHi),
 			Fixed: p.Fixed, AtBound: p.AtBound})
 	}
+	if res.Boot != nil {
+		run.BootCols, run.BootDraws = len(res.Params), res.Boot.Draws
+	}
 	return run, nil
 }
 

@@ -34,6 +34,19 @@ func SQLite(t testing.TB) db.Store {
 // unreachable database fails the test.
 func Postgres(t testing.TB) db.Store {
 	t.Helper()
+	s, err := db.Open(context.Background(), PostgresURL(t), "")
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(s.Close)
+	return s
+}
+
+// PostgresURL creates an empty schema of its own on the database named by
+// SLUICE_TEST_DATABASE_URL, dropped when the test ends, and returns a URL
+// whose search_path is that schema. It skips or fails as Postgres does.
+func PostgresURL(t testing.TB) string {
+	t.Helper()
 	base := os.Getenv(URLVar)
 	if base == "" {
 		if os.Getenv("CI") == "true" {
@@ -68,12 +81,7 @@ func Postgres(t testing.TB) db.Store {
 	q := u.Query()
 	q.Set("search_path", schema)
 	u.RawQuery = q.Encode()
-	s, err := db.Open(ctx, u.String(), "")
-	if err != nil {
-		t.Fatal(err)
-	}
-	t.Cleanup(s.Close)
-	return s
+	return u.String()
 }
 
 // Engines runs fn once per engine, as subtests "sqlite" and "postgres".

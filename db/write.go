@@ -1,0 +1,115 @@
+package db
+
+import (
+	"context"
+	"math"
+	"strings"
+	"unicode/utf8"
+)
+
+// Write runs fn in one transaction on either engine, committed when fn
+// returns nil and rolled back otherwise.
+//
+// Each Writer call's error reaches fn as it happens, with the same
+// category and text on both engines. An ErrExists from an Insert* call
+// (the key is taken; nothing was written) leaves the write usable: fn may
+// go on or give up. Any other error aborts the write, as PostgreSQL
+// aborts the transaction: later calls return that error again, and Write
+// returns it and rolls back even if fn swallowed it. fn runs once.
+func (s *sqlStore) Write(ctx context.Context, fn func(Writer) error) error {
+	var fnErr error
+	err := s.e.inTx(ctx, func(q querier) error {
+		w := &sqlWriter{q: q, e: s.e, queue: s.q}
+		fnErr = fn(w)
+		if fnErr == nil {
+			fnErr = w.err
+		}
+		return fnErr
+	})
+	if err != nil && err == fnErr {
+		return err
+	}
+	return opError("Write", "", err, s.e.classify)
+}
+
+// sqlWriter implements Writer inside a transaction.
+type sqlWriter struct {
+	q     querier
+	e     engine
+	queue queue
+	// err is the first error that aborted the write.
+	err error
+}
+
+// exec runs one statement of op on key and returns the rows it touched.
+// Arguments are checked first (checkArgs) so that both engines refuse the
+// same values.
+func (w *sqlWriter) exec(ctx context.Context, op, key, q string, args ...any) (int64, error) {
+	if w.err != nil {
+		return 0, w.err
+	}
+	if err := checkArgs(args); err != nil {
+		return 0, w.abort(&Error{Op: op, Key: key, Err: ErrInvalid})
+	}
+	n, err := w.q.exec(ctx, q, args...)
+	if err != nil {
+		return 0, w.abort(opError(op, key, err, w.e.classify))
+	}
+	return n, nil
+}
+
+// insert runs an INSERT … ON CONFLICT DO NOTHING and reports a taken key
+// as ErrExists without aborting the write (no statement failed).
+func (w *sqlWriter) insert(ctx context.Context, op, key, q string, args ...any) error {
+	n, err := w.exec(ctx, op, key, q+" ON CONFLICT DO NOTHING", args...)
+	if err != nil {
+		return err
+	}
+	if n == 0 {
+		return &Error{Op: op, Key: key, Err: ErrExists}
+	}
+	return nil
+}
+
+// abort records err as the error that ends the write.
+func (w *sqlWriter) abort(err error) error {
+	if w.err == nil {
+		w.err = err
+	}
+	return err
+}
+
+// invalid reports a value found invalid before it reached the engine; like
+// every error but ErrExists, it aborts the write.
+func (w *sqlWriter) invalid(op, key, field string) error {
+	return w.abort(&Error{Op: op, Key: key, Field: field, Err: ErrInvalid})
+}
+
+// checkArgs refuses what one engine would store and the other refuse, so
+// that both behave the same: text with a NUL byte or invalid UTF-8
+// (PostgreSQL refuses both; SQLite stores them) and NaN (SQLite stores it
+// as NULL; PostgreSQL as NaN).
+func checkArgs(args []any) error {
+	for _, a := range args {
+		switch v := a.(type) {
+		case string:
+			if strings.IndexByte(v, 0) >= 0 || !utf8.ValidString(v) {
+				return ErrInvalid
+			}
+		case float64:
+			if math.IsNaN(v) {
+				return ErrInvalid
+			}
+		case *float64:
+			if v != nil && math.IsNaN(*v) {
+				return ErrInvalid
+			}
+		}
+	}
+	return nil
+}
+
+// read wraps a read's error as the error of op on key.
+func (s *sqlStore) read(op, key string, err error) error {
+	return opError(op, key, err, s.e.classify)
+}

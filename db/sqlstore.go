@@ -11,6 +11,7 @@ type sqlStore struct {
 func (s *sqlStore) Ping(ctx context.Context) error { return s.read("Ping", "", s.e.ping(ctx)) }
 func (s *sqlStore) Stats() PoolStats               { return s.e.stats() }
 func (s *sqlStore) Engine() string                 { return s.e.name() }
+
 // Close stops any workers still running (cancelling their jobs, which River
 // hands back) and closes the engine.
 func (s *sqlStore) Close() {

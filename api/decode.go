@@ -90,7 +90,11 @@ func decodeJSON(body []byte, dst any) error {
 		}
 		return &service.Error{Kind: errInvalid, Detail: ptr + ": " + d, Fields: []FieldError{{Pointer: ptr, Detail: d}}}
 	case strings.HasPrefix(err.Error(), "json: unknown field "):
-		name, _ := strconv.Unquote(strings.TrimPrefix(err.Error(), "json: unknown field "))
+		raw := strings.TrimPrefix(err.Error(), "json: unknown field ")
+		name, uerr := strconv.Unquote(raw)
+		if uerr != nil {
+			name = raw
+		}
 		ptr := pointerOfKey(body, name)
 		d := fmt.Sprintf("unknown field %q", name)
 		return &service.Error{Kind: errInvalid, Detail: d, Fields: []FieldError{{Pointer: ptr, Detail: d}}}

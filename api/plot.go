@@ -1,15 +1,15 @@
 package api
 
 import (
-	"encoding/json"
+	"bytes"
 	"fmt"
+	"io"
 	"math"
 	"net/http"
 	"strings"
 
 	"github.com/gin-gonic/gin"
 
-	"sluice/api/ingest"
 	"sluice/api/plot"
 	"sluice/api/wire"
 	"sluice/fit"
@@ -18,25 +18,12 @@ import (
 // fitPlot is GET /v1/fits/{id}/plot.svg: the points, the fitted curve and
 // its pointwise confidence band on a log-concentration axis.
 func (s *Server) fitPlot(c *gin.Context) {
-	run, err := s.store.FitRun(c.Request.Context(), c.Param("id"))
+	sf, err := s.svc.StoredFit(c.Request.Context(), c.Param("id"))
 	if err != nil {
 		s.writeProblem(c, err)
 		return
 	}
-	var res wire.StoredFit
-	var input struct {
-		ConcUnit string         `json:"conc_unit"`
-		Points   []wire.PointIn `json:"points"`
-	}
-	if err := json.Unmarshal(run.Result, &res); err != nil {
-		s.writeProblem(c, fmt.Errorf("stored result %s: %w", run.ID, err))
-		return
-	}
-	if err := json.Unmarshal(run.Input, &input); err != nil {
-		s.writeProblem(c, fmt.Errorf("stored input %s: %w", run.ID, err))
-		return
-	}
-	unit, _ := ingest.ParseUnit(input.ConcUnit)
+	run, res, input, unit := sf.Run, &sf.Result, &sf.Input, sf.Unit
 	fig := &plot.Curve{Title: "Fit " + run.ID, YLabel: "response", Footnote: wire.Caution}
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, p := range input.Points {
@@ -72,7 +59,15 @@ func (s *Server) fitPlot(c *gin.Context) {
 		parts = append(parts, "flags: "+strings.Join(res.Flags, ", "))
 	}
 	fig.Subtitle = strings.Join(parts, " · ")
-	c.Status(http.StatusOK)
-	c.Header("Content-Type", "image/svg+xml")
-	fig.Write(c.Writer)
+	s.writeSVG(c, fig)
+}
+
+// writeSVG renders a figure and sends it.
+func (s *Server) writeSVG(c *gin.Context, fig interface{ Write(io.Writer) error }) {
+	var buf bytes.Buffer
+	if err := fig.Write(&buf); err != nil {
+		s.writeProblem(c, fmt.Errorf("render %s: %w", c.Request.URL.Path, err))
+		return
+	}
+	c.Data(http.StatusOK, "image/svg+xml", buf.Bytes())
 }

@@ -8,7 +8,6 @@ import (
 	"fmt"
 	"math"
 	"net/http"
-	"slices"
 	"strings"
 
 	"github.com/gin-gonic/gin"
@@ -19,7 +18,6 @@ import (
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
-	"sluice/fit/boot"
 	"sluice/fit/membrane"
 )
 
@@ -280,13 +278,17 @@ func buildPotential(req *PotentialRequest, curves curveSource) (*potentialModel,
 	return m, cautions, nil
 }
 
-// computePotential answers a request (the API and `sluice potential`).
-func computePotential(req *PotentialRequest, curves curveSource) (*PotentialResponse, error) {
+// computePotential answers a request (the API and `sluice potential`); the
+// band over bootstrap draws runs on workers goroutines (0 means GOMAXPROCS).
+func computePotential(ctx context.Context, req *PotentialRequest, curves curveSource, workers int) (*PotentialResponse, error) {
 	m, cautions, err := buildPotential(req, curves)
 	if err != nil {
 		return nil, err
 	}
-	pred := membrane.Predict(m.rest, m.ch, m.po, req.AgonistConc)
+	pred, err := membrane.Predict(ctx, m.rest, m.ch, m.po, req.AgonistConc)
+	if err != nil {
+		return nil, err
+	}
 	out := &PotentialResponse{RestMV: pred.Rest, NernstMV: m.nernst, ChannelReversalMV: m.ch.Reversal,
 		Multistable: pred.Multistable}
 	for _, p := range pred.Points {
@@ -300,23 +302,21 @@ func computePotential(req *PotentialRequest, curves curveSource) (*PotentialResp
 	if len(m.draws) > 0 {
 		// The interval of V(c) over the bootstrap parameter draws
 		// (percentile; the draws are reproducible from the fit's seed).
-		vs := make([][]float64, len(req.AgonistConc))
-		for _, d := range m.draws {
-			pd := membrane.Predict(m.rest, m.ch, d, req.AgonistConc)
-			for i, p := range pd.Points {
-				if finiteNum(p.V) {
-					vs[i] = append(vs[i], p.V)
-				}
-			}
+		los, his, err := membrane.Band(ctx, m.rest, m.ch, m.draws, req.AgonistConc, m.conf, workers)
+		if err != nil {
+			return nil, err
 		}
 		for i := range out.Points {
-			slices.Sort(vs[i])
-			lo, hi := boot.Percentile(vs[i], m.conf)
+			lo, hi := los[i], his[i]
 			out.Points[i].CI = &PotentialCI{Confidence: m.conf, VMV: [2]float64{lo, hi}, DeltaMV: [2]float64{lo - pred.Rest, hi - pred.Rest}}
 		}
 	}
 	if req.ThresholdMV != nil {
-		if c, ok := membrane.ThresholdConc(m.rest, m.ch, m.po, *req.ThresholdMV, 1e-15, 1); ok {
+		c, ok, err := membrane.ThresholdConc(ctx, m.rest, m.ch, m.po, *req.ThresholdMV, 1e-15, 1)
+		if err != nil {
+			return nil, err
+		}
+		if ok {
 			out.ThresholdCrossed = &c
 		}
 	}
@@ -450,7 +450,7 @@ func (s *Server) postPotential(c *gin.Context) {
 	if _, ok := s.readJSON(c, &req); !ok {
 		return
 	}
-	out, err := computePotential(&req, s.storedCurve(c))
+	out, err := computePotential(c.Request.Context(), &req, s.storedCurve(c), s.cfg.FitWorkers)
 	if err != nil {
 		s.writeProblem(c, err)
 		return
@@ -497,7 +497,7 @@ func ComputePotential(body []byte) (*PotentialResponse, error) {
 	if err := decodeJSON(body, &req); err != nil {
 		return nil, err
 	}
-	return computePotential(&req, nil)
+	return computePotential(context.Background(), &req, nil, 0)
 }
 
 // FieldOf returns the JSON Pointer an API error points at, if any.

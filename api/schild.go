@@ -101,7 +101,5 @@ func (s *Server) schildPlot(c *gin.Context) {
 			fig.Subtitle += fmt.Sprintf(", pKB %.2f", float64(res.Global.PKB.Estimate))
 		}
 	}
-	c.Status(http.StatusOK)
-	c.Header("Content-Type", "image/svg+xml")
-	fig.Write(c.Writer)
+	s.writeSVG(c, fig)
 }

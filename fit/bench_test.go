@@ -61,3 +61,26 @@ func BenchmarkBootstrap1000(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkCostUnit calibrates cost.Work: a warm-started Hill refit (the
+// bulk of every bootstrap), reported per unit, i.e. per level, parameter
+// and LM evaluation (ns/unit), on one goroutine.
+func BenchmarkCostUnit(b *testing.B) {
+	c := benchCurves(1)[0]
+	r, _ := Fit(c, nil)
+	sv := newSolver(r.set, r.design, true)
+	theta := r.Estimates()
+	copy(sv.ybuf, r.design.ybar)
+	copy(sv.wbuf, r.design.w)
+	for l := range sv.ybuf {
+		sv.ybuf[l] += 2 * math.Sin(float64(l))
+	}
+	var units float64
+	for b.Loop() {
+		if !sv.refit(theta, nil) {
+			b.Fatal("refit failed")
+		}
+		units += float64(sv.res.Evaluations * r.Levels * len(r.Params))
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/units, "ns/unit")
+}

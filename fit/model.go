@@ -78,7 +78,7 @@ func (m Model) HillSlope(theta []float64) float64 { return theta[m.Spec().roles.
 // accessors), never by number.
 type Roles struct {
 	// Bottom and Top are the lower and upper plateaus of the window
-	// (bottom < top for a canonical Hill fit; see Spec.Twin).
+	// (bottom < top in a fit of a model with a twin, such as Hill).
 	Bottom, Top int
 	// LogEC50 is log10 of the potency in molar.
 	LogEC50 int
@@ -187,6 +187,8 @@ func (s *Spec) validate() error {
 		return fmt.Errorf("model %s: %d parameters, want 1 to %d", s.name, np, maxParams)
 	case s.curve == nil || s.starts == nil:
 		return fmt.Errorf("model %s: no curve or no starting values", s.name)
+	case len(s.paramNames) != np:
+		return fmt.Errorf("model %s: not built by newSpec", s.name)
 	}
 	seen := map[string]bool{}
 	for j, p := range s.params {

@@ -241,6 +241,8 @@ type StoredFit struct {
 	Result   wire.StoredFit
 	Input    wire.FitInput
 	Settings wire.FitSettings
+	// Unit is the input's concentration unit.
+	Unit ingest.Unit
 }
 
 // StoredFit reads a stored fit and decodes its documents.
@@ -258,6 +260,9 @@ func (s *Service) StoredFit(ctx context.Context, id string) (*StoredFit, error) 
 	}
 	if err := json.Unmarshal(run.Settings, &sf.Settings); err != nil {
 		return nil, fmt.Errorf("stored fit %s: settings: %w", id, err)
+	}
+	if sf.Unit, err = ingest.ParseUnit(sf.Input.ConcUnit); err != nil {
+		return nil, fmt.Errorf("stored fit %s: unit: %w", id, err)
 	}
 	return sf, nil
 }

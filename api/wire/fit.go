@@ -57,7 +57,10 @@ func (ps Params) MarshalJSON() ([]byte, error) {
 		if i > 0 {
 			b.WriteByte(',')
 		}
-		k, _ := json.Marshal(p.Name)
+		k, err := json.Marshal(p.Name)
+		if err != nil {
+			return nil, err
+		}
 		v, err := json.Marshal(p.Param)
 		if err != nil {
 			return nil, err

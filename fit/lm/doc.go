@@ -17,11 +17,17 @@
 // running maximum of the Jacobian's column norms (Moré 1978, eq. 6.3).
 // The damping λ is chosen so that the scaled step stays inside a trust
 // region ‖Dδ‖ ≤ Δ, and Δ grows or shrinks with the ratio of actual to
-// predicted reduction (Moré 1978, §5–§6, as in MINPACK's lmder).
+// predicted reduction (Moré 1978, §5–§6). The update follows MINPACK's lmder
+// with two differences, both in Solve: the predicted reduction is that of
+// the step actually taken (which may stop at a bound), and the shrink factor
+// uses it in place of lmder's directional derivative.
 //
-// Bounds are kept by projection: a parameter at a bound whose descent
-// direction points outward is held for that iteration (an active set), and a
-// step is clipped to the box.
+// Bounds are kept by an active set. A parameter on a bound whose descent
+// direction −Jᵀr points out of the box is held for that iteration; one
+// whose computed step points out of the box is pinned there until the next
+// accepted step, and the step is recomputed without it. The step is then
+// shortened as a whole to stop at the first bound it would cross, keeping
+// its direction; it is never clipped component by component.
 //
 // The covariance of the estimate is NIST's
 //

@@ -3,14 +3,15 @@ package lm
 import "math"
 
 // householderQR factors the m×k column-major matrix a (a[j*m+i]) in place as
-// a = QR. On return the upper triangle of a holds R, the part below the
-// diagonal holds the Householder vectors (their first element implicit, as
-// stored in beta and the diagonal saved in vdiag), and each reflector is also
-// applied to the vectors in rhs (length m each).
+// a = QR. On return the upper triangle of a, diagonal included, holds R;
+// below the diagonal, column j holds the Householder vector vⱼ without its
+// first element, which is implicitly 1; tau[j] holds τⱼ (0 for a zero column,
+// whose reflector is the identity). Each reflector is also applied to the
+// vectors in rhs (length m each), so that they come back as Qᵀ·rhs.
 //
 // The reflector for column j is H = I − τvvᵀ with v = [1, a[j+1:m, j]/(a_jj − α)],
-// α = −sign(a_jj)·‖a[j:m, j]‖ (Golub & Van Loan, Matrix Computations, 4th
-// ed., Algorithm 5.1.1 and §5.2.2).
+// α = −sign(a_jj)·‖a[j:m, j]‖ and τ = (α − a_jj)/α (Golub & Van Loan, Matrix
+// Computations, 4th ed., Algorithm 5.1.1 and §5.2.2); R's diagonal is α.
 func householderQR(a []float64, m, k int, tau []float64, rhs ...[]float64) {
 	for j := 0; j < k; j++ {
 		col := a[j*m : j*m+m]
@@ -30,7 +31,7 @@ func householderQR(a []float64, m, k int, tau []float64, rhs ...[]float64) {
 		}
 		alpha := -math.Copysign(norm, col[j])
 		v0 := col[j] - alpha
-		// v = [1, col[j+1:]/v0]; τ = (α − a_jj)/α... written as −v0/α.
+		// v = [1, col[j+1:]/v0]; τ = (α − a_jj)/α = −v0/α.
 		inv := 1 / v0
 		for i := j + 1; i < m; i++ {
 			col[i] *= inv

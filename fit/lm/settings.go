@@ -6,24 +6,32 @@ type Settings struct {
 	// MaxIterations bounds the number of accepted steps. Zero means the
 	// default, 200; it must not be negative.
 	MaxIterations int
-	// MaxEvaluations bounds the number of residual evaluations, counting the
-	// Jacobian ones. Zero means 10·MaxIterations.
+	// MaxEvaluations bounds the number of evaluations; each one computes the
+	// residuals and the Jacobian together. Zero or negative means
+	// 10·MaxIterations.
 	MaxEvaluations int
 	// GradientTol stops the solve when the largest cosine between the
 	// residual vector and a column of the Jacobian,
-	// |Jⱼᵀr|/(‖Jⱼ‖·‖r‖), is at most this (MINPACK's gtol). Zero means
+	// |Jⱼᵀr|/(‖Jⱼ‖·‖r‖), over the active columns (free and not held at a
+	// bound), is at most this (MINPACK's gtol). Zero or negative means
 	// 1e-12; range (0, 1).
 	GradientTol float64
-	// StepTol stops the solve after an accepted, nearly undamped step when
-	// the scaled step is small: ‖Dδ‖ ≤ StepTol·(‖Dx‖ + StepTol). Zero means
-	// 1e-10; range (0, 1).
+	// StepTol stops the solve when, after a nearly undamped trial step
+	// (λ ≤ 1; accepted or not), the trust radius has fallen to
+	// Δ ≤ StepTol·‖Dx‖: every step the solve may still take is that small
+	// relative to x (MINPACK's xtol test, plus the λ condition). Zero or
+	// negative means 1e-10; range (0, 1).
 	StepTol float64
-	// FuncTol stops the solve after an accepted, nearly undamped step when
-	// both the actual and the predicted relative reduction of S are at most
-	// this. Zero means 1e-15; range (0, 1).
+	// FuncTol stops the solve when, after a nearly undamped trial step
+	// (λ ≤ 1; accepted or not), both the actual and the predicted relative
+	// reduction of S are at most this and their ratio is at most 2
+	// (MINPACK's ftol test, plus the λ condition). Zero or negative means
+	// 1e-15; range (0, 1).
 	FuncTol float64
-	// InitialTrust sets the first trust radius, InitialTrust·‖Dx₀‖ (MINPACK's
-	// factor). Zero means 1; range [0.1, 100]. MINPACK suggests 100, but with
+	// InitialTrust sets the first trust radius, InitialTrust·‖Dx₀‖
+	// (MINPACK's factor; InitialTrust itself when x₀ = 0), cut to the first
+	// step's length. Zero or negative means 1; range [0.1, 100], not
+	// enforced. MINPACK suggests 100, but with
 	// Jacobian scaling a radius that large lets the first steps throw a
 	// parameter whose column is small far out onto an asymptote (NIST BoxBOD
 	// from start 1 lands on b2 ≈ 111 and stays there); 1 solves all 27 NIST

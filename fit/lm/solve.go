@@ -31,14 +31,21 @@ type Result struct {
 	AtBound []bool
 	// Unscaled is (JᵀWJ)⁻¹ over the estimated parameters, N×N row-major,
 	// with zero rows and columns for fixed and at-bound parameters. It is
-	// NaN when Status is Singular.
+	// all NaN when the Jacobian is rank-deficient at the estimate (Status
+	// Singular, or a solve that did not converge), with EstimateOnly, and
+	// after NumericalFailure.
 	Unscaled []float64
-	// Cov is σ²·Unscaled with σ² = RSS/DOF (NaN when DOF is 0).
+	// Cov is σ²·Unscaled with σ² = RSS/DOF (NaN over the estimated
+	// parameters when DOF is 0).
 	Cov []float64
 }
 
-// SE returns the standard error of parameter j, √Cov[j,j]; it is NaN for a
-// fixed or at-bound parameter.
+// SE returns the standard error of parameter j, √Cov[j,j]. When RSS > 0 it
+// is NaN for a fixed or at-bound parameter (its row of Cov is zero). It is
+// NaN wherever Cov is NaN (see Unscaled; and for the estimated parameters
+// when DOF is 0). On a zero-residual fit (RSS = 0) it is 0 for a fixed or
+// at-bound parameter, and 0 for the estimated ones too when DOF > 0 and the
+// Jacobian has full rank: the data determine the estimate exactly.
 func (r *Result) SE(j int) float64 {
 	n := len(r.X)
 	v := r.Cov[j*n+j]
@@ -289,7 +296,13 @@ outer:
 			if predRel > 0 {
 				ratio = actual / predRel
 			}
-			// Trust-radius update (Moré 1978, §6; MINPACK lmder).
+			// Trust-radius update (Moré 1978, §6), as MINPACK's lmder
+			// except in two respects. pred is the reduction predicted
+			// for the step taken, which may stop at a bound; for a
+			// full step it equals lmder's prered, (‖Jδ‖² + 2λ‖Dδ‖²)/S.
+			// The shrink factor after an increase of S uses −pred as
+			// the directional derivative where lmder uses
+			// −(‖Jδ‖² + λ‖Dδ‖²)/S, so it shrinks Δ a little less.
 			if ratio <= 0.25 {
 				shrink := 0.5
 				if actual < 0 {
@@ -359,11 +372,13 @@ func (w *Workspace) scaledNorm(v []float64, k int) float64 {
 	return math.Sqrt(s)
 }
 
-// levenbergParameter returns a damping λ ≥ 0 whose step δ(λ) satisfies
-// ‖Dδ‖ ≤ 1.1·Δ, with λ = 0 when the Gauss–Newton step already does and
-// otherwise ‖Dδ‖ within 10 % of Δ, by Moré's safeguarded Newton iteration on
-// φ(λ) = ‖Dδ(λ)‖ − Δ (Moré 1978, Algorithm 5.5; MINPACK lmpar). The step is
-// left in w.b[:k]; prev is the previous λ, the iteration's first guess.
+// levenbergParameter returns a damping λ ≥ 0 for the trust radius Δ: λ = 0
+// when the Gauss–Newton step has ‖Dδ‖ ≤ 1.1·Δ, and otherwise the λ of
+// Moré's safeguarded Newton iteration on φ(λ) = ‖Dδ(λ)‖ − Δ (Moré 1978,
+// Algorithm 5.5; MINPACK lmpar), stopped when ‖Dδ‖ is within 10 % of Δ, when
+// φ stops rising towards 0 from below with no lower bound on λ, or after 10
+// iterations, as lmpar does. The step is left in w.b[:k]; prev is the
+// previous λ, the iteration's first guess.
 func (w *Workspace) levenbergParameter(m, k int, delta, prev float64) float64 {
 	// Gauss–Newton step, when R is nonsingular.
 	singular := false

@@ -5,26 +5,35 @@ import "errors"
 // Status says how a solve ended.
 type Status int
 
-// The statuses. Only the first four mean the estimate is a least-squares
-// solution with a usable covariance.
+// The statuses. The four convergence statuses, GradientConvergence through
+// ZeroResidual (see Converged), mean the estimate is a least-squares
+// solution; unless Settings.EstimateOnly, they also mean the Jacobian has
+// full rank there, so the covariance is usable (a rank-deficient one turns
+// them into Singular).
 const (
 	NotTerminated Status = iota
-	// GradientConvergence: the residual is orthogonal to the Jacobian's
-	// columns within GradientTol.
+	// GradientConvergence: the residual is orthogonal to the active
+	// columns of the Jacobian within GradientTol, or no parameter is
+	// active.
 	GradientConvergence
-	// StepConvergence: a nearly undamped step changed x by less than StepTol.
+	// StepConvergence: after a nearly undamped step the trust radius fell
+	// below StepTol·‖Dx‖ (see Settings.StepTol).
 	StepConvergence
-	// FunctionConvergence: a nearly undamped step reduced S by less than
-	// FuncTol, as predicted.
+	// FunctionConvergence: after a nearly undamped step the actual and the
+	// predicted relative reduction of S were both below FuncTol.
 	FunctionConvergence
-	// ZeroResidual: the residuals vanished.
+	// ZeroResidual: the residuals vanished (S = 0 exactly).
 	ZeroResidual
 	// IterationLimit: MaxIterations or MaxEvaluations was reached first.
 	IterationLimit
-	// NoProgress: no step reduces S although the gradient is not small.
+	// NoProgress: the trust radius or the reductions fell to rounding size
+	// while the steps were still damped, before any convergence test
+	// passed.
 	NoProgress
-	// Singular: the solve stopped but the Jacobian is rank-deficient at the
-	// estimate, so some parameter is not identified and has no standard error.
+	// Singular: the solve converged but the Jacobian is rank-deficient at
+	// the estimate, so some parameter is not identified and has no standard
+	// error. A solve that did not converge keeps its own status, with a NaN
+	// covariance when the Jacobian is rank-deficient.
 	Singular
 	// NumericalFailure: the residuals or Jacobian are not finite at the start.
 	NumericalFailure

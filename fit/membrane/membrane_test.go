@@ -1,6 +1,7 @@
 package membrane
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -104,6 +105,17 @@ func TestGHKFACTS(t *testing.T) {
 	}
 }
 
+// predict is Predict with a background context, failing the test on an
+// error.
+func predict(t *testing.T, rest []Conductance, ch Channel, po func(float64) float64, concs []float64) Prediction {
+	t.Helper()
+	p, err := Predict(context.Background(), rest, ch, po, concs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
 var restFACTS = []Conductance{{10, -89.06}, {0.5, 66.60}, {2, -64.09}}
 
 // hillPo is P_open = Pmax/(1 + (EC50/A)^nH) (FACTS §7).
@@ -121,7 +133,7 @@ func hillPo(pmax, ec50, nh float64) func(float64) float64 {
 func TestChordFACTS(t *testing.T) {
 	near(t, "rest", ChordVoltage(restFACTS...), -78.838, 0.01)
 	ch := Channel{Count: 200, ConductancePS: 50, Reversal: 0}
-	p := Predict(restFACTS, ch, hillPo(0.8, 10e-6, 1.5), []float64{30e-6})
+	p := predict(t, restFACTS, ch, hillPo(0.8, 10e-6, 1.5), []float64{30e-6})
 	near(t, "P_open", p.Points[0].OpenFraction, 0.670888, 1e-6)
 	near(t, "g_L", p.Points[0].G, 6.708876, 1e-6)
 	near(t, "V", p.Points[0].V, -51.303, 0.01)
@@ -154,7 +166,7 @@ func TestChordProperties(t *testing.T) {
 		if trial%2 == 1 {
 			ch.MgOut = 1
 		}
-		p := Predict(rest, ch, hillPo(0.3+0.7*rng.Float64(), 1e-7*math.Pow(10, 3*rng.Float64()), 0.7+2*rng.Float64()), concs)
+		p := predict(t, rest, ch, hillPo(0.3+0.7*rng.Float64(), 1e-7*math.Pow(10, 3*rng.Float64()), 0.7+2*rng.Float64()), concs)
 		prev := p.Rest
 		for _, pt := range p.Points {
 			if pt.V < prev-1e-9 || pt.V > erev+1e-9 {
@@ -170,7 +182,7 @@ func TestChordProperties(t *testing.T) {
 func TestMgBistability(t *testing.T) {
 	rest := []Conductance{{2, -90}}
 	ch := Channel{Count: 1000, ConductancePS: 50, Reversal: 0, MgOut: 1.2}
-	p := Predict(rest, ch, func(float64) float64 { return 0.3 }, []float64{1e-5})
+	p := predict(t, rest, ch, func(float64) float64 { return 0.3 }, []float64{1e-5})
 	if !p.Multistable {
 		t.Fatalf("no bistability found: V = %v", p.Points[0].V)
 	}
@@ -186,13 +198,13 @@ func TestMgBistability(t *testing.T) {
 func TestThresholdConc(t *testing.T) {
 	ch := Channel{Count: 200, ConductancePS: 50, Reversal: 0}
 	po := hillPo(0.8, 10e-6, 1.5)
-	c, ok := ThresholdConc(restFACTS, ch, po, -60, 1e-12, 1)
-	if !ok {
-		t.Fatal("threshold not reached")
+	c, ok, err := ThresholdConc(context.Background(), restFACTS, ch, po, -60, 1e-12, 1)
+	if err != nil || !ok {
+		t.Fatal("threshold not reached", err)
 	}
-	p := Predict(restFACTS, ch, po, []float64{c})
+	p := predict(t, restFACTS, ch, po, []float64{c})
 	near(t, "V at the threshold concentration", p.Points[0].V, -60, 1e-6)
-	if _, ok := ThresholdConc(restFACTS, ch, po, 5, 1e-12, 1); ok {
+	if _, ok, _ := ThresholdConc(context.Background(), restFACTS, ch, po, 5, 1e-12, 1); ok {
 		t.Error("a threshold past E_rev was reached")
 	}
 }

@@ -1,6 +1,8 @@
 package membrane
 
 import (
+	"context"
+	"fmt"
 	"math"
 	"sort"
 )
@@ -44,22 +46,30 @@ type Prediction struct {
 //
 // with B ≡ 1 without Mg²⁺ (chord-conductance equation, FACTS §7). With Mg²⁺
 // the equation is solved for V at each concentration, in ascending order,
-// taking the root nearest the previous one (continuation from rest).
-// Points come back in the order of concs.
-func Predict(rest []Conductance, ch Channel, po func(conc float64) float64, concs []float64) Prediction {
+// taking the root nearest the previous one (continuation from rest); every
+// concentration gets a full scan of the equation, so that Multistable is
+// true whenever some concentration has more than one root. Points come back
+// in the order of concs.
+//
+// ctx is checked before each concentration; when it is done Predict returns
+// an error wrapping ctx.Err() and no prediction.
+func Predict(ctx context.Context, rest []Conductance, ch Channel, po func(conc float64) float64, concs []float64) (Prediction, error) {
 	vr := ChordVoltage(rest...)
 	pred := Prediction{Rest: vr, Points: make([]Point, len(concs))}
-	order := make([]int, len(concs))
-	for i := range order {
-		order[i] = i
-	}
-	sort.SliceStable(order, func(a, b int) bool { return concs[order[a]] < concs[order[b]] })
+	eq := newMgEquation(rest, ch)
 	prev := vr
-	for _, i := range order {
+	for _, i := range ascending(concs) {
+		if err := ctx.Err(); err != nil {
+			return Prediction{}, fmt.Errorf("potential prediction: %w", err)
+		}
 		p := Point{Conc: concs[i], OpenFraction: po(concs[i])}
 		p.G = ch.MaxConductance() * p.OpenFraction
 		var multi bool
-		p.V, multi = solve(rest, ch, p.G, prev)
+		if ch.MgOut <= 0 || p.G == 0 {
+			p.V = eq.chord(p.G)
+		} else {
+			p.V, multi = eq.scan(p.G, prev)
+		}
 		pred.Multistable = pred.Multistable || multi
 		p.Block = 1
 		if ch.MgOut > 0 {
@@ -69,70 +79,37 @@ func Predict(rest []Conductance, ch Channel, po func(conc float64) float64, conc
 		prev = p.V
 		pred.Points[i] = p
 	}
-	return pred
+	return pred, nil
 }
 
-// solve returns the steady potential with ligand conductance g and whether
-// more than one exists; near is the starting potential for continuation.
-func solve(rest []Conductance, ch Channel, g, near float64) (v float64, multiple bool) {
-	if ch.MgOut <= 0 || g == 0 {
-		return ChordVoltage(append(rest, Conductance{G: g, E: ch.Reversal})...), false
+// ascending returns the indices of concs in ascending order of
+// concentration, equal ones in input order.
+func ascending(concs []float64) []int {
+	order := make([]int, len(concs))
+	for i := range order {
+		order[i] = i
 	}
-	var gs, gse float64
-	lo, hi := ch.Reversal, ch.Reversal
-	for _, c := range rest {
-		gs += c.G
-		gse += c.G * c.E
-		lo, hi = math.Min(lo, c.E), math.Max(hi, c.E)
+	sort.SliceStable(order, func(a, b int) bool { return concs[order[a]] < concs[order[b]] })
+	return order
+}
+
+// steady returns the steady potential with ligand conductance g, continuing
+// from near: the root of the Mg²⁺-block equation nearest near, the same
+// number a full scan gives (mgEquation.nearest), or the chord voltage
+// without Mg²⁺.
+func steady(eq *mgEquation, g, near float64) float64 {
+	if eq.mg <= 0 || g == 0 {
+		return eq.chord(g)
 	}
-	// F(V) = (Σg + g·B(V))·V − (ΣgE + g·B(V)·E_rev): every root lies
-	// between the smallest and largest reversal potential.
-	f := func(v float64) float64 {
-		gb := g * MgBlock(ch.MgOut, v)
-		return (gs+gb)*v - (gse + gb*ch.Reversal)
-	}
-	const steps = 4000
-	var roots []float64
-	x0, f0 := lo, f(lo)
-	if f0 == 0 {
-		roots = append(roots, lo)
-	}
-	for k := 1; k <= steps; k++ {
-		x1 := lo + (hi-lo)*float64(k)/steps
-		f1 := f(x1)
-		if f1 == 0 {
-			roots = append(roots, x1)
-		} else if f0*f1 < 0 {
-			a, b, fa := x0, x1, f0
-			for i := 0; i < 100 && b-a > 1e-12; i++ {
-				m := (a + b) / 2
-				if fm := f(m); fm*fa > 0 {
-					a, fa = m, fm
-				} else {
-					b = m
-				}
-			}
-			roots = append(roots, (a+b)/2)
-		}
-		x0, f0 = x1, f1
-	}
-	if len(roots) == 0 {
-		return math.NaN(), false
-	}
-	best := roots[0]
-	for _, r := range roots[1:] {
-		if math.Abs(r-near) < math.Abs(best-near) {
-			best = r
-		}
-	}
-	return best, len(roots) > 1
+	return eq.nearest(g, near)
 }
 
 // ThresholdConc returns the lowest molar concentration in [lo, hi] at
 // which V reaches threshold (mV), by a scan in 0.01-decade steps refined by
 // bisection, following the same continuation as Predict; ok is false when V
-// never reaches it there.
-func ThresholdConc(rest []Conductance, ch Channel, po func(float64) float64, threshold, lo, hi float64) (conc float64, ok bool) {
+// never reaches it there. ctx is checked at every step; when it is done
+// ThresholdConc returns an error wrapping ctx.Err().
+func ThresholdConc(ctx context.Context, rest []Conductance, ch Channel, po func(float64) float64, threshold, lo, hi float64) (conc float64, ok bool, err error) {
 	vr := ChordVoltage(rest...)
 	above := func(v float64) bool {
 		if ch.Reversal >= vr {
@@ -141,26 +118,30 @@ func ThresholdConc(rest []Conductance, ch Channel, po func(float64) float64, thr
 		return v <= threshold
 	}
 	if above(vr) {
-		return 0, true
+		return 0, true, nil
 	}
+	eq := newMgEquation(rest, ch)
 	prev := vr
 	a := math.Log10(lo)
 	for x := a; x <= math.Log10(hi)+1e-12; x += 0.01 {
-		v, _ := solve(rest, ch, ch.MaxConductance()*po(math.Pow(10, x)), prev)
+		if err := ctx.Err(); err != nil {
+			return 0, false, fmt.Errorf("threshold concentration: %w", err)
+		}
+		v := steady(&eq, ch.MaxConductance()*po(math.Pow(10, x)), prev)
 		if above(v) {
 			l, r := x-0.01, x
 			for i := 0; i < 60; i++ {
 				m := (l + r) / 2
-				vm, _ := solve(rest, ch, ch.MaxConductance()*po(math.Pow(10, m)), prev)
+				vm := steady(&eq, ch.MaxConductance()*po(math.Pow(10, m)), prev)
 				if above(vm) {
 					r = m
 				} else {
 					l = m
 				}
 			}
-			return math.Pow(10, r), true
+			return math.Pow(10, r), true, nil
 		}
 		prev = v
 	}
-	return 0, false
+	return 0, false, nil
 }

@@ -347,10 +347,7 @@ func (s *Server) storedCurve(c *gin.Context) curveSource {
 		if res.Status != fit.StatusConverged {
 			return nil, nil, 0, invalidField("/curve_id", "fit %s did not converge (%s)", id, res.Status)
 		}
-		theta := make([]float64, len(res.Params))
-		for i, p := range res.Params {
-			theta[i] = float64(p.Estimate)
-		}
+		theta := res.Params.Estimates()
 		model := fit.Model(res.Model)
 		if model.Top(theta) <= model.Bottom(theta) || (model.Monotone() && model.HillSlope(theta) <= 0) {
 			return nil, nil, 0, invalidField("/curve_id", "fit %s is not a rising agonist curve", id)

@@ -10,6 +10,7 @@ import (
 
 	"strconv"
 	"strings"
+	"time"
 )
 
 // serveConfig is the effective configuration of `sluice serve`: defaults,
@@ -29,7 +30,19 @@ type serveConfig struct {
 	// false (SLUICE_MIGRATE=false, --migrate=false) lets API replicas skip
 	// them and only check that `sluice migrate` has run.
 	Migrate bool // SLUICE_MIGRATE, --migrate
+	// ShutdownGrace (SLUICE_SHUTDOWN_GRACE, --shutdown-grace) is how long a
+	// SIGTERM or SIGINT lets running plate jobs and HTTP requests finish
+	// before they are cancelled (a cancelled job is retried later, by this
+	// or another worker). Zero cancels them at once; range 0–1h; default
+	// 30s, inside Kubernetes' default termination grace period.
+	ShutdownGrace time.Duration
 }
+
+// Bounds and default of --shutdown-grace.
+const (
+	defaultShutdownGrace = 30 * time.Second
+	maxShutdownGrace     = time.Hour
+)
 
 // maxBodyLimit bounds --body-limit.
 const maxBodyLimit = 1 << 30
@@ -55,6 +68,10 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	if err != nil {
 		errs = append(errs, fmt.Errorf("SLUICE_FIT_WORKERS: %q is not a whole number", getenv("SLUICE_FIT_WORKERS")))
 	}
+	grace, err := time.ParseDuration(envOr(getenv, "SLUICE_SHUTDOWN_GRACE", defaultShutdownGrace.String()))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_SHUTDOWN_GRACE: %q is not a duration (e.g. 30s)", getenv("SLUICE_SHUTDOWN_GRACE")))
+	}
 	auth := true
 	switch v := strings.ToLower(getenv("SLUICE_AUTH")); v {
 	case "", "on", "true", "1":
@@ -76,6 +93,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.IntVar(&c.FitWorkers, "fit-workers", workers, "goroutines per bootstrap; 0 = one per CPU (SLUICE_FIT_WORKERS)")
 	fs.BoolVar(&c.Migrate, "migrate", migrate, "apply the store's migrations at start; false only checks they were applied (SLUICE_MIGRATE)")
 	fs.StringVar(&c.Role, "role", envOr(getenv, "SLUICE_ROLE", "all"), "api (HTTP only), worker (plate jobs; HTTP for health and metrics) or all (SLUICE_ROLE)")
+	fs.DurationVar(&c.ShutdownGrace, "shutdown-grace", grace, "on SIGTERM, how long running plate jobs and requests may finish (SLUICE_SHUTDOWN_GRACE)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -105,6 +123,9 @@ func (c *serveConfig) validate() []error {
 	}
 	if c.Role != "api" && c.Role != "worker" && c.Role != "all" {
 		errs = append(errs, fmt.Errorf("--role / SLUICE_ROLE: %q is not api, worker or all", c.Role))
+	}
+	if c.ShutdownGrace < 0 || c.ShutdownGrace > maxShutdownGrace {
+		errs = append(errs, fmt.Errorf("--shutdown-grace / SLUICE_SHUTDOWN_GRACE: %v is outside 0–%v", c.ShutdownGrace, maxShutdownGrace))
 	}
 	if c.FitWorkers < 0 {
 		errs = append(errs, fmt.Errorf("--fit-workers / SLUICE_FIT_WORKERS: %d is negative", c.FitWorkers))
@@ -167,7 +188,8 @@ func (c *serveConfig) logAttrs() []any {
 		admin = "set (hidden)"
 	}
 	return []any{"addr", c.Addr, "store", store, "body_limit", c.BodyLimit, "auth", !c.AuthDisabled,
-		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role, "migrate", c.Migrate}
+		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role,
+		"shutdown_grace", c.ShutdownGrace.String(), "migrate", c.Migrate}
 }
 
 // redactURL hides a URL's password.

@@ -33,12 +33,33 @@ func runServe(args []string, getenv func(string) string, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "sluice serve: configuration:\n%v\n", err)
 		return 2
 	}
-	level, _ := parseLevel(cfg.LogLevel)
+	level, _ := parseLevel(cfg.LogLevel) // validated by loadServeConfig
 	log := slog.New(slog.NewJSONHandler(stderr, &slog.HandlerOptions{Level: level}))
 	log.Info("starting", cfg.logAttrs()...)
 
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
+	go func() {
+		// After the first signal, a second one ends the process at once.
+		<-ctx.Done()
+		stop()
+	}()
+	ln, err := net.Listen("tcp", cfg.Addr)
+	if err != nil {
+		log.Error("listen", "addr", cfg.Addr, "err", err)
+		return 1
+	}
+	return serve(ctx, cfg, ln, log)
+}
+
+// serve runs the server on ln until ctx is done, then shuts down: the
+// listener closes, and running HTTP requests and plate jobs get
+// cfg.ShutdownGrace to finish (River's soft stop: no new job is fetched);
+// what is still running then is cancelled, and a cancelled job is retried
+// later. With --role worker, HTTP serves only /healthz, /readyz and
+// /metrics.
+func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Logger) int {
+	defer ln.Close() // closed already by Shutdown, unless serving never began
 	store, err := db.OpenWith(ctx, cfg.DatabaseURL, cfg.DataDir, db.Options{SkipMigrations: !cfg.Migrate})
 	if err != nil {
 		log.Error("open store", "err", err)
@@ -65,51 +86,65 @@ func runServe(args []string, getenv func(string) string, stderr io.Writer) int {
 		log.Error("build server", "err", err)
 		return 1
 	}
-	if cfg.Role != "api" {
+	handler := srv.Handler()
+	if cfg.Role == "worker" {
+		handler = srv.OpsHandler()
+	}
+	workers := cfg.Role != "api"
+	if workers {
+		// Jobs run on a context the signal does not cancel (cancelling
+		// River's start context is its hard stop); StopWorkers below
+		// ends them softly.
 		// Two plates at a time: each already fits its curves on every core.
-		if err := store.StartWorkers(ctx, srv.FitPlate, 2); err != nil {
+		if err := store.StartWorkers(context.WithoutCancel(ctx), srv.FitPlate, 2); err != nil {
 			log.Error("start workers", "err", err)
 			return 1
 		}
-		defer func() {
-			stopCtx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
-			defer cancel()
-			store.StopWorkers(stopCtx)
-		}()
 		log.Info("plate workers started")
 	}
 	hs := &http.Server{
-		Addr:              cfg.Addr,
-		Handler:           srv.Handler(),
+		Handler:           handler,
 		ReadHeaderTimeout: 10 * time.Second,
 		ReadTimeout:       60 * time.Second,
 		WriteTimeout:      5 * time.Minute, // a large bootstrap is computed before the reply
 		IdleTimeout:       2 * time.Minute,
 		ErrorLog:          slog.NewLogLogger(log.Handler(), slog.LevelWarn),
 	}
-	ln, err := net.Listen("tcp", cfg.Addr)
-	if err != nil {
-		log.Error("listen", "addr", cfg.Addr, "err", err)
-		return 1
-	}
-	log.Info("listening", "addr", ln.Addr().String(), "store", store.Engine())
+	log.Info("listening", "addr", ln.Addr().String(), "store", store.Engine(), "role", cfg.Role)
 	errc := make(chan error, 1)
 	go func() { errc <- hs.Serve(ln) }()
+	code := 0
 	select {
 	case err := <-errc:
 		log.Error("serve", "err", err)
-		return 1
+		code = 1
 	case <-ctx.Done():
+		log.Info("shutting down", "grace", cfg.ShutdownGrace.String())
 	}
-	log.Info("shutting down")
-	shutCtx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
+	graceCtx, cancel := context.WithTimeout(context.Background(), cfg.ShutdownGrace)
 	defer cancel()
-	if err := hs.Shutdown(shutCtx); err != nil {
-		log.Error("shutdown", "err", err)
-		return 1
+	// HTTP and the workers drain side by side, within one grace period.
+	stopped := make(chan error, 1)
+	go func() {
+		if !workers {
+			stopped <- nil
+			return
+		}
+		stopped <- store.StopWorkers(graceCtx)
+	}()
+	if err := hs.Shutdown(graceCtx); err != nil {
+		log.Error("HTTP shutdown: requests cut off after the grace period", "err", err)
+		if cerr := hs.Close(); cerr != nil {
+			log.Error("HTTP close", "err", cerr)
+		}
+		code = 1
+	}
+	if err := <-stopped; err != nil {
+		log.Error("stop plate workers", "err", err)
+		code = 1
 	}
 	log.Info("stopped")
-	return 0
+	return code
 }
 
 // seedAdminToken makes SLUICE_ADMIN_TOKEN a valid admin token named

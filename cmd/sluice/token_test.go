@@ -102,8 +102,8 @@ func TestMigrateFlag(t *testing.T) {
 			}
 			continue
 		}
-		if err != nil || cfg.Migrate != c.want {
-			t.Errorf("%v %v: migrate %v, %v; want %v", c.args, c.env, cfg.Migrate, err, c.want)
+		if err != nil || cfg.SkipMigrations == c.want {
+			t.Errorf("%v %v: skip migrations %v, %v; want migrate %v", c.args, c.env, cfg.SkipMigrations, err, c.want)
 		}
 	}
 }

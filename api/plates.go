@@ -597,32 +597,6 @@ func (s *Server) getJob(c *gin.Context) {
 		return
 	}
 	v := JobView{ID: id, PlateID: p.ID, Attempt: j.Attempt, Progress: Progress{p.CurvesDone, p.CurvesTotal}}
-	switch j.State {
-	case "completed":
-		v.Status = "done"
-	case "running":
-		v.Status = "running"
-	case "discarded", "cancelled":
-		v.Status = "failed"
-	default: // available, scheduled, retryable, pending
-		v.Status = "queued"
-		if p.Status == db.PlateRunning {
-			v.Status = "running"
-		}
-	}
-	switch p.Status {
-	case db.PlateFailed:
-		v.Status = "failed"
-	case db.PlateDone:
-		v.Status = "done" // stored before River marks the job complete
-	}
-	if v.Status == "failed" || j.State == "retryable" {
-		if len(j.Errors) > 0 {
-			v.Error = j.Errors[len(j.Errors)-1]
-		}
-		if p.Error != "" {
-			v.Error = p.Error
-		}
-	}
+	v.Status, v.Error = db.JobStatus(j, p)
 	c.JSON(http.StatusOK, v)
 }

@@ -3,6 +3,7 @@ package service
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"strconv"
 	"time"
@@ -136,44 +137,24 @@ func (s *Service) PlateMap(ctx context.Context, id string) (*PlateMap, error) {
 	return m, nil
 }
 
-// Job is GET /v1/jobs/{id}: a plate job's status, attempt, progress and
-// last error.
+// Job is GET /v1/jobs/{id}: a job's status (db.JobStatus), attempt and
+// last error, and for a plate job its plate and progress.
 func (s *Service) Job(ctx context.Context, id int64) (*wire.JobView, error) {
 	j, err := s.store.Job(ctx, id)
 	if err != nil {
 		return nil, err // db's error names the job
 	}
 	p, err := s.store.PlateByJob(ctx, id)
-	if err != nil {
+	switch {
+	case errors.Is(err, db.ErrNotFound):
+		p = nil // a job without a plate
+	case err != nil:
 		return nil, fmt.Errorf("plate of job %d: %w", id, err)
 	}
-	v := &wire.JobView{ID: id, PlateID: p.ID, Attempt: j.Attempt, Progress: wire.Progress{Done: p.CurvesDone, Total: p.CurvesTotal}}
-	switch j.State {
-	case "completed":
-		v.Status = "done"
-	case "running":
-		v.Status = "running"
-	case "discarded", "cancelled":
-		v.Status = "failed"
-	default: // available, scheduled, retryable, pending
-		v.Status = "queued"
-		if p.Status == db.PlateRunning {
-			v.Status = "running"
-		}
+	v := &wire.JobView{ID: id, Attempt: j.Attempt}
+	if p != nil {
+		v.PlateID, v.Progress = p.ID, wire.Progress{Done: p.CurvesDone, Total: p.CurvesTotal}
 	}
-	switch p.Status {
-	case db.PlateFailed:
-		v.Status = "failed"
-	case db.PlateDone:
-		v.Status = "done" // stored before River marks the job complete
-	}
-	if v.Status == "failed" || j.State == "retryable" {
-		if len(j.Errors) > 0 {
-			v.Error = j.Errors[len(j.Errors)-1]
-		}
-		if p.Error != "" {
-			v.Error = p.Error
-		}
-	}
+	v.Status, v.Error = db.JobStatus(j, p)
 	return v, nil
 }

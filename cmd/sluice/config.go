@@ -26,6 +26,10 @@ type serveConfig struct {
 	LogLevel     string // SLUICE_LOG_LEVEL, --log-level
 	FitWorkers   int    // SLUICE_FIT_WORKERS, --fit-workers
 	Role         string // SLUICE_ROLE, --role: api, worker or all
+	// SkipMigrations (SLUICE_MIGRATE=false, --migrate=false) lets API
+	// replicas skip the store's migrations at start and only check that
+	// `sluice migrate` has run. The zero value (the default) migrates.
+	SkipMigrations bool
 	// ShutdownGrace (SLUICE_SHUTDOWN_GRACE, --shutdown-grace) is how long a
 	// SIGTERM or SIGINT lets running plate jobs and HTTP requests finish
 	// before they are cancelled (a cancelled job is retried later, by this
@@ -76,6 +80,10 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	default:
 		errs = append(errs, fmt.Errorf("SLUICE_AUTH: %q is not on or off", v))
 	}
+	migrate, err := parseBool(getenv("SLUICE_MIGRATE"), true)
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_MIGRATE: %v", err))
+	}
 	fs.StringVar(&c.Addr, "addr", envOr(getenv, "SLUICE_ADDR", "127.0.0.1:8080"), "listen address (SLUICE_ADDR)")
 	fs.StringVar(&c.DataDir, "data", envOr(getenv, "SLUICE_DATA", "./sluice-data"), "data directory of the embedded store (SLUICE_DATA)")
 	fs.Int64Var(&c.BodyLimit, "body-limit", limit, "largest request body in bytes (SLUICE_BODY_LIMIT)")
@@ -83,6 +91,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.BoolVar(&c.Demo, "demo", false, "load the invented demo scenario if the store has none")
 	fs.StringVar(&c.LogLevel, "log-level", envOr(getenv, "SLUICE_LOG_LEVEL", "info"), "debug, info, warn or error (SLUICE_LOG_LEVEL)")
 	fs.IntVar(&c.FitWorkers, "fit-workers", workers, "goroutines per bootstrap; 0 = one per CPU (SLUICE_FIT_WORKERS)")
+	fs.BoolVar(&migrate, "migrate", migrate, "apply the store's migrations at start; false only checks they were applied (SLUICE_MIGRATE)")
 	fs.StringVar(&c.Role, "role", envOr(getenv, "SLUICE_ROLE", "all"), "api (HTTP only), worker (plate jobs; HTTP for health and metrics) or all (SLUICE_ROLE)")
 	fs.DurationVar(&c.ShutdownGrace, "shutdown-grace", grace, "on SIGTERM, how long running plate jobs and requests may finish (SLUICE_SHUTDOWN_GRACE)")
 	if err := fs.Parse(args); err != nil {
@@ -92,6 +101,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 		errs = append(errs, fmt.Errorf("unexpected arguments %q", fs.Args()))
 	}
 	c.AuthDisabled = !auth
+	c.SkipMigrations = !migrate
 	c.DatabaseURL = getenv("SLUICE_DATABASE_URL")
 	c.AdminToken = getenv("SLUICE_ADMIN_TOKEN")
 	errs = append(errs, c.validate()...)
@@ -138,6 +148,19 @@ func (c *serveConfig) validate() []error {
 	return errs
 }
 
+// parseBool reads an on/off variable; "" is def.
+func parseBool(v string, def bool) (bool, error) {
+	switch strings.ToLower(v) {
+	case "":
+		return def, nil
+	case "on", "true", "1":
+		return true, nil
+	case "off", "false", "0":
+		return false, nil
+	}
+	return def, fmt.Errorf("%q is not true or false", v)
+}
+
 func isLoopback(host string) bool {
 	if host == "localhost" {
 		return true
@@ -167,7 +190,7 @@ func (c *serveConfig) logAttrs() []any {
 	}
 	return []any{"addr", c.Addr, "store", store, "body_limit", c.BodyLimit, "auth", !c.AuthDisabled,
 		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role,
-		"shutdown_grace", c.ShutdownGrace.String()}
+		"shutdown_grace", c.ShutdownGrace.String(), "migrate", !c.SkipMigrations}
 }
 
 // redactURL hides a URL's password.

@@ -229,7 +229,11 @@ func (s *Server) reportProgress(ctx context.Context, plateID string, progress *f
 			case <-t.C:
 				if n := progress.Curves(); n != last {
 					last = n
-					s.store.SetPlateProgress(ctx, plateID, db.PlateRunning, n, total)
+					// Advisory: a failed write is retried on the next tick.
+					if err := s.store.SetPlateProgress(ctx, plateID, db.PlateRunning, n, total); err != nil {
+						s.log.Warn("plate progress", "plate", plateID, "err", err)
+						last = -1
+					}
 				}
 			}
 		}

@@ -1,13 +1,15 @@
 package api
 
 import (
-	"sluice/api/service"
-
 	"context"
 	"net/http"
 	"time"
 
 	"github.com/gin-gonic/gin"
+	"github.com/prometheus/client_golang/prometheus"
+	"github.com/prometheus/client_golang/prometheus/promhttp"
+
+	"sluice/api/service"
 )
 
 // healthz says the process serves; it checks nothing else.
@@ -26,3 +28,22 @@ func (s *Server) readyz(c *gin.Context) {
 	}
 	c.JSON(http.StatusOK, gin.H{"status": "ready", "database": s.store.Engine()})
 }
+
+// opsRoutes serves only the probes and the metrics: what a worker-only
+// replica (`serve --role worker`) answers. Every other path is a 404
+// problem.
+func (s *Server) opsRoutes(reg *prometheus.Registry) *gin.Engine {
+	r := gin.New()
+	r.Use(s.recoverer, s.metrics.middleware)
+	r.NoRoute(func(c *gin.Context) {
+		s.writeProblem(c, &service.Error{Kind: errNotFoundRoute, Detail: "no such endpoint on a worker: " + c.Request.URL.Path})
+	})
+	r.GET("/healthz", s.healthz)
+	r.GET("/readyz", s.readyz)
+	r.GET("/metrics", gin.WrapH(promhttp.HandlerFor(reg, promhttp.HandlerOpts{Registry: reg})))
+	return r
+}
+
+// OpsHandler is the handler of a worker-only replica: /healthz, /readyz and
+// /metrics, no API routes.
+func (s *Server) OpsHandler() http.Handler { return s.ops }

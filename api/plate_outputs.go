@@ -28,6 +28,13 @@ func (s *Server) plateCurvesCSV(c *gin.Context) {
 		s.writeProblem(c, err)
 		return
 	}
+	curves := make([]PlateCurve, len(cs))
+	for i, cv := range cs {
+		if err := json.Unmarshal(cv.Result, &curves[i]); err != nil {
+			s.writeProblem(c, fmt.Errorf("stored curve %s of plate %s: %w", cv.Key, p.ID, err))
+			return
+		}
+	}
 	c.Header("Content-Type", "text/csv; charset=utf-8")
 	c.Header("Content-Disposition", fmt.Sprintf(`attachment; filename="%s-curves.csv"`, strings.ReplaceAll(p.Barcode, `"`, "")))
 	c.Status(http.StatusOK)
@@ -39,19 +46,15 @@ func (s *Server) plateCurvesCSV(c *gin.Context) {
 		}
 		return strconv.FormatFloat(f, 'g', -1, 64)
 	}
-	var header []string
-	for _, cv := range cs {
-		var pc PlateCurve
-		if err := json.Unmarshal(cv.Result, &pc); err != nil {
-			continue
-		}
-		if header == nil {
-			header = []string{"plate_id", "barcode", "key", "compound_id", "antagonist_id", "antagonist_conc", "model", "status"}
+	for i, pc := range curves {
+		if i == 0 {
+			header := []string{"plate_id", "barcode", "key", "compound_id", "antagonist_id", "antagonist_conc", "model", "status"}
 			for _, pr := range pc.Params {
 				header = append(header, pr.Name, pr.Name+"_se")
 			}
 			header = append(header, "ec50", "ec50_ci_lo", "ec50_ci_hi", "pec50", "n", "r2", "flags")
-			w.Write(header)
+			// A write error is the client's connection; Flush reports it.
+			_ = w.Write(header)
 		}
 		row := []string{p.ID, p.Barcode, pc.Key, pc.CompoundID, pc.AntagonistID, strconv.FormatFloat(pc.AntagonistConc, 'g', -1, 64), pc.Model, pc.Status}
 		for _, pr := range pc.Params {
@@ -59,9 +62,12 @@ func (s *Server) plateCurvesCSV(c *gin.Context) {
 		}
 		row = append(row, num(pc.EC50.Estimate), num(pc.EC50.CI[0]), num(pc.EC50.CI[1]), num(pc.PEC50), strconv.Itoa(pc.Stats.N),
 			num(pc.Stats.R2), strings.Join(pc.Flags, ";"))
-		w.Write(row)
+		_ = w.Write(row)
 	}
 	w.Flush()
+	if err := w.Error(); err != nil {
+		s.log.Warn("curves.csv", "plate", p.ID, "err", err)
+	}
 }
 
 // plateHeatmap is GET /v1/plates/{id}/heatmap.svg: raw values by well, the
@@ -78,7 +84,11 @@ func (s *Server) plateHeatmap(c *gin.Context) {
 		s.writeProblem(c, err)
 		return
 	}
-	f, _ := plate.ParseFormat(strconv.Itoa(p.Format))
+	f, err := plate.ParseFormat(strconv.Itoa(p.Format))
+	if err != nil {
+		s.writeProblem(c, fmt.Errorf("stored plate %s: %w", p.ID, err))
+		return
+	}
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, r := range rows {
 		if r.Value != nil {
@@ -91,8 +101,12 @@ func (s *Server) plateHeatmap(c *gin.Context) {
 	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" width="%.0f" height="%.0f" font-family="sans-serif" font-size="11">`+"\n", w, h)
 	fmt.Fprintf(&b, `<rect width="100%%" height="100%%" fill="white"/>`+"\n")
 	verdict := "QC pending"
-	var qc plate.QC
-	if p.QC != nil && json.Unmarshal(p.QC, &qc) == nil {
+	var qc wire.PlateQC
+	if p.QC != nil {
+		if err := json.Unmarshal(p.QC, &qc); err != nil {
+			s.writeProblem(c, fmt.Errorf("stored QC of plate %s: %w", p.ID, err))
+			return
+		}
 		verdict = fmt.Sprintf("QC %s · Z′ %.2f", map[bool]string{true: "pass", false: "FAIL"}[qc.Pass], qc.ZPrime)
 	}
 	fmt.Fprintf(&b, `<text x="60" y="24" font-size="15" font-weight="bold">Plate %s (%d wells) · %s</text>`+"\n", esc(p.Barcode), f.Wells, esc(verdict))

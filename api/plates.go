@@ -8,7 +8,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"math"
 	"mime"
 	"net/http"
 	"strconv"
@@ -94,8 +93,11 @@ func (s *Server) validatePlate(req *PlateRequest, wells []ingest.WellIn, loc loc
 	if err != nil {
 		return nil, wellError(loc, -1, "format", "%v", err)
 	}
-	if b := strings.TrimSpace(req.Barcode); b == "" || len(b) > 100 {
-		return nil, wellError(loc, -1, "barcode", "barcode is required, at most 100 characters")
+	if b := strings.TrimSpace(req.Barcode); b == "" || len(b) > 100 || !plate.PrintableID(b) {
+		return nil, wellError(loc, -1, "barcode", "barcode is required: printable text without control characters, at most 100 characters")
+	}
+	if !plate.PrintableID(req.AssayID) {
+		return nil, wellError(loc, -1, "assay_id", "assay_id must be printable text without control characters")
 	}
 	mode, err := plate.ParseMode(req.Mode)
 	if err != nil {
@@ -118,62 +120,18 @@ func (s *Server) validatePlate(req *PlateRequest, wells []ingest.WellIn, loc loc
 		t = t.UTC()
 		v.p.MeasuredAt = &t
 	}
-	if len(wells) == 0 {
-		return nil, wellError(loc, -1, "wells", "a plate needs wells")
+	checked, err := plate.Validate(f, plateWellInputs(wells, unit), plate.ForPlate)
+	if err != nil {
+		return nil, plateProblem(err, loc)
 	}
-	if len(wells) > f.Wells {
-		return nil, wellError(loc, -1, "wells", "%d wells on a %d-well plate", len(wells), f.Wells)
-	}
-	seen := map[string]int{}
-	var nMax, nMin int
-	var pw []plate.PlateWell
-	for i, w := range wells {
-		pos, err := f.ParseWell(w.Well)
-		if err != nil {
-			return nil, wellError(loc, i, "well", "%v", err)
-		}
-		name := f.Name(pos)
-		if j, dup := seen[name]; dup {
-			return nil, wellError(loc, i, "well", "well %s appears twice (also entry %d)", name, j)
-		}
-		seen[name] = i
-		role, err := plate.ParseRole(w.Role)
-		if err != nil {
-			return nil, wellError(loc, i, "role", "%v", err)
-		}
-		needsValue := role != plate.Empty && role != plate.Excluded
-		if needsValue && !w.HasValue {
-			return nil, wellError(loc, i, "value", "well %s (%s) needs a value", name, role)
-		}
-		if (role == plate.Sample || role == plate.Reference) && w.CompoundID == "" {
-			return nil, wellError(loc, i, "compound_id", "well %s: a %s well needs a compound_id", name, role)
-		}
-		if w.Conc < 0 || w.AntagonistConc < 0 {
-			return nil, wellError(loc, i, "conc", "well %s: concentrations must be ≥ 0", name)
-		}
-		if w.AntagonistID == "" && w.AntagonistConc != 0 {
-			return nil, wellError(loc, i, "antagonist_id", "well %s: antagonist_conc without antagonist_id", name)
-		}
-		switch role {
-		case plate.MaxControl:
-			nMax++
-		case plate.MinControl:
-			nMin++
-		}
-		row := db.WellRow{Well: name, Row: pos.Row, Col: pos.Col, Role: string(role), CompoundID: w.CompoundID,
-			Conc: unit.ToMolar(w.Conc), AntagonistID: w.AntagonistID, AntagonistConc: unit.ToMolar(w.AntagonistConc)}
+	for _, w := range checked {
+		row := db.WellRow{Well: w.Name, Row: w.Well.Row, Col: w.Well.Col, Role: string(w.Role), CompoundID: w.CompoundID,
+			Conc: w.Conc, AntagonistID: w.AntagonistID, AntagonistConc: w.AntagonistConc}
 		if w.HasValue {
 			val := w.Value
 			row.Value = &val
 		}
 		v.wells = append(v.wells, row)
-		if needsValue {
-			pw = append(pw, plate.PlateWell{Well: pos, Role: role, CompoundID: w.CompoundID, Conc: row.Conc, Value: w.Value,
-				AntagonistID: w.AntagonistID, AntagonistConc: row.AntagonistConc})
-		}
-	}
-	if nMax < 2 || nMin < 2 {
-		return nil, wellError(loc, -1, "wells", "QC and normalisation need at least 2 max_control and 2 min_control wells (have %d and %d)", nMax, nMin)
 	}
 	// Fit settings, checked by the engine itself.
 	set := plateSettings{QC: req.QC}
@@ -196,9 +154,41 @@ func (s *Server) validatePlate(req *PlateRequest, wells []ingest.WellIn, loc loc
 			b.Seed = &seed
 		}
 	}
-	v.p.Settings, _ = json.Marshal(set)
-	v.p.CurvesTotal = len(plate.Curves(pw, mode, 1, 0))
+	if v.p.Settings, err = json.Marshal(set); err != nil {
+		return nil, fmt.Errorf("plate settings: %w", err)
+	}
+	v.p.CurvesTotal = len(plate.Curves(plate.Read(checked), mode, 1, 0))
 	return v, nil
+}
+
+// plateWellInputs converts wells as read to the plate rules' input, with
+// concentrations in molar.
+func plateWellInputs(wells []ingest.WellIn, unit ingest.Unit) []plate.WellInput {
+	out := make([]plate.WellInput, len(wells))
+	for i, w := range wells {
+		out[i] = plate.WellInput{Well: w.Well, Role: w.Role, CompoundID: w.CompoundID, Conc: unit.ToMolar(w.Conc), HasConc: w.HasConc,
+			Value: w.Value, HasValue: w.HasValue, AntagonistID: w.AntagonistID, AntagonistConc: unit.ToMolar(w.AntagonistConc)}
+	}
+	return out
+}
+
+// plateProblem turns the plate rules' errors into a problem whose fields
+// point where loc says (a JSON Pointer, a CSV row or a parameter).
+func plateProblem(err error, loc locate) error {
+	var inv plate.Invalid
+	if !errors.As(err, &inv) || len(inv) == 0 {
+		return err
+	}
+	re := &service.Error{Kind: errInvalid, Detail: inv[0].Detail}
+	for _, we := range inv {
+		fe := loc(we.Index, we.Field)
+		fe.Detail = we.Detail
+		re.Fields = append(re.Fields, fe)
+	}
+	if len(inv) > 1 {
+		re.Detail = fmt.Sprintf("%s (and %d more)", inv[0].Detail, len(inv)-1)
+	}
+	return re
 }
 
 // prefixPointer puts a fit settings error under a prefix (e.g. /fit).
@@ -239,6 +229,10 @@ func (s *Server) createPlate(c *gin.Context) {
 			return
 		}
 		if id := q.Get("layout_id"); id != "" {
+			if u, err := ingest.ParseUnit(req.ConcUnit); err == nil && u != 1 {
+				s.writeProblem(c, badParameter("conc_unit", "a layout's concentrations are stored in molar; conc_unit %q does not apply to a grid upload", req.ConcUnit))
+				return
+			}
 			wells, err = s.gridWells(c, id, req.Format, body)
 			loc = func(i int, field string) FieldError { return FieldError{Parameter: field} }
 		} else {
@@ -271,8 +265,12 @@ func (s *Server) createPlate(c *gin.Context) {
 	}
 	ctx := c.Request.Context()
 	if req.AssayID != "" {
-		if _, err := s.store.Assay(ctx, req.AssayID); errors.Is(err, db.ErrNotFound) {
-			s.writeProblem(c, wellError(loc, -1, "assay_id", "no assay with id %q", req.AssayID))
+		_, err := s.store.Assay(ctx, req.AssayID)
+		if errors.Is(err, db.ErrNotFound) {
+			err = wellError(loc, -1, "assay_id", "no assay with id %q", req.AssayID)
+		}
+		if err != nil {
+			s.writeProblem(c, err)
 			return
 		}
 	}
@@ -291,14 +289,24 @@ func (s *Server) createPlate(c *gin.Context) {
 		if err := w.InsertPlate(ctx, &v.p, v.wells); err != nil {
 			return err
 		}
-		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: v.p.SubmittedBy, Action: "plate.create", Target: v.p.ID,
-			Detail: []byte(fmt.Sprintf(`{"barcode":%q,"wells":%d}`, v.p.Barcode, len(v.wells)))})
+		detail, err := json.Marshal(map[string]any{"barcode": v.p.Barcode, "wells": len(v.wells)})
+		if err != nil {
+			return fmt.Errorf("audit of plate %s: %w", v.p.ID, err)
+		}
+		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: v.p.SubmittedBy, Action: "plate.create", Target: v.p.ID, Detail: detail})
 	}
-	// The job ID is known only inside the transaction; build the body there.
-	build := func() []byte {
-		resp, _ := json.Marshal(gin.H{"plate_id": v.p.ID, "job_id": jobID})
-		return resp
+	// The job ID is known only inside the transaction: the body is built
+	// there, after the write, and build hands it to the idempotency record.
+	var resp []byte
+	writeAndBuild := func(w db.Writer) error {
+		if err := write(w); err != nil {
+			return err
+		}
+		var err error
+		resp, err = json.Marshal(gin.H{"plate_id": v.p.ID, "job_id": jobID})
+		return err
 	}
+	build := func() []byte { return resp }
 	if wait := c.Query("wait"); wait != "" {
 		d, err := time.ParseDuration(wait)
 		if err != nil || d < 0 || d > 5*time.Minute {
@@ -306,13 +314,13 @@ func (s *Server) createPlate(c *gin.Context) {
 			return
 		}
 		// Submit (the 202 is what a retry replays), then wait.
-		if _, stored := s.commitBuilt(c, http.StatusAccepted, "application/json", build, write); stored {
+		if _, stored := s.commitBuilt(c, http.StatusAccepted, "application/json", build, writeAndBuild); stored {
 			s.waitForPlate(c, v.p.ID, d)
 		}
 		return
 	}
 	c.Header("Location", "/v1/plates/"+v.p.ID)
-	s.respondBuilt(c, http.StatusAccepted, "application/json", build, write)
+	s.respondBuilt(c, http.StatusAccepted, "application/json", build, writeAndBuild)
 }
 
 // wellsFromJSON turns wells as JSON sends them into wells as read.
@@ -321,7 +329,7 @@ func wellsFromJSON(ws []WellJSON) []ingest.WellIn {
 	for _, w := range ws {
 		in := ingest.WellIn{Well: w.Well, Role: w.Role, CompoundID: w.CompoundID, AntagonistID: w.AntagonistID}
 		if w.Conc != nil {
-			in.Conc = *w.Conc
+			in.Conc, in.HasConc = *w.Conc, true
 		}
 		if w.Value != nil {
 			in.Value, in.HasValue = *w.Value, true
@@ -370,7 +378,10 @@ func (s *Server) gridWells(c *gin.Context, layoutID string, format int, body []b
 	if l.Format != format {
 		return nil, badParameter("format", "layout %s is for %d-well plates, not %d", layoutID, l.Format, format)
 	}
-	f, _ := plate.ParseFormat(strconv.Itoa(format))
+	f, err := plate.ParseFormat(strconv.Itoa(format))
+	if err != nil {
+		return nil, badParameter("format", "%v", err)
+	}
 	grid, err := ingest.ReadGrid(bytes.NewReader(body), f)
 	if err != nil {
 		return nil, err
@@ -381,7 +392,10 @@ func (s *Server) gridWells(c *gin.Context, layoutID string, format int, body []b
 	}
 	out := wellsFromJSON(lw)
 	for i := range out {
-		pos, _ := f.ParseWell(out[i].Well)
+		pos, err := f.ParseWell(out[i].Well)
+		if err != nil {
+			return nil, fmt.Errorf("stored layout %s: %w", layoutID, err)
+		}
 		out[i].Value, out[i].HasValue = grid[f.Name(pos)]
 	}
 	return out, nil
@@ -407,6 +421,10 @@ func (s *Server) createLayout(c *gin.Context) {
 		s.writeProblem(c, invalidField("/id", "id %q must be 1–100 letters, digits or ._:-", req.ID))
 		return
 	}
+	if !plate.PrintableID(req.Name) {
+		s.writeProblem(c, invalidField("/name", "name must be printable text without control characters, at most %d bytes", plate.MaxIDLen))
+		return
+	}
 	f, err := plate.ParseFormat(strconv.Itoa(req.Format))
 	if err != nil {
 		s.writeProblem(c, invalidField("/format", "%v", err))
@@ -417,41 +435,34 @@ func (s *Server) createLayout(c *gin.Context) {
 		s.writeProblem(c, invalidField("/conc_unit", "%v", err))
 		return
 	}
-	seen := map[string]bool{}
-	for i, w := range req.Wells {
-		pos, err := f.ParseWell(w.Well)
-		if err != nil {
-			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/well", i), "%v", err))
-			return
+	checked, err := plate.Validate(f, plateWellInputs(wellsFromJSON(req.Wells), unit), plate.ForLayout)
+	if err != nil {
+		s.writeProblem(c, plateProblem(err, jsonLocate))
+		return
+	}
+	// Stored canonical and in molar, so that plates using the layout need
+	// no unit.
+	for i := range checked {
+		lw, cw := &req.Wells[i], &checked[i]
+		lw.Well = cw.Name
+		if lw.Conc != nil {
+			lw.Conc = &cw.Conc
 		}
-		if seen[f.Name(pos)] {
-			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/well", i), "well %s appears twice", f.Name(pos)))
-			return
-		}
-		seen[f.Name(pos)] = true
-		if _, err := plate.ParseRole(w.Role); err != nil {
-			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/role", i), "%v", err))
-			return
-		}
-		if w.Value != nil {
-			s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/value", i), "a layout holds no values; they come from the grid"))
-			return
-		}
-		// Stored in molar, so that plates using the layout need no unit.
-		req.Wells[i].Well = f.Name(pos)
-		for _, cp := range []*float64{w.Conc, w.AntagonistConc} {
-			if cp != nil {
-				if *cp < 0 || math.IsNaN(*cp) {
-					s.writeProblem(c, invalidField(fmt.Sprintf("/wells/%d/conc", i), "concentrations must be ≥ 0"))
-					return
-				}
-				*cp = unit.ToMolar(*cp)
-			}
+		if lw.AntagonistConc != nil {
+			lw.AntagonistConc = &cw.AntagonistConc
 		}
 	}
-	wellsJSON, _ := json.Marshal(req.Wells)
+	wellsJSON, err := json.Marshal(req.Wells)
+	if err != nil {
+		s.writeProblem(c, fmt.Errorf("layout %s wells: %w", req.ID, err))
+		return
+	}
 	now := s.now()
-	out, _ := json.Marshal(gin.H{"id": req.ID, "name": req.Name, "format": f.Wells, "wells": len(req.Wells), "conc_unit": "M"})
+	out, err := json.Marshal(gin.H{"id": req.ID, "name": req.Name, "format": f.Wells, "wells": len(req.Wells), "conc_unit": "M"})
+	if err != nil {
+		s.writeProblem(c, fmt.Errorf("layout %s response: %w", req.ID, err))
+		return
+	}
 	ctx := c.Request.Context()
 	c.Header("Location", "/v1/layouts/"+req.ID)
 	s.respond(c, http.StatusCreated, "application/json", out, func(w db.Writer) error {
@@ -586,32 +597,6 @@ func (s *Server) getJob(c *gin.Context) {
 		return
 	}
 	v := JobView{ID: id, PlateID: p.ID, Attempt: j.Attempt, Progress: Progress{p.CurvesDone, p.CurvesTotal}}
-	switch j.State {
-	case "completed":
-		v.Status = "done"
-	case "running":
-		v.Status = "running"
-	case "discarded", "cancelled":
-		v.Status = "failed"
-	default: // available, scheduled, retryable, pending
-		v.Status = "queued"
-		if p.Status == db.PlateRunning {
-			v.Status = "running"
-		}
-	}
-	switch p.Status {
-	case db.PlateFailed:
-		v.Status = "failed"
-	case db.PlateDone:
-		v.Status = "done" // stored before River marks the job complete
-	}
-	if v.Status == "failed" || j.State == "retryable" {
-		if len(j.Errors) > 0 {
-			v.Error = j.Errors[len(j.Errors)-1]
-		}
-		if p.Error != "" {
-			v.Error = p.Error
-		}
-	}
+	v.Status, v.Error = db.JobStatus(j, p)
 	c.JSON(http.StatusOK, v)
 }

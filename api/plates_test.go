@@ -274,3 +274,115 @@ func TestPlateJobInterrupted(t *testing.T) {
 		t.Errorf("after the rerun: %d curves, status %s", len(cs), p.Status)
 	}
 }
+
+// Layouts are checked by the same plate rules (without values), and every
+// broken rule of a plate is listed with its pointer or CSV row.
+func TestLayoutAndPlateRules(t *testing.T) {
+	ts := newTestServer(t, dbtest.SQLite(t))
+	wells, _ := invented384(5)
+	layout := func(mod func([]WellJSON)) string {
+		ws := make([]WellJSON, len(wells))
+		for i, w := range wells {
+			w.Value = nil
+			ws[i] = w
+		}
+		mod(ws)
+		b, _ := json.Marshal(LayoutRequest{ID: "l1", Name: "l", Format: 384, Wells: ws})
+		return string(b)
+	}
+	one := 1.0
+	for _, c := range []struct {
+		body, pointer string
+	}{
+		{layout(func(ws []WellJSON) { ws[9].Well = "Q1" }), "/wells/9/well"},
+		{layout(func(ws []WellJSON) { ws[9].Value = &one }), "/wells/9/value"},
+		{layout(func(ws []WellJSON) { ws[4].Conc = nil }), "/wells/4/conc"},
+		{layout(func(ws []WellJSON) { ws[4].AntagonistConc = &one }), "/wells/4/antagonist_id"},
+		{layout(func(ws []WellJSON) {
+			for i := range ws {
+				if ws[i].Role == "max_control" {
+					ws[i].Role = "excluded"
+				}
+			}
+		}), "/wells"},
+	} {
+		w := ts.do("POST", "/v1/layouts", ScopeSubmit, c.body)
+		if p := problemOf(t, w); w.Code != 422 || len(p.Errors) == 0 || p.Errors[0].Pointer != c.pointer {
+			t.Errorf("layout: want 422 at %s, got %d %s", c.pointer, w.Code, w.Body)
+		}
+	}
+	if _, err := ts.store.Layout(context.Background(), "l1"); err == nil {
+		t.Error("an invalid layout was stored")
+	}
+	// Two broken wells: both listed, in order.
+	req := PlateRequest{Barcode: "B", Format: 384, Wells: append([]WellJSON(nil), wells...)}
+	req.Wells[2].CompoundID, req.Wells[30].Role = "", "blank"
+	b, _ := json.Marshal(req)
+	w := ts.do("POST", "/v1/plates", ScopeSubmit, string(b))
+	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 2 || p.Errors[0].Pointer != "/wells/2/compound_id" || p.Errors[1].Pointer != "/wells/30/role" {
+		t.Errorf("two broken wells: %d %s", w.Code, w.Body)
+	}
+	// A CSV sample without a concentration points at its row.
+	csvBody := "well,role,compound_id,conc,value\nA1,max_control,,,100\nA2,max_control,,,100\nA3,min_control,,,0\nA4,min_control,,,0\nA5,sample,X,,50\n"
+	w = ts.do("POST", "/v1/plates?format=96&barcode=B", ScopeSubmit, csvBody, "Content-Type", "text/csv")
+	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 1 || p.Errors[0].Row != 6 || !strings.Contains(p.Errors[0].Detail, "concentration") {
+		t.Errorf("CSV without conc: %d %s", w.Code, w.Body)
+	}
+	// A grid upload takes its concentrations from the layout, in molar.
+	w = ts.do("POST", "/v1/plates?format=384&barcode=B&layout_id=l1&conc_unit=nM", ScopeSubmit, "x", "Content-Type", "text/csv")
+	if p := problemOf(t, w); w.Code != 400 || len(p.Errors) == 0 || p.Errors[0].Parameter != "conc_unit" {
+		t.Errorf("grid with conc_unit: %d %s", w.Code, w.Body)
+	}
+}
+
+// A plate whose min controls are all 0 (background-subtracted data) keeps
+// its QC on both engines: signal/background is reported as unbounded
+// (null with signal_background_unbounded true), the min control's CV,
+// 0/0, as null; the plate passes on its other figures.
+func TestPlateZeroMinControls(t *testing.T) {
+	dbtest.Engines(t, func(t *testing.T, store db.Store) {
+		ts := newTestServer(t, store)
+		startWorkers(t, ts)
+		wells, _ := invented384(6)
+		for i := range wells {
+			if wells[i].Role == "min_control" {
+				zero := 0.0
+				wells[i].Value = &zero
+			}
+		}
+		seed := uint64(3)
+		body, _ := json.Marshal(PlateRequest{Barcode: "LK-BGSUB", Format: 384, Wells: wells,
+			Fit: &PlateFitIn{Bootstrap: &wire.BootstrapIn{Resamples: 50, Seed: &seed}}})
+		w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
+		if w.Code != 200 {
+			t.Fatalf("%d %s", w.Code, w.Body)
+		}
+		var v PlateView
+		json.Unmarshal(w.Body.Bytes(), &v)
+		if v.Status != db.PlateDone || len(v.Curves) != 16 {
+			t.Fatalf("plate %s with %d curves", v.Status, len(v.Curves))
+		}
+		var raw map[string]any
+		if err := json.Unmarshal(v.QC, &raw); err != nil || raw == nil {
+			t.Fatalf("qc %s: %v", v.QC, err)
+		}
+		if sb, ok := raw["signal_background"]; !ok || sb != nil || raw["signal_background_unbounded"] != true {
+			t.Errorf("signal/background: %s", v.QC)
+		}
+		if cv, _ := raw["cv"].(map[string]any); cv == nil || cv["min_control"] != nil || cv["max_control"] == nil {
+			t.Errorf("cv: %s", v.QC)
+		}
+		// Controls 2200 ± 40 vs exactly 0: Z′ = 1 − 3·40/2200 ≈ 0.945.
+		if z, _ := raw["z_prime"].(float64); raw["pass"] != true || math.Abs(z-0.945) > 0.02 {
+			t.Errorf("z_prime %v, pass %v", raw["z_prime"], raw["pass"])
+		}
+		p, err := store.Plate(context.Background(), v.PlateID)
+		if err != nil || !strings.Contains(string(p.QC), `"signal_background_unbounded":true`) {
+			t.Errorf("stored QC %s: %v", p.QC, err)
+		}
+		hm := ts.do("GET", "/v1/plates/"+v.PlateID+"/heatmap.svg", ScopeRead, "")
+		if hm.Code != 200 || !strings.Contains(hm.Body.String(), "QC pass") {
+			t.Errorf("heatmap: %d", hm.Code)
+		}
+	})
+}

@@ -36,10 +36,7 @@ func (s *Server) fitPlot(c *gin.Context) {
 	}
 	parts := []string{res.Model, res.Status}
 	if res.Status == fit.StatusConverged && !math.IsInf(lo, 0) {
-		theta := make([]float64, len(res.Params))
-		for i, p := range res.Params {
-			theta[i] = float64(p.Estimate)
-		}
+		theta := res.Params.Estimates()
 		np := len(theta)
 		cov := make([]float64, np*np)
 		for i := range res.Covariance {

@@ -30,7 +30,7 @@ func TestPotentialFACTS(t *testing.T) {
 	if w.Code != 200 {
 		t.Fatalf("%d %s", w.Code, w.Body)
 	}
-	var out PotentialResponse
+	var out wire.PotentialResponse
 	json.Unmarshal(w.Body.Bytes(), &out)
 	check := func(what string, got, want, tol float64) {
 		if math.Abs(got-want) > tol {
@@ -67,7 +67,7 @@ func TestPotentialPermeabilityAndPreset(t *testing.T) {
 	ts := newTestServer(t, dbtest.SQLite(t))
 	body := strings.Replace(factsPotential, `"reversal_mv": 0`, `"permeability": {"na": 1, "k": 1}`, 1)
 	w := ts.do("POST", "/v1/potential", ScopeRead, body)
-	var out PotentialResponse
+	var out wire.PotentialResponse
 	json.Unmarshal(w.Body.Bytes(), &out)
 	if w.Code != 200 || math.Abs(out.ChannelReversalMV+0.354) > 0.001 {
 		t.Errorf("%d reversal %v: %s", w.Code, out.ChannelReversalMV, w.Body)
@@ -93,7 +93,7 @@ func TestPotentialFromStoredCurve(t *testing.T) {
 	if a.Code != 200 {
 		t.Fatalf("%d %s", a.Code, a.Body)
 	}
-	var out PotentialResponse
+	var out wire.PotentialResponse
 	json.Unmarshal(a.Body.Bytes(), &out)
 	for _, p := range out.Points {
 		if p.CI == nil || !(p.CI.VMV[0] <= p.VMV && p.VMV <= p.CI.VMV[1]) || p.CI.VMV[0] == p.CI.VMV[1] {

@@ -13,6 +13,7 @@ import (
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
+	"sluice/fit/plate"
 )
 
 // Problem is an RFC 9457 problem details object with the fields that went
@@ -55,6 +56,7 @@ var statusTable = []struct {
 	{service.ErrInvalid, http.StatusUnprocessableEntity},
 	{service.ErrTooMuchWork, http.StatusUnprocessableEntity},
 	{fit.ErrInvalidInput, http.StatusUnprocessableEntity},
+	{plate.ErrInvalid, http.StatusUnprocessableEntity},
 	{ingest.ErrBadValue, http.StatusUnprocessableEntity},
 	{ingest.ErrNotNumber, http.StatusUnprocessableEntity},
 	{ingest.ErrMissingColumn, http.StatusUnprocessableEntity},

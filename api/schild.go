@@ -63,10 +63,7 @@ func (s *Server) schildPlot(c *gin.Context) {
 		}
 		cr := res.Curves[i]
 		if cr.Status == fit.StatusConverged {
-			theta := make([]float64, len(cr.Params))
-			for j, p := range cr.Params {
-				theta[j] = float64(p.Estimate)
-			}
+			theta := cr.Params.Estimates()
 			lo, hi := math.Inf(1), math.Inf(-1)
 			for _, x := range ser.PointConc {
 				if x > 0 {

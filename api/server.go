@@ -57,6 +57,7 @@ type Server struct {
 	svc     *service.Service
 	tokens  *tokenCache
 	engine  *gin.Engine
+	ops     *gin.Engine // health and metrics only, for --role worker
 }
 
 // New builds the server and its routes.
@@ -90,6 +91,7 @@ func New(cfg Config, d Deps) (*Server, error) {
 		return nil, err
 	}
 	s.engine = s.routes(reg)
+	s.ops = s.opsRoutes(reg)
 	return s, nil
 }
 

@@ -71,13 +71,16 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 	if err != nil {
 		return s.failPlate(ctx, plateID, err)
 	}
-	qcJSON, _ := json.Marshal(qc)
+	qcJSON, err := json.Marshal(wire.FromQC(qc))
+	if err != nil {
+		return fmt.Errorf("plate %s QC: %w", plateID, err)
+	}
 	specs := plate.Curves(wells, plate.Mode(p.Mode), qc.MeanMax, qc.MeanMin)
 	curves := make([]fit.Curve, len(specs))
 	for i, cs := range specs {
 		curves[i] = cs.Curve
 	}
-	s.store.SetPlateProgress(ctx, plateID, db.PlateRunning, 0, len(curves))
+	s.setProgress(ctx, plateID, 0, len(curves))
 	fs := &fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill}
 	var bs *fit.BootSettings
 	if b := set.Fit.Bootstrap; b != nil {
@@ -105,7 +108,10 @@ func (s *Server) FitPlate(ctx context.Context, plateID string) error {
 		}
 		pc := PlateCurve{Key: specs[i].Key, CompoundID: specs[i].CompoundID, AntagonistID: specs[i].AntagonistID,
 			AntagonistConc: specs[i].AntagonistConc, FitResult: wire.FromFit(r)}
-		b, _ := json.Marshal(pc)
+		b, err := json.Marshal(pc)
+		if err != nil {
+			return fmt.Errorf("plate %s curve %s: %w", plateID, pc.Key, err)
+		}
 		out[i] = db.PlateCurve{Key: pc.Key, CompoundID: pc.CompoundID, AntagonistID: pc.AntagonistID,
 			AntagonistConc: pc.AntagonistConc, Model: string(r.Model), Status: r.Status, Result: b,
 			EngineVersion: fit.EngineVersion, Params: storedParams(r)}
@@ -200,8 +206,14 @@ func (s *Server) plateSchild(ctx context.Context, p *db.Plate, specs []plate.Cur
 		out.ID = p.ID + ":" + k.agonist + ":" + k.antagonist
 		out.PlateID, out.AgonistID, out.AntagonistID = p.ID, k.agonist, k.antagonist
 		out.CreatedAt = s.now().Format(time.RFC3339Nano)
-		b, _ := json.Marshal(out)
-		in, _ := json.Marshal(map[string]any{"plate_id": p.ID, "agonist_id": k.agonist, "antagonist_id": k.antagonist})
+		b, err := json.Marshal(out)
+		if err != nil {
+			return nil, fmt.Errorf("plate %s Schild %s: %w", p.ID, out.ID, err)
+		}
+		in, err := json.Marshal(map[string]any{"plate_id": p.ID, "agonist_id": k.agonist, "antagonist_id": k.antagonist})
+		if err != nil {
+			return nil, fmt.Errorf("plate %s Schild %s input: %w", p.ID, out.ID, err)
+		}
 		runs = append(runs, &db.SchildRun{ID: out.ID, CreatedAt: s.now(), SubmittedBy: p.SubmittedBy, PlateID: p.ID,
 			AgonistID: k.agonist, AntagonistID: k.antagonist, EngineVersion: fit.EngineVersion, InputSHA256: p.InputSHA256,
 			Input: in, Result: b})
@@ -229,11 +241,7 @@ func (s *Server) reportProgress(ctx context.Context, plateID string, progress *f
 			case <-t.C:
 				if n := progress.Curves(); n != last {
 					last = n
-					// Advisory: a failed write is retried on the next tick.
-					if err := s.store.SetPlateProgress(ctx, plateID, db.PlateRunning, n, total); err != nil {
-						s.log.Warn("plate progress", "plate", plateID, "err", err)
-						last = -1
-					}
+					s.setProgress(ctx, plateID, n, total)
 				}
 			}
 		}
@@ -271,4 +279,12 @@ func storedParams(r *fit.Result) []db.FitParam {
 			WaldHi: finite(p.WaldHi), BootLo: finite(p.BootLo), BootHi: finite(p.BootHi), Fixed: p.Fixed, AtBound: p.AtBound}
 	}
 	return ps
+}
+
+// setProgress records a running plate's progress. It is advisory: a
+// failure is logged, and the job goes on.
+func (s *Server) setProgress(ctx context.Context, plateID string, done, total int) {
+	if err := s.store.SetPlateProgress(ctx, plateID, db.PlateRunning, done, total); err != nil && ctx.Err() == nil {
+		s.log.Warn("plate progress", "plate", plateID, "err", err)
+	}
 }

@@ -98,8 +98,15 @@ type Jobs interface {
 	// Job returns a queued job's state.
 	Job(ctx context.Context, id int64) (*Job, error)
 	// StartWorkers starts workers goroutines that take plate jobs and run
-	// work, until StopWorkers.
+	// work, until StopWorkers: StartHandlers with only Plate.
 	StartWorkers(ctx context.Context, work WorkFunc, workers int) error
+	// StartHandlers starts workers goroutines that take the jobs of every
+	// kind with a handler, until StopWorkers or Close. Jobs run with a
+	// context of their own: cancelling ctx does not stop them.
+	StartHandlers(ctx context.Context, h Handlers, workers int) error
+	// StopWorkers stops taking jobs and lets running ones finish until ctx
+	// is done (the grace period); then it cancels them, so that River
+	// hands them back to be retried, and returns an error saying so.
 	StopWorkers(ctx context.Context) error
 }
 
@@ -134,6 +141,10 @@ type Writer interface {
 	// that a stored plate always has its job, and returns the job's ID
 	// (store it as the plate's JobID).
 	EnqueuePlateFit(ctx context.Context, plateID string) (int64, error)
+	// EnqueueAnalysis queues a single analysis (e.g. "fit", "potential")
+	// of the record id, stored in this transaction, for a worker's
+	// Handlers.Analysis; it returns the job's ID.
+	EnqueueAnalysis(ctx context.Context, analysis, id string) (int64, error)
 	// FinishPlate stores a plate's curves (keeping any stored by an
 	// earlier attempt) and its final status, QC and error.
 	FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error

@@ -20,6 +20,7 @@ type WellIn struct {
 	Role           string
 	CompoundID     string
 	Conc           float64
+	HasConc        bool
 	Value          float64
 	HasValue       bool
 	AntagonistID   string
@@ -43,7 +44,7 @@ func ReadPlateCSV(r io.Reader) ([]WellIn, error) {
 		w.CompoundID, _, _ = row.text("compound_id")
 		w.AntagonistID, _, _ = row.text("antagonist_id")
 		var err error
-		if w.Conc, _, err = row.number("conc", false); err != nil {
+		if w.Conc, w.HasConc, err = row.number("conc", false); err != nil {
 			return err
 		}
 		if w.Value, w.HasValue, err = row.number("value", false); err != nil {

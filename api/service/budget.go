@@ -2,27 +2,32 @@ package service
 
 import (
 	"errors"
-	"math"
+
+	"sluice/fit/cost"
 )
 
-// Budget bounds the work of one request, in the units of the cost
-// functions of the numerics (fit.Cost, schild.Cost, membrane.Cost).
+// Budget bounds the work of one request, in the units of the numerics'
+// cost model (package fit/cost: fit.Cost, schild.Cost, membrane.Cost; one
+// unit is about cost.NanosecondsPerUnit of one core).
 type Budget struct {
 	// Sync is the most work a request may do before it answers; a request
 	// over it goes to the job queue. Zero means DefaultSyncBudget; range
 	// (0, Hard].
-	Sync float64
+	Sync cost.Work
 	// Hard is the most work any request may ask for; over it the request
 	// is refused with ErrTooMuchWork naming the field that drives the
 	// cost. Zero means DefaultHardLimit; range [Sync, +Inf).
-	Hard float64
+	Hard cost.Work
 }
 
-// Default budgets. Provisional until the cost functions land: no request
-// is over them.
+// Default budgets, at cost.NanosecondsPerUnit = 40: about 1 s of one core
+// for a synchronous answer (a B = 1000 bootstrap of a 30-point curve is
+// about 3.4e5 units, 14 ms), and about 30 s for any request (a potential
+// band over 1 000 draws at 10 000 concentrations with the Mg²⁺ block is
+// about 1.4e9 units; B = 100 000 on 100 000 levels would take days).
 const (
-	DefaultSyncBudget = math.MaxFloat64
-	DefaultHardLimit  = math.MaxFloat64
+	DefaultSyncBudget cost.Work = 25_000_000
+	DefaultHardLimit  cost.Work = 750_000_000
 )
 
 func (b Budget) resolve() (Budget, error) {
@@ -36,4 +41,15 @@ func (b Budget) resolve() (Budget, error) {
 		return b, errors.New("service: Budget: want 0 < Sync ≤ Hard")
 	}
 	return b, nil
+}
+
+// admit refuses work over the hard limit with ErrTooMuchWork naming the
+// field that drives it. Work over the synchronous budget is still answered
+// synchronously: the job kind that would take it has not landed.
+func (b Budget) admit(w cost.Work, field string) error {
+	if w > b.Hard {
+		return TooMuchWork(field, "this request is about %.3g units of work (%.0f s of one core), more than the limit of %.3g; "+
+			"reduce %s", float64(w), w.Seconds(), float64(b.Hard), field)
+	}
+	return nil
 }

@@ -29,6 +29,7 @@ type fitInput struct {
 	settings fit.Settings
 	boot     *fit.BootSettings
 	store    bool
+	free     int // parameters estimated
 }
 
 // validateFit checks a request and converts it; every error points at a
@@ -83,6 +84,7 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 			return nil, Invalid("/labels/"+EscapePointer(k), "label names must be 1–%d bytes and values at most %d", MaxLabelLength, MaxLabelLength)
 		}
 	}
+	in.free = free
 	in.settings = fit.Settings{Model: model, Fixed: req.Fixed, Confidence: req.Confidence, MaxHill: req.MaxHill}
 	if b := req.Bootstrap; b != nil {
 		in.boot = &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval),
@@ -94,6 +96,17 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 		in.boot.Seed = *b.Seed
 	}
 	return in, nil
+}
+
+// admitFit checks a fit's work (fit.Cost) against the budget, naming the
+// bootstrap's resamples when they drive it and the points otherwise.
+func (s *Service) admitFit(in *fitInput) error {
+	curves := []fit.Curve{in.curve}
+	w, field := fit.CostOf(curves, in.free, in.boot), "/points"
+	if in.boot != nil && w > 2*fit.CostOf(curves, in.free, nil) {
+		field = "/bootstrap/resamples"
+	}
+	return s.budget.admit(w, field)
 }
 
 // checkRefs checks that the records a fit names exist.
@@ -130,6 +143,9 @@ func (s *Service) Fit(ctx context.Context, who Caller, idem *Idem, req *wire.Fit
 	return s.write(ctx, who, idem, func(ctx context.Context) (commitFunc, error) {
 		in, err := s.validateFit(req)
 		if err != nil {
+			return nil, err
+		}
+		if err := s.admitFit(in); err != nil {
 			return nil, err
 		}
 		if err := s.checkRefs(ctx, req); err != nil {
@@ -209,6 +225,11 @@ func (s *Service) newFitRun(who Caller, req *wire.FitRequest, raw []byte, res *f
 		if run.Labels, err = json.Marshal(req.Labels); err != nil {
 			return nil, fmt.Errorf("encode labels: %w", err)
 		}
+	}
+	if res.Boot != nil {
+		// The draws, so that a prediction from this fit (the potential
+		// band) reuses them instead of refitting.
+		run.BootCols, run.BootDraws = len(res.Params), res.Boot.Draws
 	}
 	for _, p := range res.Params {
 		run.Params = append(run.Params, db.FitParam{Name: p.Name, Estimate: finite(p.Estimate), SE: finite(p.SE),

@@ -103,6 +103,13 @@ func (s *Service) CreateSchild(ctx context.Context, who Caller, idem *Idem, req 
 		if err != nil {
 			return nil, err
 		}
+		w, field := schild.Cost(curves, set), "/curves"
+		if set.Resamples > 0 && w > 2*schild.Cost(curves, &schild.Settings{Confidence: set.Confidence}) {
+			field = "/bootstrap/resamples"
+		}
+		if err := s.budget.admit(w, field); err != nil {
+			return nil, err
+		}
 		res, err := s.analyzeSchild(ctx, curves, set)
 		if err != nil {
 			return nil, err

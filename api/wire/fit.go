@@ -49,6 +49,16 @@ type NamedParam struct {
 // Params encodes as a JSON object whose keys keep the model's parameter order.
 type Params []NamedParam
 
+// Estimates returns the estimates in order: the parameter vector of the
+// model (fit.Model.Value and the role accessors read it).
+func (ps Params) Estimates() []float64 {
+	theta := make([]float64, len(ps))
+	for i, p := range ps {
+		theta[i] = float64(p.Estimate)
+	}
+	return theta
+}
+
 // MarshalJSON writes {"bottom": {...}, "top": {...}, ...} in order.
 func (ps Params) MarshalJSON() ([]byte, error) {
 	var b bytes.Buffer

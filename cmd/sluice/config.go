@@ -10,6 +10,7 @@ import (
 
 	"strconv"
 	"strings"
+	"time"
 )
 
 // serveConfig is the effective configuration of `sluice serve`: defaults,
@@ -25,7 +26,23 @@ type serveConfig struct {
 	LogLevel     string // SLUICE_LOG_LEVEL, --log-level
 	FitWorkers   int    // SLUICE_FIT_WORKERS, --fit-workers
 	Role         string // SLUICE_ROLE, --role: api, worker or all
+	// SkipMigrations (SLUICE_MIGRATE=false, --migrate=false) lets API
+	// replicas skip the store's migrations at start and only check that
+	// `sluice migrate` has run. The zero value (the default) migrates.
+	SkipMigrations bool
+	// ShutdownGrace (SLUICE_SHUTDOWN_GRACE, --shutdown-grace) is how long a
+	// SIGTERM or SIGINT lets running plate jobs and HTTP requests finish
+	// before they are cancelled (a cancelled job is retried later, by this
+	// or another worker). Zero cancels them at once; range 0–1h; default
+	// 30s, inside Kubernetes' default termination grace period.
+	ShutdownGrace time.Duration
 }
+
+// Bounds and default of --shutdown-grace.
+const (
+	defaultShutdownGrace = 30 * time.Second
+	maxShutdownGrace     = time.Hour
+)
 
 // maxBodyLimit bounds --body-limit.
 const maxBodyLimit = 1 << 30
@@ -51,6 +68,10 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	if err != nil {
 		errs = append(errs, fmt.Errorf("SLUICE_FIT_WORKERS: %q is not a whole number", getenv("SLUICE_FIT_WORKERS")))
 	}
+	grace, err := time.ParseDuration(envOr(getenv, "SLUICE_SHUTDOWN_GRACE", defaultShutdownGrace.String()))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_SHUTDOWN_GRACE: %q is not a duration (e.g. 30s)", getenv("SLUICE_SHUTDOWN_GRACE")))
+	}
 	auth := true
 	switch v := strings.ToLower(getenv("SLUICE_AUTH")); v {
 	case "", "on", "true", "1":
@@ -59,6 +80,10 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	default:
 		errs = append(errs, fmt.Errorf("SLUICE_AUTH: %q is not on or off", v))
 	}
+	migrate, err := parseBool(getenv("SLUICE_MIGRATE"), true)
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_MIGRATE: %v", err))
+	}
 	fs.StringVar(&c.Addr, "addr", envOr(getenv, "SLUICE_ADDR", "127.0.0.1:8080"), "listen address (SLUICE_ADDR)")
 	fs.StringVar(&c.DataDir, "data", envOr(getenv, "SLUICE_DATA", "./sluice-data"), "data directory of the embedded store (SLUICE_DATA)")
 	fs.Int64Var(&c.BodyLimit, "body-limit", limit, "largest request body in bytes (SLUICE_BODY_LIMIT)")
@@ -66,7 +91,9 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.BoolVar(&c.Demo, "demo", false, "load the invented demo scenario if the store has none")
 	fs.StringVar(&c.LogLevel, "log-level", envOr(getenv, "SLUICE_LOG_LEVEL", "info"), "debug, info, warn or error (SLUICE_LOG_LEVEL)")
 	fs.IntVar(&c.FitWorkers, "fit-workers", workers, "goroutines per bootstrap; 0 = one per CPU (SLUICE_FIT_WORKERS)")
+	fs.BoolVar(&migrate, "migrate", migrate, "apply the store's migrations at start; false only checks they were applied (SLUICE_MIGRATE)")
 	fs.StringVar(&c.Role, "role", envOr(getenv, "SLUICE_ROLE", "all"), "api (HTTP only), worker (plate jobs; HTTP for health and metrics) or all (SLUICE_ROLE)")
+	fs.DurationVar(&c.ShutdownGrace, "shutdown-grace", grace, "on SIGTERM, how long running plate jobs and requests may finish (SLUICE_SHUTDOWN_GRACE)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -74,6 +101,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 		errs = append(errs, fmt.Errorf("unexpected arguments %q", fs.Args()))
 	}
 	c.AuthDisabled = !auth
+	c.SkipMigrations = !migrate
 	c.DatabaseURL = getenv("SLUICE_DATABASE_URL")
 	c.AdminToken = getenv("SLUICE_ADMIN_TOKEN")
 	errs = append(errs, c.validate()...)
@@ -97,6 +125,9 @@ func (c *serveConfig) validate() []error {
 	if c.Role != "api" && c.Role != "worker" && c.Role != "all" {
 		errs = append(errs, fmt.Errorf("--role / SLUICE_ROLE: %q is not api, worker or all", c.Role))
 	}
+	if c.ShutdownGrace < 0 || c.ShutdownGrace > maxShutdownGrace {
+		errs = append(errs, fmt.Errorf("--shutdown-grace / SLUICE_SHUTDOWN_GRACE: %v is outside 0–%v", c.ShutdownGrace, maxShutdownGrace))
+	}
 	if c.FitWorkers < 0 {
 		errs = append(errs, fmt.Errorf("--fit-workers / SLUICE_FIT_WORKERS: %d is negative", c.FitWorkers))
 	}
@@ -115,6 +146,19 @@ func (c *serveConfig) validate() []error {
 		errs = append(errs, errors.New("SLUICE_ADMIN_TOKEN: shorter than 16 characters"))
 	}
 	return errs
+}
+
+// parseBool reads an on/off variable; "" is def.
+func parseBool(v string, def bool) (bool, error) {
+	switch strings.ToLower(v) {
+	case "":
+		return def, nil
+	case "on", "true", "1":
+		return true, nil
+	case "off", "false", "0":
+		return false, nil
+	}
+	return def, fmt.Errorf("%q is not true or false", v)
 }
 
 func isLoopback(host string) bool {
@@ -145,7 +189,8 @@ func (c *serveConfig) logAttrs() []any {
 		admin = "set (hidden)"
 	}
 	return []any{"addr", c.Addr, "store", store, "body_limit", c.BodyLimit, "auth", !c.AuthDisabled,
-		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role}
+		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role,
+		"shutdown_grace", c.ShutdownGrace.String(), "migrate", !c.SkipMigrations}
 }
 
 // redactURL hides a URL's password.

@@ -7,6 +7,7 @@ import (
 	"io"
 	"strings"
 	"testing"
+	"time"
 )
 
 func env(m map[string]string) func(string) string { return func(k string) string { return m[k] } }
@@ -20,7 +21,7 @@ func TestServeConfig(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if c.Addr != "127.0.0.1:9999" || c.BodyLimit != 2048 || c.AuthDisabled {
+	if c.Addr != "127.0.0.1:9999" || c.BodyLimit != 2048 || c.AuthDisabled || c.ShutdownGrace != 30*time.Second {
 		t.Errorf("flags over environment: %+v", c)
 	}
 	attrs := fmtAttrs(c.logAttrs())
@@ -46,6 +47,9 @@ func TestServeConfigErrorsNameTheField(t *testing.T) {
 		{[]string{"--log-level", "chatty"}, nil, "--log-level"},
 		{nil, map[string]string{"SLUICE_ADMIN_TOKEN": "short"}, "SLUICE_ADMIN_TOKEN"},
 		{nil, map[string]string{"SLUICE_AUTH": "maybe"}, "SLUICE_AUTH"},
+		{[]string{"--shutdown-grace", "-1s"}, nil, "--shutdown-grace / SLUICE_SHUTDOWN_GRACE"},
+		{[]string{"--shutdown-grace", "2h"}, nil, "--shutdown-grace / SLUICE_SHUTDOWN_GRACE"},
+		{nil, map[string]string{"SLUICE_SHUTDOWN_GRACE": "soon"}, "SLUICE_SHUTDOWN_GRACE"},
 	}
 	for _, c := range cases {
 		fs := flag.NewFlagSet("serve", flag.ContinueOnError)

@@ -1,6 +1,8 @@
 package main
 
 import (
+	"bytes"
+	"context"
 	"encoding/json"
 	"errors"
 	"flag"
@@ -9,7 +11,8 @@ import (
 	"os"
 	"text/tabwriter"
 
-	"sluice/api"
+	"sluice/api/service"
+	"sluice/api/wire"
 )
 
 // runPotential is `sluice potential FILE|-`: the POST /v1/potential
@@ -47,10 +50,17 @@ func runPotential(args []string, stdin io.Reader, stdout, stderr io.Writer) int 
 		fmt.Fprintf(stderr, "sluice potential: %v\n", err)
 		return 2
 	}
-	out, err := api.ComputePotential(body)
+	var req wire.PotentialRequest
+	dec := json.NewDecoder(bytes.NewReader(body))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&req); err != nil {
+		fmt.Fprintf(stderr, "sluice potential: %s: %v\n", pos[0], err)
+		return 2
+	}
+	out, err := service.PredictPotential(context.Background(), &req, service.Budget{}, 0)
 	if err != nil {
-		if f := api.FieldOf(err); f != "" {
-			fmt.Fprintf(stderr, "sluice potential: %s: %v\n", f, err)
+		if fs := service.FieldsOf(err); len(fs) > 0 && fs[0].Pointer != "" {
+			fmt.Fprintf(stderr, "sluice potential: %s: %v\n", fs[0].Pointer, err)
 		} else {
 			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
 		}
@@ -62,8 +72,8 @@ func runPotential(args []string, stdin io.Reader, stdout, stderr io.Writer) int 
 			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
 			return 1
 		}
-		api.PotentialPlot(out).Write(f)
-		if err := f.Close(); err != nil {
+		werr := service.PotentialFigure(out).Write(f)
+		if err := errors.Join(werr, f.Close()); err != nil {
 			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
 			return 1
 		}
@@ -71,7 +81,10 @@ func runPotential(args []string, stdin io.Reader, stdout, stderr io.Writer) int 
 	if *format == "json" {
 		enc := json.NewEncoder(stdout)
 		enc.SetIndent("", "  ")
-		enc.Encode(out)
+		if err := enc.Encode(out); err != nil {
+			fmt.Fprintf(stderr, "sluice potential: write: %v\n", err)
+			return 1
+		}
 		return 0
 	}
 	fmt.Fprintf(stdout, "rest %.3f mV, channel reversal %.3f mV\n\n", out.RestMV, out.ChannelReversalMV)

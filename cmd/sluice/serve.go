@@ -33,13 +33,34 @@ func runServe(args []string, getenv func(string) string, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "sluice serve: configuration:\n%v\n", err)
 		return 2
 	}
-	level, _ := parseLevel(cfg.LogLevel)
+	level, _ := parseLevel(cfg.LogLevel) // validated by loadServeConfig
 	log := slog.New(slog.NewJSONHandler(stderr, &slog.HandlerOptions{Level: level}))
 	log.Info("starting", cfg.logAttrs()...)
 
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	store, err := db.Open(ctx, cfg.DatabaseURL, cfg.DataDir)
+	go func() {
+		// After the first signal, a second one ends the process at once.
+		<-ctx.Done()
+		stop()
+	}()
+	ln, err := net.Listen("tcp", cfg.Addr)
+	if err != nil {
+		log.Error("listen", "addr", cfg.Addr, "err", err)
+		return 1
+	}
+	return serve(ctx, cfg, ln, log)
+}
+
+// serve runs the server on ln until ctx is done, then shuts down: the
+// listener closes, and running HTTP requests and plate jobs get
+// cfg.ShutdownGrace to finish (River's soft stop: no new job is fetched);
+// what is still running then is cancelled, and a cancelled job is retried
+// later. With --role worker, HTTP serves only /healthz, /readyz and
+// /metrics.
+func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Logger) int {
+	defer ln.Close() // closed already by Shutdown, unless serving never began
+	store, err := db.OpenWith(ctx, cfg.DatabaseURL, cfg.DataDir, db.Options{SkipMigrations: cfg.SkipMigrations})
 	if err != nil {
 		log.Error("open store", "err", err)
 		return 1
@@ -65,51 +86,65 @@ func runServe(args []string, getenv func(string) string, stderr io.Writer) int {
 		log.Error("build server", "err", err)
 		return 1
 	}
-	if cfg.Role != "api" {
+	handler := srv.Handler()
+	if cfg.Role == "worker" {
+		handler = srv.OpsHandler()
+	}
+	workers := cfg.Role != "api"
+	if workers {
+		// Jobs run on a context the signal does not cancel (cancelling
+		// River's start context is its hard stop); StopWorkers below
+		// ends them softly.
 		// Two plates at a time: each already fits its curves on every core.
-		if err := store.StartWorkers(ctx, srv.FitPlate, 2); err != nil {
+		if err := store.StartWorkers(context.WithoutCancel(ctx), srv.FitPlate, 2); err != nil {
 			log.Error("start workers", "err", err)
 			return 1
 		}
-		defer func() {
-			stopCtx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
-			defer cancel()
-			store.StopWorkers(stopCtx)
-		}()
 		log.Info("plate workers started")
 	}
 	hs := &http.Server{
-		Addr:              cfg.Addr,
-		Handler:           srv.Handler(),
+		Handler:           handler,
 		ReadHeaderTimeout: 10 * time.Second,
 		ReadTimeout:       60 * time.Second,
 		WriteTimeout:      5 * time.Minute, // a large bootstrap is computed before the reply
 		IdleTimeout:       2 * time.Minute,
 		ErrorLog:          slog.NewLogLogger(log.Handler(), slog.LevelWarn),
 	}
-	ln, err := net.Listen("tcp", cfg.Addr)
-	if err != nil {
-		log.Error("listen", "addr", cfg.Addr, "err", err)
-		return 1
-	}
-	log.Info("listening", "addr", ln.Addr().String(), "store", store.Engine())
+	log.Info("listening", "addr", ln.Addr().String(), "store", store.Engine(), "role", cfg.Role)
 	errc := make(chan error, 1)
 	go func() { errc <- hs.Serve(ln) }()
+	code := 0
 	select {
 	case err := <-errc:
 		log.Error("serve", "err", err)
-		return 1
+		code = 1
 	case <-ctx.Done():
+		log.Info("shutting down", "grace", cfg.ShutdownGrace.String())
 	}
-	log.Info("shutting down")
-	shutCtx, cancel := context.WithTimeout(context.Background(), 30*time.Second)
+	graceCtx, cancel := context.WithTimeout(context.Background(), cfg.ShutdownGrace)
 	defer cancel()
-	if err := hs.Shutdown(shutCtx); err != nil {
-		log.Error("shutdown", "err", err)
-		return 1
+	// HTTP and the workers drain side by side, within one grace period.
+	stopped := make(chan error, 1)
+	go func() {
+		if !workers {
+			stopped <- nil
+			return
+		}
+		stopped <- store.StopWorkers(graceCtx)
+	}()
+	if err := hs.Shutdown(graceCtx); err != nil {
+		log.Error("HTTP shutdown: requests cut off after the grace period", "err", err)
+		if cerr := hs.Close(); cerr != nil {
+			log.Error("HTTP close", "err", cerr)
+		}
+		code = 1
+	}
+	if err := <-stopped; err != nil {
+		log.Error("stop plate workers", "err", err)
+		code = 1
 	}
 	log.Info("stopped")
-	return 0
+	return code
 }
 
 // seedAdminToken makes SLUICE_ADMIN_TOKEN a valid admin token named
@@ -127,7 +162,8 @@ func storeFlags(fs *flag.FlagSet, getenv func(string) string) *string {
 	return fs.String("data", envOr(getenv, "SLUICE_DATA", "./sluice-data"), "data directory of the embedded store (SLUICE_DATA)")
 }
 
-// runMigrate is `sluice migrate`: apply the migrations and exit.
+// runMigrate is `sluice migrate`: apply the migrations (under a lock on
+// PostgreSQL) and exit.
 func runMigrate(args []string, getenv func(string) string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("migrate", flag.ContinueOnError)
 	fs.SetOutput(stderr)
@@ -135,64 +171,15 @@ func runMigrate(args []string, getenv func(string) string, stdout, stderr io.Wri
 	if err := fs.Parse(args); err != nil {
 		return 2
 	}
-	store, err := db.Open(context.Background(), getenv("SLUICE_DATABASE_URL"), *data)
-	if err != nil {
+	url := getenv("SLUICE_DATABASE_URL")
+	if err := db.Migrate(context.Background(), url, *data, 0); err != nil {
 		fmt.Fprintf(stderr, "sluice migrate: %v\n", err)
 		return 1
 	}
-	defer store.Close()
-	fmt.Fprintf(stdout, "sluice migrate: %s store is up to date\n", store.Engine())
-	return 0
-}
-
-// runToken is `sluice token create --scope S --name N`: print a new token
-// once; only its hash is stored.
-func runToken(args []string, getenv func(string) string, stdout, stderr io.Writer) int {
-	if len(args) == 0 || args[0] != "create" {
-		fmt.Fprintln(stderr, "usage: sluice token create --scope read|submit|admin --name NAME")
-		return 2
+	engine := "sqlite"
+	if url != "" {
+		engine = "postgres"
 	}
-	fs := flag.NewFlagSet("token create", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	scope := fs.String("scope", api.ScopeRead, "read, submit or admin")
-	name := fs.String("name", "", "a name for the token, e.g. pipeline-3 (shown in the audit log)")
-	data := storeFlags(fs, getenv)
-	if err := fs.Parse(args[1:]); err != nil {
-		return 2
-	}
-	if !api.ValidScope(*scope) {
-		fmt.Fprintf(stderr, "sluice token create: --scope: %q is not read, submit or admin\n", *scope)
-		return 2
-	}
-	if *name == "" {
-		fmt.Fprintln(stderr, "sluice token create: --name is required")
-		return 2
-	}
-	ctx := context.Background()
-	store, err := db.Open(ctx, getenv("SLUICE_DATABASE_URL"), *data)
-	if err != nil {
-		fmt.Fprintf(stderr, "sluice token create: %v\n", err)
-		return 1
-	}
-	defer store.Close()
-	secret, hash := api.NewToken()
-	now := time.Now().UTC()
-	err = store.Write(ctx, func(w db.Writer) error {
-		if err := w.InsertToken(ctx, &db.Token{ID: hash[:16], Name: *name, Scope: *scope, Hash: hash, CreatedAt: now}); err != nil {
-			return err
-		}
-		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: "cli", Action: "token.create", Target: *name,
-			Detail: []byte(fmt.Sprintf(`{"scope":%q}`, *scope))})
-	})
-	if errors.Is(err, db.ErrExists) {
-		fmt.Fprintf(stderr, "sluice token create: a token named %q exists; choose another name\n", *name)
-		return 2
-	}
-	if err != nil {
-		fmt.Fprintf(stderr, "sluice token create: %v\n", err)
-		return 1
-	}
-	fmt.Fprintln(stdout, secret)
-	fmt.Fprintf(stderr, "token %q (scope %s) created; it is shown only this once\n", *name, *scope)
+	fmt.Fprintf(stdout, "sluice migrate: %s store is up to date\n", engine)
 	return 0
 }

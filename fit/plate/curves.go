@@ -1,7 +1,6 @@
 package plate
 
 import (
-	"fmt"
 	"sort"
 	"strconv"
 
@@ -72,23 +71,4 @@ func Curves(wells []PlateWell, mode Mode, meanMax, meanMin float64) []CurveSpec 
 	}
 	sort.Slice(out, func(a, b int) bool { return out[a].Key < out[b].Key })
 	return out
-}
-
-// CheckLayout reports the first inconsistency of a plate's wells: a well
-// given twice, a sample without a compound or concentration.
-func CheckLayout(f Format, wells []PlateWell) (index int, err error) {
-	seen := map[Well]int{}
-	for i, w := range wells {
-		if j, dup := seen[w.Well]; dup {
-			return i, fmt.Errorf("well %s appears twice (entries %d and %d)", f.Name(w.Well), j, i)
-		}
-		seen[w.Well] = i
-		if (w.Role == Sample || w.Role == Reference) && w.CompoundID == "" {
-			return i, fmt.Errorf("well %s: a %s well needs a compound_id", f.Name(w.Well), w.Role)
-		}
-		if w.AntagonistID == "" && w.AntagonistConc != 0 {
-			return i, fmt.Errorf("well %s: antagonist_conc without antagonist_id", f.Name(w.Well))
-		}
-	}
-	return 0, nil
 }

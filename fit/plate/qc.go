@@ -61,10 +61,14 @@ func (t Thresholds) resolved() Thresholds {
 	return t
 }
 
-// QC is a plate's quality.
+// QC is a plate's quality. Figures may be non-finite: SignalBackground is
+// +Inf when the min controls' mean is 0 (normal for background-subtracted
+// data) and NaN when both means are 0; a CV is NaN when its mean is 0.
+// The wire form (api/wire.PlateQC) encodes them as null.
 type QC struct {
-	ZPrime           float64            `json:"z_prime"`
-	SignalWindow     float64            `json:"signal_window"`
+	ZPrime       float64 `json:"z_prime"`
+	SignalWindow float64 `json:"signal_window"`
+	// SignalBackground is μmax/μmin.
 	SignalBackground float64            `json:"signal_background"`
 	CV               map[string]float64 `json:"cv"`
 	MeanMax, MeanMin float64            `json:"-"`

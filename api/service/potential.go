@@ -1,0 +1,336 @@
+package service
+
+import (
+	"bytes"
+	"context"
+	"fmt"
+	"math"
+	"net/http"
+	"strings"
+
+	"sluice/api/plot"
+	"sluice/api/wire"
+	"sluice/fit"
+	"sluice/fit/cost"
+	"sluice/fit/membrane"
+)
+
+// MaxAgonistConcs bounds agonist_conc.
+const MaxAgonistConcs = 10000
+
+// potentialModel is a validated potential request.
+type potentialModel struct {
+	rest     []membrane.Conductance
+	ch       membrane.Channel
+	nernst   map[string]float64
+	po       func(float64) float64
+	draws    []func(float64) float64
+	conf     float64
+	cautions []string
+}
+
+func finiteNum(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+// potentialCell builds the request's cell (a preset overridden field by
+// field, or every field) and has membrane validate it.
+func potentialCell(req *wire.PotentialRequest, m *potentialModel) (membrane.Cell, error) {
+	cell := membrane.Cell{Ions: membrane.Ions{}, Resting: map[string]float64{}}
+	if req.Cell.Preset != "" {
+		p, ok := membrane.Presets[req.Cell.Preset]
+		if !ok {
+			return cell, Invalid("/cell/preset", "unknown preset %q (want neuron or muscle)", req.Cell.Preset)
+		}
+		cell.TempC = p.TempC
+		for k, v := range p.Ions {
+			cell.Ions[k] = v
+		}
+		for k, v := range p.Resting {
+			cell.Resting[k] = v
+		}
+		m.cautions = append(m.cautions, "The "+req.Cell.Preset+" preset uses textbook concentrations and illustrative "+
+			"resting conductances (some from memory); enter measured values for a real cell.")
+	}
+	if t := req.Cell.TemperatureC; t != nil {
+		cell.TempC = *t
+	} else if req.Cell.Preset == "" {
+		return cell, Invalid("/cell/temperature_c", "temperature_c is required without a preset")
+	}
+	for name, ion := range req.Cell.Ions {
+		cell.Ions[name] = membrane.Ion{Name: name, Valence: membrane.Valences[name], Out: ion.Out, In: ion.In}
+	}
+	for name, g := range req.Cell.RestingConductanceNS {
+		cell.Resting[name] = g
+	}
+	if err := cell.Validate(); err != nil {
+		ce := err.(*membrane.CellError)
+		ptr := "/cell"
+		for _, tok := range strings.SplitN(ce.Field, ".", 2) {
+			ptr += "/" + EscapePointer(tok)
+		}
+		return cell, Invalid(ptr, "%v", ce.Err)
+	}
+	return cell, nil
+}
+
+// potentialChannel checks the channel; its reversal potential is given or
+// comes from permeabilities by GHK.
+func potentialChannel(req *wire.PotentialRequest, cell membrane.Cell, m *potentialModel) error {
+	ch := req.Channel
+	if !finiteNum(ch.Count) || ch.Count <= 0 {
+		return Invalid("/channel/count", "count must be > 0")
+	}
+	if !finiteNum(ch.ConductancePS) || ch.ConductancePS <= 0 || ch.ConductancePS > 1000 {
+		return Invalid("/channel/conductance_ps", "conductance must be > 0 and ≤ 1000 pS")
+	}
+	if !finiteNum(ch.MgMM) || ch.MgMM < 0 || ch.MgMM > 100 {
+		return Invalid("/channel/mg_mm", "Mg²⁺ must be 0–100 mM")
+	}
+	m.ch = membrane.Channel{Count: ch.Count, ConductancePS: ch.ConductancePS, MgOut: ch.MgMM}
+	switch {
+	case ch.ReversalMV != nil && ch.Permeability != nil:
+		return Invalid("/channel", "give reversal_mv or permeability, not both")
+	case ch.ReversalMV != nil:
+		if !finiteNum(*ch.ReversalMV) || math.Abs(*ch.ReversalMV) > 300 {
+			return Invalid("/channel/reversal_mv", "reversal potential must be within ±300 mV")
+		}
+		m.ch.Reversal = *ch.ReversalMV
+	case ch.Permeability != nil:
+		for name, p := range ch.Permeability {
+			ptr := "/channel/permeability/" + EscapePointer(name)
+			if _, ok := membrane.Valences[name]; !ok {
+				return Invalid(ptr, "unknown ion %q", name)
+			}
+			if !finiteNum(p) || p < 0 {
+				return Invalid(ptr, "permeability must be ≥ 0")
+			}
+			if _, ok := cell.Ions[name]; !ok && p > 0 {
+				return Invalid(ptr, "no concentrations for %s in cell.ions", name)
+			}
+		}
+		v, err := membrane.GHKVoltage(cell.Ions, ch.Permeability, cell.TempC)
+		if err != nil {
+			return Invalid("/channel/permeability", "%v", err)
+		}
+		m.ch.Reversal = v
+	default:
+		return Invalid("/channel", "give reversal_mv or permeability")
+	}
+	if m.ch.MgOut > 0 {
+		m.cautions = append(m.cautions, "The Mg²⁺ block uses B(V) = 1/(1 + [Mg]/3.57·e^(−0.062·V)) "+
+			"(Jahr & Stevens 1990; constants from memory).")
+	}
+	return nil
+}
+
+// validatePotential checks everything but a stored curve; errors point at
+// the field.
+func validatePotential(req *wire.PotentialRequest) (*potentialModel, error) {
+	m := &potentialModel{}
+	cell, err := potentialCell(req, m)
+	if err != nil {
+		return nil, err
+	}
+	m.rest = cell.RestingConductances()
+	m.nernst = map[string]float64{}
+	for _, ion := range cell.Ions.Sorted() {
+		m.nernst[ion.Name] = membrane.Nernst(ion.Valence, ion.Out, ion.In, cell.TempC)
+	}
+	if err := potentialChannel(req, cell, m); err != nil {
+		return nil, err
+	}
+	if len(req.AgonistConc) == 0 || len(req.AgonistConc) > MaxAgonistConcs {
+		return nil, Invalid("/agonist_conc", "give 1–%d concentrations (molar)", MaxAgonistConcs)
+	}
+	for i, c := range req.AgonistConc {
+		if !finiteNum(c) || c < 0 {
+			return nil, Invalid(fmt.Sprintf("/agonist_conc/%d", i), "concentration must be a finite number ≥ 0 M")
+		}
+	}
+	switch {
+	case req.CurveID != "" && req.Hill != nil:
+		return nil, Invalid("/hill", "give curve_id or hill, not both")
+	case req.Hill != nil:
+		h := req.Hill
+		if h.LogEC50 == nil || !finiteNum(*h.LogEC50) || *h.LogEC50 < -15 || *h.LogEC50 > 1 {
+			return nil, Invalid("/hill/log_ec50", "log_ec50 (log10 molar) is required, −15 to 1")
+		}
+		if h.Hill == nil || !finiteNum(*h.Hill) || *h.Hill <= 0 || *h.Hill > 20 {
+			return nil, Invalid("/hill/hill", "hill is required, > 0 (an agonist curve) and ≤ 20")
+		}
+		if h.PoMax == nil || !(*h.PoMax > 0) || *h.PoMax > 1 {
+			return nil, Invalid("/hill/po_max", "po_max is required, in (0, 1]")
+		}
+		r := fit.Hill.Roles()
+		theta := make([]float64, len(fit.Hill.Params()))
+		theta[r.Bottom], theta[r.Top], theta[r.LogEC50], theta[r.Hill] = 0, *h.PoMax, *h.LogEC50, *h.Hill
+		m.po = func(c float64) float64 { return fit.Hill.Value(theta, c) }
+	case req.CurveID != "":
+		if req.PoMax != nil && (!(*req.PoMax > 0) || *req.PoMax > 1) {
+			return nil, Invalid("/po_max", "po_max must be in (0, 1]")
+		}
+	default:
+		return nil, Invalid("/hill", "give curve_id or hill")
+	}
+	if req.ThresholdMV != nil && (!finiteNum(*req.ThresholdMV) || math.Abs(*req.ThresholdMV) > 300) {
+		return nil, Invalid("/threshold_mv", "threshold must be within ±300 mV")
+	}
+	return m, nil
+}
+
+// useCurve sets the model's open fraction from a stored curve, scaled to
+// the request's po_max.
+func useCurve(req *wire.PotentialRequest, m *potentialModel, sc *storedCurve) {
+	scale := 1.0
+	if req.PoMax != nil {
+		scale = *req.PoMax
+	} else {
+		m.cautions = append(m.cautions, "po_max not given: the fitted maximum is taken as P_open = 1.")
+	}
+	po := sc.po
+	m.po = func(c float64) float64 { return scale * po(c) }
+	for _, d := range sc.draws {
+		m.draws = append(m.draws, func(c float64) float64 { return scale * d(c) })
+	}
+	m.conf = sc.conf
+}
+
+// potentialWork is the cost of predicting at the request's concentrations
+// with draws bootstrap draws (membrane.Cost).
+func potentialWork(req *wire.PotentialRequest, draws int) cost.Work {
+	return membrane.Cost(len(req.AgonistConc), draws, req.Channel.MgMM > 0)
+}
+
+// predictPotential computes the prediction of a validated model: V and ΔV
+// at each concentration, their band over the bootstrap draws, and the
+// threshold concentration.
+func predictPotential(ctx context.Context, req *wire.PotentialRequest, m *potentialModel, workers int) (*wire.PotentialResponse, error) {
+	pred, err := membrane.Predict(ctx, m.rest, m.ch, m.po, req.AgonistConc)
+	if err != nil {
+		return nil, err
+	}
+	out := &wire.PotentialResponse{RestMV: pred.Rest, NernstMV: m.nernst, ChannelReversalMV: m.ch.Reversal,
+		Multistable: pred.Multistable}
+	for _, p := range pred.Points {
+		pp := wire.PotentialPoint{AgonistConc: p.Conc, OpenFraction: p.OpenFraction, GLigandNS: p.G, VMV: p.V, DeltaMV: p.Delta}
+		if m.ch.MgOut > 0 {
+			b := p.Block
+			pp.MgUnblocked = &b
+		}
+		out.Points = append(out.Points, pp)
+	}
+	if len(m.draws) > 0 {
+		// The percentile interval of V(c) over the bootstrap parameter
+		// draws of the stored fit.
+		los, his, err := membrane.Band(ctx, m.rest, m.ch, m.draws, req.AgonistConc, m.conf, workers)
+		if err != nil {
+			return nil, err
+		}
+		for i := range out.Points {
+			lo, hi := los[i], his[i]
+			out.Points[i].CI = &wire.PotentialCI{Confidence: m.conf, VMV: [2]float64{lo, hi}, DeltaMV: [2]float64{lo - pred.Rest, hi - pred.Rest}}
+		}
+	}
+	if req.ThresholdMV != nil {
+		c, ok, err := membrane.ThresholdConc(ctx, m.rest, m.ch, m.po, *req.ThresholdMV, 1e-15, 1)
+		if err != nil {
+			return nil, err
+		}
+		if ok {
+			out.ThresholdCrossed = &c
+		}
+	}
+	cautions := m.cautions
+	if pred.Multistable {
+		cautions = append(cautions, "With the Mg²⁺ block the cell has more than one steady state at some concentrations; "+
+			"the state reached by raising the concentration from rest is reported.")
+	}
+	out.Cautions = append([]string{wire.Caution, "Steady-state chord-conductance estimate: no pumps, no cable " +
+		"properties, no voltage-gated channels; not a clinical or dosing tool."}, cautions...)
+	return out, nil
+}
+
+// PredictPotential is `sluice potential`: the prediction of POST
+// /v1/potential for a request with its own Hill curve (no stored fit),
+// with the same validation and numbers, within the hard limit of budget
+// (zero means DefaultHardLimit). A validation error is a *Error naming the
+// field.
+func PredictPotential(ctx context.Context, req *wire.PotentialRequest, budget Budget, workers int) (*wire.PotentialResponse, error) {
+	b, err := budget.resolve()
+	if err != nil {
+		return nil, err
+	}
+	m, err := validatePotential(req)
+	if err != nil {
+		return nil, err
+	}
+	if req.CurveID != "" {
+		return nil, Invalid("/curve_id", "stored curves need the service; give hill here")
+	}
+	if err := b.admit(potentialWork(req, 0), "/agonist_conc"); err != nil {
+		return nil, err
+	}
+	return predictPotential(ctx, req, m, workers)
+}
+
+// Potential is POST /v1/potential: the steady membrane potential across
+// agonist concentrations, with a band when the curve is a stored,
+// bootstrapped fit; as JSON, or as the figure of V and ΔV when svg. It
+// stores nothing but the reply under its key.
+func (s *Service) Potential(ctx context.Context, who Caller, idem *Idem, req *wire.PotentialRequest, svg bool) (*Reply, error) {
+	return s.calculate(ctx, who, idem, func(ctx context.Context) (*Reply, error) {
+		m, err := validatePotential(req)
+		if err != nil {
+			return nil, err
+		}
+		draws := 0
+		var sc *storedCurve
+		if req.CurveID != "" {
+			if sc, err = s.storedCurve(ctx, req.CurveID, func(refit cost.Work, draws int) error {
+				return s.budget.admit(refit+potentialWork(req, draws), "/agonist_conc")
+			}); err != nil {
+				return nil, err
+			}
+			useCurve(req, m, sc)
+			draws = len(sc.draws)
+		}
+		if err := s.budget.admit(potentialWork(req, draws), "/agonist_conc"); err != nil {
+			return nil, err
+		}
+		out, err := predictPotential(ctx, req, m, s.fitWorkers)
+		if err != nil {
+			return nil, err
+		}
+		if !svg {
+			return jsonReply(http.StatusOK, out, "")
+		}
+		var buf bytes.Buffer
+		if err := PotentialFigure(out).Write(&buf); err != nil {
+			return nil, fmt.Errorf("potential figure: %w", err)
+		}
+		return &Reply{Status: http.StatusOK, ContentType: "image/svg+xml", Body: buf.Bytes()}, nil
+	})
+}
+
+// PotentialFigure is V against log concentration, with its interval when
+// there is one, and ΔV on the right-hand axis.
+func PotentialFigure(out *wire.PotentialResponse) *plot.Curve {
+	fig := &plot.Curve{Title: "Predicted steady membrane potential", YLabel: "V (mV)",
+		RightLabel: "ΔV from rest (mV)", RightOffset: out.RestMV, XLabel: "log10 [agonist] (M)",
+		Subtitle: fmt.Sprintf("rest %.1f mV · channel reversal %.1f mV", out.RestMV, out.ChannelReversalMV),
+		Footnote: strings.Join(out.Cautions[:2], " ")}
+	for _, p := range out.Points {
+		if p.AgonistConc <= 0 {
+			continue
+		}
+		fig.LineConc = append(fig.LineConc, p.AgonistConc)
+		fig.Line = append(fig.Line, p.VMV)
+		if p.CI != nil {
+			fig.BandLo = append(fig.BandLo, p.CI.VMV[0])
+			fig.BandHi = append(fig.BandHi, p.CI.VMV[1])
+		}
+	}
+	if len(fig.BandLo) != len(fig.LineConc) {
+		fig.BandLo, fig.BandHi = nil, nil
+	}
+	return fig
+}

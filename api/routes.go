@@ -63,8 +63,8 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	submit.POST("/fits", s.createFit)
 	submit.POST("/assays", s.createAssay)
 	submit.POST("/compounds", s.createCompound)
-	submit.POST("/layouts", s.idempotency, s.createLayout)
-	submit.POST("/plates", s.idempotency, s.createPlate)
+	submit.POST("/layouts", s.createLayout)
+	submit.POST("/plates", s.createPlate)
 	submit.POST("/schild", s.createSchild)
 
 	// Calculators: no record is stored, so scope read suffices.

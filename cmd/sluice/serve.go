@@ -96,7 +96,7 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		// River's start context is its hard stop); StopWorkers below
 		// ends them softly.
 		// Two plates at a time: each already fits its curves on every core.
-		if err := store.StartWorkers(context.WithoutCancel(ctx), srv.FitPlate, 2); err != nil {
+		if err := store.StartWorkers(context.WithoutCancel(ctx), srv.Service().RunPlateJob, 2); err != nil {
 			log.Error("start workers", "err", err)
 			return 1
 		}

@@ -139,7 +139,7 @@ func TestPlateQC(t *testing.T) {
 			t.Fatal(err)
 		}
 		m := t0.AddDate(0, 0, 1)
-		storePlate(t, s, "p1", t0.AddDate(0, 0, 5), &m) // measured day 1
+		storePlate(t, s, "p1", t0.AddDate(0, 0, 5), &m)  // measured day 1
 		storePlate(t, s, "p2", t0.AddDate(0, 0, 3), nil) // day 3
 		storePlate(t, s, "p3", t0.AddDate(0, 0, 2), nil) // day 2, never assessed
 		qcs := map[string]*db.PlateQC{

@@ -28,9 +28,12 @@ func checkEntry(e *wire.CatalogueEntry) error {
 	if e.Name == "" || len(e.Name) > maxTextField {
 		return Invalid("/name", "name is required, at most %d bytes", maxTextField)
 	}
-	for _, f := range []struct{ ptr, v string }{{"/target", e.Target}, {"/readout", e.Readout}, {"/units", e.Units}} {
+	for _, f := range []struct{ ptr, v string }{{"/name", e.Name}, {"/target", e.Target}, {"/readout", e.Readout}, {"/units", e.Units}} {
 		if len(f.v) > maxTextField {
 			return Invalid(f.ptr, "at most %d bytes", maxTextField)
+		}
+		if err := checkText(f.ptr, f.v); err != nil {
+			return err
 		}
 	}
 	if e.CreatedAt != "" || e.CreatedBy != "" {

@@ -79,9 +79,18 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 	if len(req.Labels) > MaxLabels {
 		return nil, Invalid("/labels", "more than %d labels", MaxLabels)
 	}
+	for _, f := range []struct{ ptr, v string }{{"/assay_id", req.AssayID}, {"/compound_id", req.CompoundID}, {"/refit_of", req.RefitOf}} {
+		if err := checkText(f.ptr, f.v); err != nil {
+			return nil, err
+		}
+	}
 	for k, v := range req.Labels {
+		ptr := "/labels/" + EscapePointer(k)
+		if err := errors.Join(checkText(ptr, k), checkText(ptr, v)); err != nil {
+			return nil, err
+		}
 		if len(k) == 0 || len(k) > MaxLabelLength || len(v) > MaxLabelLength {
-			return nil, Invalid("/labels/"+EscapePointer(k), "label names must be 1–%d bytes and values at most %d", MaxLabelLength, MaxLabelLength)
+			return nil, Invalid(ptr, "label names must be 1–%d bytes and values at most %d", MaxLabelLength, MaxLabelLength)
 		}
 	}
 	in.free = free

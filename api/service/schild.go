@@ -31,6 +31,9 @@ func validateSchild(req *wire.SchildRequest) ([]schild.Curve, *schild.Settings, 
 	if err != nil {
 		return nil, nil, Invalid("/conc_unit", "%v", err)
 	}
+	if err := errors.Join(checkText("/agonist_id", req.AgonistID), checkText("/antagonist_id", req.AntagonistID)); err != nil {
+		return nil, nil, err
+	}
 	if len(req.Curves) < MinSchildCurves || len(req.Curves) > MaxSchildCurves {
 		return nil, nil, Invalid("/curves", "give the control curve (antagonist_conc 0) and 1–%d shifted curves", MaxSchildCurves-1)
 	}

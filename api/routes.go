@@ -56,6 +56,8 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/jobs/:id", s.getJob)
 	read.GET("/schild/:id", s.getSchild)
 	read.GET("/schild/:id/plot.svg", s.schildPlot)
+	read.GET("/analyses/:id", s.getAnalysis)
+	read.GET("/analyses/:id/result", s.getAnalysisResult)
 
 	// Writes: the use cases handle the Idempotency-Key (service.NewIdem);
 	// s.idempotency does it for the handlers that still store themselves.

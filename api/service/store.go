@@ -38,6 +38,11 @@ type SchildRuns interface {
 	SchildRun(ctx context.Context, id string) (*db.SchildRun, error)
 }
 
+// Analyses reads queued single analyses.
+type Analyses interface {
+	Analysis(ctx context.Context, id string) (*db.Analysis, error)
+}
+
 // Store is everything the service reads and writes.
 type Store interface {
 	Writes
@@ -45,6 +50,7 @@ type Store interface {
 	Catalogue
 	FitRuns
 	SchildRuns
+	Analyses
 }
 
 var _ Store = db.Store(nil)

@@ -1,7 +1,6 @@
 package api
 
 import (
-	"context"
 	"net/http"
 
 	"github.com/gin-gonic/gin"
@@ -27,10 +26,4 @@ func (s *Server) getAnalysisResult(c *gin.Context) {
 		return
 	}
 	writeReply(c, r)
-}
-
-// RunAnalysis runs a queued single analysis: the work function of the
-// analysis jobs (db.Handlers.Analysis).
-func (s *Server) RunAnalysis(ctx context.Context, analysis, id string) error {
-	return s.svc.RunAnalysis(ctx, analysis, id)
 }

@@ -44,7 +44,7 @@ func TestQueuedFitOverHTTP(t *testing.T) {
 			t.Fatal(err)
 		}
 		ctx := context.Background()
-		if err := store.StartHandlers(ctx, db.Handlers{Plate: srv.FitPlate, Analysis: srv.RunAnalysis}, 1); err != nil {
+		if err := store.StartHandlers(ctx, db.Handlers{Plate: srv.Service().RunPlateJob, Analysis: srv.Service().RunAnalysis}, 1); err != nil {
 			t.Fatal(err)
 		}
 		t.Cleanup(func() { store.StopWorkers(context.Background()) })

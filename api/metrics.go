@@ -112,5 +112,14 @@ func (m *metrics) CurveFitted(model, status string, d time.Duration, resamples, 
 	}
 }
 
+// PlateCurveFitted implements service.Observer.
+func (m *metrics) PlateCurveFitted(model, status string, resamples, failedRefits int) {
+	m.fits.WithLabelValues(model, status).Inc()
+	if resamples > 0 {
+		m.resamples.Add(float64(resamples))
+		m.failedRefits.Add(float64(failedRefits))
+	}
+}
+
 // PlateFitted implements service.Observer.
 func (m *metrics) PlateFitted(d time.Duration) { m.plateDuration.Observe(d.Seconds()) }

@@ -2,7 +2,6 @@ package api
 
 import (
 	"encoding/csv"
-	"encoding/json"
 	"fmt"
 	"math"
 	"net/http"
@@ -17,23 +16,10 @@ import (
 
 // plateCurvesCSV is GET /v1/plates/{id}/curves.csv: one row per curve.
 func (s *Server) plateCurvesCSV(c *gin.Context) {
-	ctx := c.Request.Context()
-	p, err := s.store.Plate(ctx, c.Param("id"))
+	p, curves, err := s.svc.PlateCurves(c.Request.Context(), c.Param("id"))
 	if err != nil {
 		s.writeProblem(c, err)
 		return
-	}
-	cs, err := s.store.PlateCurves(ctx, p.ID)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	curves := make([]PlateCurve, len(cs))
-	for i, cv := range cs {
-		if err := json.Unmarshal(cv.Result, &curves[i]); err != nil {
-			s.writeProblem(c, fmt.Errorf("stored curve %s of plate %s: %w", cv.Key, p.ID, err))
-			return
-		}
 	}
 	c.Header("Content-Type", "text/csv; charset=utf-8")
 	c.Header("Content-Disposition", fmt.Sprintf(`attachment; filename="%s-curves.csv"`, strings.ReplaceAll(p.Barcode, `"`, "")))
@@ -73,22 +59,12 @@ func (s *Server) plateCurvesCSV(c *gin.Context) {
 // plateHeatmap is GET /v1/plates/{id}/heatmap.svg: raw values by well, the
 // controls outlined, the QC verdict in the title.
 func (s *Server) plateHeatmap(c *gin.Context) {
-	ctx := c.Request.Context()
-	p, err := s.store.Plate(ctx, c.Param("id"))
+	m, err := s.svc.PlateMap(c.Request.Context(), c.Param("id"))
 	if err != nil {
 		s.writeProblem(c, err)
 		return
 	}
-	rows, err := s.store.Wells(ctx, p.ID)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	f, err := plate.ParseFormat(strconv.Itoa(p.Format))
-	if err != nil {
-		s.writeProblem(c, fmt.Errorf("stored plate %s: %w", p.ID, err))
-		return
-	}
+	p, f, rows := m.Plate, m.Format, m.Wells
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, r := range rows {
 		if r.Value != nil {
@@ -101,17 +77,14 @@ func (s *Server) plateHeatmap(c *gin.Context) {
 	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" width="%.0f" height="%.0f" font-family="sans-serif" font-size="11">`+"\n", w, h)
 	fmt.Fprintf(&b, `<rect width="100%%" height="100%%" fill="white"/>`+"\n")
 	verdict := "QC pending"
-	var qc wire.PlateQC
-	if p.QC != nil {
-		if err := json.Unmarshal(p.QC, &qc); err != nil {
-			s.writeProblem(c, fmt.Errorf("stored QC of plate %s: %w", p.ID, err))
-			return
-		}
+	var reasons []string
+	if qc := m.QC; qc != nil {
 		verdict = fmt.Sprintf("QC %s · Z′ %.2f", map[bool]string{true: "pass", false: "FAIL"}[qc.Pass], qc.ZPrime)
+		reasons = qc.Reasons
 	}
 	fmt.Fprintf(&b, `<text x="60" y="24" font-size="15" font-weight="bold">Plate %s (%d wells) · %s</text>`+"\n", esc(p.Barcode), f.Wells, esc(verdict))
-	if len(qc.Reasons) > 0 {
-		fmt.Fprintf(&b, `<text x="60" y="42" fill="#a00">%s</text>`+"\n", esc(strings.Join(qc.Reasons, "; ")))
+	if len(reasons) > 0 {
+		fmt.Fprintf(&b, `<text x="60" y="42" fill="#a00">%s</text>`+"\n", esc(strings.Join(reasons, "; ")))
 	}
 	for _, r := range rows {
 		x, y := 60+cell*float64(r.Col), 60+cell*float64(r.Row)

@@ -100,3 +100,7 @@ func (s *Server) Handler() http.Handler { return s.engine }
 
 // randomBytes fills b from the system's secure source.
 func randomBytes(b []byte) { rand.Read(b) }
+
+// Service is the use-case layer the handlers call; the plate workers run
+// its RunPlateJob.
+func (s *Server) Service() *service.Service { return s.svc }

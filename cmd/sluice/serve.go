@@ -97,7 +97,8 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		// ends them softly.
 		// Two jobs at a time: each already fits its curves on every core.
 		// Plates, and single analyses over the synchronous budget.
-		if err := store.StartHandlers(context.WithoutCancel(ctx), db.Handlers{Plate: srv.FitPlate, Analysis: srv.RunAnalysis}, 2); err != nil {
+		svc := srv.Service()
+		if err := store.StartHandlers(context.WithoutCancel(ctx), db.Handlers{Plate: svc.RunPlateJob, Analysis: svc.RunAnalysis}, 2); err != nil {
 			log.Error("start workers", "err", err)
 			return 1
 		}

@@ -209,10 +209,10 @@ func (c *submitClient) get(path string, v any) error {
 }
 
 // waitPlate polls the job, drawing a progress bar, until it ends.
-func (c *submitClient) waitPlate(plateID string, jobID int64, timeout time.Duration) (*api.PlateView, error) {
+func (c *submitClient) waitPlate(plateID string, jobID int64, timeout time.Duration) (*wire.PlateView, error) {
 	deadline := time.Now().Add(timeout)
 	for {
-		var j api.JobView
+		var j wire.JobView
 		if err := c.get(fmt.Sprintf("/v1/jobs/%d", jobID), &j); err != nil {
 			return nil, err
 		}
@@ -225,7 +225,7 @@ func (c *submitClient) waitPlate(plateID string, jobID int64, timeout time.Durat
 			j.Progress.Done, j.Progress.Total, j.Status)
 		if j.Status == "done" || j.Status == "failed" {
 			fmt.Fprintln(c.log)
-			var v api.PlateView
+			var v wire.PlateView
 			if err := c.get("/v1/plates/"+plateID, &v); err != nil {
 				return nil, err
 			}
@@ -243,7 +243,7 @@ func (c *submitClient) waitPlate(plateID string, jobID int64, timeout time.Durat
 }
 
 // printSummary shows the QC verdict and each curve's potency.
-func printSummary(w io.Writer, v *api.PlateView) {
+func printSummary(w io.Writer, v *wire.PlateView) {
 	var qc struct {
 		ZPrime  float64  `json:"z_prime"`
 		Pass    bool     `json:"pass"`
@@ -265,7 +265,7 @@ func printSummary(w io.Writer, v *api.PlateView) {
 	tw := tabwriter.NewWriter(w, 0, 4, 2, ' ', 0)
 	fmt.Fprintln(tw, "  curve\tstatus\tpEC50\tEC50 (M)\t95% CI\tflags")
 	for _, raw := range v.Curves {
-		var pc api.PlateCurve
+		var pc wire.PlateCurve
 		if json.Unmarshal(raw, &pc) != nil {
 			continue
 		}

@@ -7,7 +7,7 @@ import (
 
 // DefaultMSRWindow is the number of most recent usable runs the production
 // MSR is computed over when HistorySettings.MSRWindow is 0 (FACTS §4: a
-// moving window of about 6 runs, typical practice).
+// moving window of about 6 runs; a typical textbook value).
 const DefaultMSRWindow = 6
 
 // HistorySettings are the tunables of Summarize. A nil *HistorySettings,

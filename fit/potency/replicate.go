@@ -17,7 +17,8 @@ type Pair struct {
 // form to store and show.
 type Criterion string
 
-// The acceptance criteria (FACTS §4; the Assay Guidance Manual's limits).
+// The acceptance criteria (FACTS §4; the Assay Guidance Manual's limits,
+// typical textbook values).
 const (
 	// MSRBelow3: MSR < 3.
 	MSRBelow3 Criterion = "msr_below_3"

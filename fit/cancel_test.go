@@ -157,3 +157,19 @@ func TestFitBatchPanicBecomesError(t *testing.T) {
 		}
 	}
 }
+
+// A caller that cancels with a cause of its own still gets an error that
+// wraps context.Canceled.
+func TestFitBatchCancelledWithCause(t *testing.T) {
+	defer goleak.VerifyNone(t)
+	rng := rand.New(rand.NewPCG(9, 10))
+	curves := []Curve{simulatedCurve(rng, []float64{0, 100, -7, 1}, 5), simulatedCurve(rng, []float64{0, 100, -6, 1}, 5)}
+	ctx, cancel := context.WithCancelCause(context.Background())
+	var prog Progress
+	atCancel := cancelWhen(func() { cancel(errors.New("shutting down")) }, prog.Resamples, boot.Chunk)
+	_, err := FitBatch(ctx, curves, nil, &BootSettings{Resamples: 20000, Seed: 1}, 2, &prog)
+	atCancel()
+	if !errors.Is(err, context.Canceled) {
+		t.Errorf("err = %v, want context.Canceled", err)
+	}
+}

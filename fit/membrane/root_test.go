@@ -108,10 +108,10 @@ func TestContinuationIsPredict(t *testing.T) {
 
 // Band is the percentile interval of Predict over the draws, as the API
 // computed it before it existed, exactly; with and without Mg²⁺, on one
-// worker and on several.
+// worker and on several, with the concentrations in one block or in many.
 func TestBandIsPredictOverDraws(t *testing.T) {
 	rng := rand.New(rand.NewPCG(15, 16))
-	concs := []float64{0, 1e-9, 3e-8, 1e-7, 1e-6, 3e-6, 1e-5, 1e-4, 1e-3}
+	concs := []float64{1e-6, 0, 1e-3, 3e-8, 1e-9, 3e-6, 1e-4, 1e-7, 1e-5} // unsorted on purpose
 	for trial := 0; trial < 4; trial++ {
 		rest, ch := randomCell(rng)
 		if trial == 3 {
@@ -129,16 +129,22 @@ func TestBandIsPredictOverDraws(t *testing.T) {
 				}
 			}
 		}
-		for _, workers := range []int{1, 3} {
-			lo, hi, err := Band(context.Background(), rest, ch, draws, concs, 0.9, workers)
-			if err != nil {
-				t.Fatal(err)
-			}
-			for i := range concs {
-				slices.Sort(vs[i])
-				wlo, whi := boot.Percentile(vs[i], 0.9)
-				if !sameFloat(lo[i], wlo) || !sameFloat(hi[i], whi) {
-					t.Fatalf("trial %d, %g M, %d workers: band [%v, %v], want [%v, %v]", trial, concs[i], workers, lo[i], hi[i], wlo, whi)
+		for i := range concs {
+			slices.Sort(vs[i])
+		}
+		// One block of concentrations, blocks of 2, blocks of 1.
+		for _, block := range []int{bandBlockValues, 2*len(draws) + 1, 1} {
+			for _, workers := range []int{1, 3} {
+				lo, hi, err := band(context.Background(), rest, ch, draws, concs, 0.9, workers, block)
+				if err != nil {
+					t.Fatal(err)
+				}
+				for i := range concs {
+					wlo, whi := boot.Percentile(vs[i], 0.9)
+					if !sameFloat(lo[i], wlo) || !sameFloat(hi[i], whi) {
+						t.Fatalf("trial %d, %g M, %d workers, block %d: band [%v, %v], want [%v, %v]",
+							trial, concs[i], workers, block, lo[i], hi[i], wlo, whi)
+					}
 				}
 			}
 		}

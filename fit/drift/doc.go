@@ -10,7 +10,13 @@
 // Every rule reads z = (x − mean)/SD, with the baseline's mean and SD. To
 // chart several controls with baselines of their own together (the max and
 // min controls of a plate, for R-4s), standardise them first and pass the z
-// values with Baseline{Mean: 0, SD: 1}.
+// values with Baseline{Mean: 0, SD: 1}; to look only for R-4s across a
+// plate's controls while each control keeps its own chart, evaluate that
+// combined series with Settings.Rules = Set(RuleR4s).
+//
+// A point's result depends only on the points before it, so appending a
+// point never changes what earlier points showed: a caller may re-evaluate
+// a whole series each time a point arrives and record only what is new.
 //
 // # Westgard multirule
 //

@@ -16,7 +16,7 @@ type AnalysisQueued struct {
 type Analysis struct {
 	ID          string          `json:"id"`
 	Kind        string          `json:"kind"` // "fit", "schild" or "potential"
-	Status      string          `json:"status"`
+	Status      string          `json:"status"` // queued, running, done or failed
 	JobID       int64           `json:"job_id"`
 	CreatedAt   string          `json:"created_at"`
 	SubmittedBy string          `json:"submitted_by"`

@@ -56,9 +56,11 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/jobs/:id", s.getJob)
 	read.GET("/schild/:id", s.getSchild)
 	read.GET("/schild/:id/plot.svg", s.schildPlot)
+	read.GET("/analyses/:id", s.getAnalysis)
+	read.GET("/analyses/:id/result", s.getAnalysisResult)
 
-	// Writes: the use cases handle the Idempotency-Key (service.NewIdem);
-	// s.idempotency does it for the handlers that still store themselves.
+	// Writes: each handler builds the request's service.Idem from its
+	// Idempotency-Key (idemOf) and the use case does the rest.
 	submit := r.Group("/v1", s.authenticate(ScopeSubmit))
 	submit.POST("/fits", s.createFit)
 	submit.POST("/assays", s.createAssay)
@@ -69,7 +71,7 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 
 	// Calculators: no record is stored, so scope read suffices.
 	calc := r.Group("/v1", s.authenticate(ScopeRead))
-	calc.POST("/potential", s.idempotency, s.postPotential)
+	calc.POST("/potential", s.postPotential)
 	calc.POST("/operational", s.postOperational)
 	return r
 }

@@ -57,6 +57,8 @@ type Results interface {
 	// plate curves alike, oldest experiment (measured_at) first.
 	CompoundCurves(ctx context.Context, f CurveFilter) ([]CurveResult, error)
 	SchildRun(ctx context.Context, id string) (*SchildRun, error)
+	// Analysis returns a queued single analysis.
+	Analysis(ctx context.Context, id string) (*Analysis, error)
 	// PlateSchildRuns lists a plate's Schild runs by agonist, antagonist.
 	PlateSchildRuns(ctx context.Context, plateID string) ([]SchildRun, error)
 }
@@ -150,6 +152,12 @@ type Writer interface {
 	// of the record id, stored in this transaction, for a worker's
 	// Handlers.Analysis; it returns the job's ID.
 	EnqueueAnalysis(ctx context.Context, analysis, id string) (int64, error)
+	// InsertAnalysis stores a single analysis to queue (with the job
+	// EnqueueAnalysis returned), status queued.
+	InsertAnalysis(ctx context.Context, a *Analysis) error
+	// FinishAnalysis records how a queued analysis finished; ErrNotFound
+	// when there is no queued analysis with that ID (finished already).
+	FinishAnalysis(ctx context.Context, id string, r *AnalysisResult) error
 	// FinishPlate stores a plate's curves (keeping any stored by an
 	// earlier attempt) and its final status, QC and error.
 	FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error

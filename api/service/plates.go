@@ -64,12 +64,12 @@ type validPlate struct {
 // beside the reply, for a replayed reply too, so that a caller can wait
 // for it (WaitPlate).
 func (s *Service) SubmitPlate(ctx context.Context, who Caller, idem *Idem, sub *PlateSubmission) (*Reply, *wire.PlateAccepted, error) {
-	r, err := s.write(ctx, who, idem, func(ctx context.Context) (commitFunc, error) {
+	r, err := s.write(ctx, who, idem, func(ctx context.Context) (plan, error) {
 		wells := sub.Wells
 		if sub.Form == PlateGrid {
 			var err error
 			if wells, err = s.gridWells(ctx, sub); err != nil {
-				return nil, err
+				return plan{}, err
 			}
 		} else if sub.Form == PlateJSON {
 			wells = WellsIn(sub.Plate.Wells)
@@ -77,15 +77,15 @@ func (s *Service) SubmitPlate(ctx context.Context, who Caller, idem *Idem, sub *
 		loc := locator(sub.Form, wells)
 		v, err := s.validatePlate(&sub.Plate, wells, loc)
 		if err != nil {
-			return nil, err
+			return plan{}, err
 		}
 		if id := sub.Plate.AssayID; id != "" {
 			_, err := s.store.Assay(ctx, id)
 			if errors.Is(err, db.ErrNotFound) {
-				return nil, locatedError(loc, -1, "assay_id", "no assay with id %q", id)
+				return plan{}, locatedError(loc, -1, "assay_id", "no assay with id %q", id)
 			}
 			if err != nil {
-				return nil, fmt.Errorf("look up assay %q: %w", id, err)
+				return plan{}, fmt.Errorf("look up assay %q: %w", id, err)
 			}
 		}
 		now := s.now()
@@ -93,9 +93,9 @@ func (s *Service) SubmitPlate(ctx context.Context, who Caller, idem *Idem, sub *
 		v.p.ID, v.p.CreatedAt, v.p.SubmittedBy, v.p.InputSHA256 = s.newID(), now, who.Name, hex.EncodeToString(sum[:])
 		detail, err := json.Marshal(map[string]any{"barcode": v.p.Barcode, "wells": len(v.wells)})
 		if err != nil {
-			return nil, fmt.Errorf("audit detail of plate %s: %w", v.p.ID, err)
+			return plan{}, fmt.Errorf("audit detail of plate %s: %w", v.p.ID, err)
 		}
-		return func(ctx context.Context, w db.Writer) (*Reply, error) {
+		return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
 			// The job first: the worker can see it only once the plate
 			// below commits with it.
 			jobID, err := w.EnqueuePlateFit(ctx, v.p.ID)
@@ -111,7 +111,7 @@ func (s *Service) SubmitPlate(ctx context.Context, who Caller, idem *Idem, sub *
 				return nil, fmt.Errorf("audit plate %s: %w", v.p.ID, err)
 			}
 			return jsonReply(http.StatusAccepted, wire.PlateAccepted{PlateID: v.p.ID, JobID: jobID}, "/v1/plates/"+v.p.ID)
-		}, nil
+		}}, nil
 	})
 	if err != nil {
 		return nil, nil, err

@@ -38,6 +38,11 @@ type SchildRuns interface {
 	SchildRun(ctx context.Context, id string) (*db.SchildRun, error)
 }
 
+// Analyses reads queued single analyses.
+type Analyses interface {
+	Analysis(ctx context.Context, id string) (*db.Analysis, error)
+}
+
 // Plates reads plates, their wells, curves, Schild runs, layouts and jobs,
 // and records a running job's progress.
 type Plates interface {
@@ -58,6 +63,7 @@ type Store interface {
 	Catalogue
 	FitRuns
 	SchildRuns
+	Analyses
 	Plates
 }
 

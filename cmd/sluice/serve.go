@@ -95,12 +95,14 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		// Jobs run on a context the signal does not cancel (cancelling
 		// River's start context is its hard stop); StopWorkers below
 		// ends them softly.
-		// Two plates at a time: each already fits its curves on every core.
-		if err := store.StartWorkers(context.WithoutCancel(ctx), srv.Service().RunPlateJob, 2); err != nil {
+		// Two jobs at a time: each already fits its curves on every core.
+		// Plates, and single analyses over the synchronous budget.
+		svc := srv.Service()
+		if err := store.StartHandlers(context.WithoutCancel(ctx), db.Handlers{Plate: svc.RunPlateJob, Analysis: svc.RunAnalysis}, 2); err != nil {
 			log.Error("start workers", "err", err)
 			return 1
 		}
-		log.Info("plate workers started")
+		log.Info("workers started")
 	}
 	hs := &http.Server{
 		Handler:           handler,

@@ -2,6 +2,7 @@ package api
 
 import (
 	"bytes"
+	"context"
 	"mime"
 	"net/http"
 	"strconv"
@@ -54,15 +55,21 @@ func (s *Server) createPlate(c *gin.Context) {
 		return
 	}
 	if wait > 0 {
-		v, err := s.svc.WaitPlate(ctx, acc.PlateID, wait)
-		if ctx.Err() != nil {
-			return // the caller went away; the plate is stored and queued
-		}
-		if err != nil {
+		// The wait ends early when the caller goes away or the server
+		// shuts down (Drain): the plate is stored and queued either way.
+		waitCtx, cancel := context.WithCancel(ctx)
+		defer cancel()
+		defer context.AfterFunc(s.draining, cancel)()
+		v, err := s.svc.WaitPlate(waitCtx, acc.PlateID, wait)
+		switch {
+		case ctx.Err() != nil:
+			return // no one to answer
+		case waitCtx.Err() != nil:
+			// Draining: answer with where to look.
+		case err != nil:
 			s.writeProblem(c, err)
 			return
-		}
-		if v != nil {
+		case v != nil:
 			c.JSON(http.StatusOK, v)
 			return
 		}

@@ -152,6 +152,9 @@ func (s *Service) Job(ctx context.Context, id int64) (*wire.JobView, error) {
 		return nil, fmt.Errorf("plate of job %d: %w", id, err)
 	}
 	v := &wire.JobView{ID: id, Attempt: j.Attempt}
+	if j.Kind == db.JobAnalysis {
+		v.AnalysisID = j.Target
+	}
 	if p != nil {
 		v.PlateID, v.Progress = p.ID, wire.Progress{Done: p.CurvesDone, Total: p.CurvesTotal}
 	}

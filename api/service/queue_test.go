@@ -48,6 +48,9 @@ func TestQueuedFit(t *testing.T) {
 		if err != nil || j.Kind != db.JobAnalysis || j.Analysis != "fit" || j.Target != q.AnalysisID {
 			t.Fatalf("job %+v, %v", j, err)
 		}
+		if v, err := s.Job(ctx, q.JobID); err != nil || v.AnalysisID != q.AnalysisID || v.Status != "queued" {
+			t.Fatalf("job view %+v, %v", v, err)
+		}
 		// The job, twice (a retried job): one fit.
 		for range 2 {
 			if err := s.RunAnalysis(ctx, j.Analysis, j.Target); err != nil {

@@ -103,12 +103,15 @@ type Progress struct {
 
 // JobView is GET /v1/jobs/{id}.
 type JobView struct {
-	ID       int64    `json:"id"`
-	PlateID  string   `json:"plate_id"`
-	Status   string   `json:"status"` // queued, running, done, failed
-	Attempt  int      `json:"attempt"`
-	Progress Progress `json:"progress"`
-	Error    string   `json:"error,omitempty"`
+	ID      int64  `json:"id"`
+	PlateID string `json:"plate_id"`
+	// AnalysisID is the queued single analysis a sluice_analysis job runs
+	// (GET /v1/analyses/{id}); "" for a plate's job.
+	AnalysisID string   `json:"analysis_id,omitempty"`
+	Status     string   `json:"status"` // queued, running, done, failed
+	Attempt    int      `json:"attempt"`
+	Progress   Progress `json:"progress"`
+	Error      string   `json:"error,omitempty"`
 }
 
 // PlateCurve is one curve of a plate: the result object with the compound

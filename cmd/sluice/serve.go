@@ -81,7 +81,7 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		log.Info("demo scenario", "fits_loaded", n)
 	}
 	srv, err := api.New(api.Config{BodyLimit: cfg.BodyLimit, AuthDisabled: cfg.AuthDisabled, FitWorkers: cfg.FitWorkers},
-		api.Deps{Store: store, Registry: prometheus.NewRegistry(), Log: log})
+		api.Deps{Store: store, Registry: prometheus.NewRegistry(), Log: log, Budget: cfg.budget()})
 	if err != nil {
 		log.Error("build server", "err", err)
 		return 1
@@ -112,6 +112,7 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		IdleTimeout:       2 * time.Minute,
 		ErrorLog:          slog.NewLogLogger(log.Handler(), slog.LevelWarn),
 	}
+	hs.RegisterOnShutdown(srv.Drain) // waiting requests answer 202 at once
 	log.Info("listening", "addr", ln.Addr().String(), "store", store.Engine(), "role", cfg.Role)
 	errc := make(chan error, 1)
 	go func() { errc <- hs.Serve(ln) }()

@@ -173,3 +173,50 @@ func TestWorkerRoleServesOnlyHealth(t *testing.T) {
 		t.Errorf("log does not name the role:\n%s", logs)
 	}
 }
+
+// A request waiting for a plate (?wait=) does not hold up the shutdown: it
+// answers 202 with where to look, and serve exits at once rather than at
+// the end of the grace period.
+func TestShutdownAnswersWaitingRequests(t *testing.T) {
+	base, cancel, done, logs := startServe(t, t.TempDir(), "api", 2*time.Minute) // no workers: the plate stays queued
+	defer cancel()
+	type answer struct {
+		code int
+		body string
+	}
+	answers := make(chan answer, 1)
+	go func() {
+		resp, err := http.Post(base+"/v1/plates?format=96&barcode=LK-WAIT&wait=2m", "text/csv", strings.NewReader(invented96CSV()))
+		if err != nil {
+			answers <- answer{0, err.Error()}
+			return
+		}
+		defer resp.Body.Close()
+		b, _ := io.ReadAll(resp.Body)
+		answers <- answer{resp.StatusCode, string(b)}
+	}()
+	// Shut down once the plate (job 1) is stored and its request waits.
+	for deadline := time.Now().Add(30 * time.Second); time.Now().Before(deadline); time.Sleep(20 * time.Millisecond) {
+		r, err := http.Get(base + "/v1/jobs/1")
+		if err != nil {
+			t.Fatal(err)
+		}
+		r.Body.Close()
+		if r.StatusCode == 200 {
+			break
+		}
+	}
+	start := time.Now()
+	cancel()
+	select {
+	case a := <-answers:
+		if a.code != 202 || !strings.Contains(a.body, `"plate_id"`) {
+			t.Errorf("waiting request: %d %s", a.code, a.body)
+		}
+	case <-time.After(30 * time.Second):
+		t.Fatalf("the waiting request was not answered\n%s", logs)
+	}
+	if code := <-done; code != 0 || time.Since(start) > 10*time.Second {
+		t.Errorf("exit %d after %v\n%s", code, time.Since(start), logs)
+	}
+}

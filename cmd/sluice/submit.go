@@ -135,7 +135,10 @@ func (c *submitClient) post(path, ctype string, body []byte) (*accepted, error) 
 			fmt.Fprintf(c.log, "retrying in %v (%v)\n", d, last)
 			time.Sleep(d)
 		}
-		req, _ := http.NewRequest(http.MethodPost, c.base+path, bytes.NewReader(body))
+		req, err := http.NewRequest(http.MethodPost, c.base+path, bytes.NewReader(body))
+		if err != nil {
+			return nil, fmt.Errorf("--server %q: %w", c.base, err)
+		}
 		req.Header.Set("Content-Type", ctype)
 		req.Header.Set("Idempotency-Key", key)
 		if c.token != "" {
@@ -146,8 +149,12 @@ func (c *submitClient) post(path, ctype string, body []byte) (*accepted, error) 
 			last = err
 			continue
 		}
-		b, _ := io.ReadAll(resp.Body)
+		b, err := io.ReadAll(resp.Body)
 		resp.Body.Close()
+		if err != nil {
+			last = fmt.Errorf("reading the answer: %w", err)
+			continue
+		}
 		switch {
 		case resp.StatusCode == http.StatusAccepted || resp.StatusCode == http.StatusOK:
 			var a accepted
@@ -192,7 +199,10 @@ func problemText(status string, b []byte) error {
 }
 
 func (c *submitClient) get(path string, v any) error {
-	req, _ := http.NewRequest(http.MethodGet, c.base+path, nil)
+	req, err := http.NewRequest(http.MethodGet, c.base+path, nil)
+	if err != nil {
+		return fmt.Errorf("--server %q: %w", c.base, err)
+	}
 	if c.token != "" {
 		req.Header.Set("Authorization", "Bearer "+c.token)
 	}
@@ -201,7 +211,10 @@ func (c *submitClient) get(path string, v any) error {
 		return err
 	}
 	defer resp.Body.Close()
-	b, _ := io.ReadAll(resp.Body)
+	b, err := io.ReadAll(resp.Body)
+	if err != nil {
+		return fmt.Errorf("reading the answer to GET %s: %w", path, err)
+	}
 	if resp.StatusCode != http.StatusOK {
 		return problemText(resp.Status, b)
 	}

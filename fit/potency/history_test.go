@@ -3,6 +3,7 @@ package potency
 import (
 	"errors"
 	"math"
+	"math/rand/v2"
 	"slices"
 	"testing"
 	"time"
@@ -169,5 +170,48 @@ func TestInputErrors(t *testing.T) {
 		if !errors.As(c.err, &fe) || fe.Field != c.field {
 			t.Errorf("want an error naming %s, got %v", c.field, c.err)
 		}
+	}
+}
+
+// The summary does not depend on the order the runs are given in (with
+// distinct times): the service may pass stored rows in any order.
+func TestSummarizeOrderFree(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 0))
+	runs := make([]Run, 40)
+	for i := range runs {
+		runs[i] = active(-7+0.2*rng.NormFloat64(), i)
+		switch i % 7 {
+		case 3:
+			runs[i].Rejected = true
+		case 5:
+			runs[i].Qualifier = Greater
+		}
+	}
+	want, err := Summarize(runs, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for range 5 {
+		perm := rng.Perm(len(runs))
+		shuffled := make([]Run, len(runs))
+		for i, j := range perm {
+			shuffled[i] = runs[j]
+		}
+		got, err := Summarize(shuffled, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got.N != want.N || got.Excluded != want.Excluded || got.MSRRuns != want.MSRRuns {
+			t.Fatalf("shuffled: n %d, excluded %+v; want n %d, excluded %+v", got.N, got.Excluded, want.N, want.Excluded)
+		}
+		for k, i := range got.Usable {
+			if shuffled[i] != runs[want.Usable[k]] {
+				t.Fatalf("usable run %d is not the same run after shuffling", k)
+			}
+		}
+		near(t, "mean", got.Log.Mean, want.Log.Mean, 1e-12)
+		near(t, "sd", got.Log.SD, want.Log.SD, 1e-12)
+		near(t, "MSR", got.MSR, want.MSR, 1e-12)
+		near(t, "MSR overall", got.MSROverall, want.MSROverall, 1e-12)
 	}
 }

@@ -61,7 +61,8 @@ type Study struct {
 }
 
 // Replicate evaluates a replicate-experiment study of paired log10
-// potencies. It needs at least two pairs with finite values (the error names
+// potencies (PairRuns builds them from two runs' curves). It needs at least
+// two pairs with finite values (the error names
 // "pairs" or "pairs[i].run1"/"run2").
 func Replicate(pairs []Pair) (*Study, error) {
 	if len(pairs) < 2 {

@@ -164,6 +164,18 @@ func (s *Service) Analysis(ctx context.Context, id string) (*wire.Analysis, erro
 	if a.FinishedAt != nil {
 		v.FinishedAt = a.FinishedAt.Format(time.RFC3339Nano)
 	}
+	if a.Status == db.AnalysisQueued {
+		// Not finished: its job says whether it runs, waits for a retry
+		// (with the last error) or was given up (failed).
+		j, err := s.store.Job(ctx, a.JobID)
+		if err != nil {
+			return nil, fmt.Errorf("job of analysis %s: %w", a.ID, err)
+		}
+		v.Status, v.Error = db.JobStatus(j, nil)
+		if v.Status == db.JobDone {
+			v.Status = db.JobRunning // finishing: the analysis row says done in the same transaction
+		}
+	}
 	if a.Status == db.AnalysisDone {
 		v.ResultType, v.ResultURL = a.ReplyType, "/v1/analyses/"+a.ID+"/result"
 		if mt, _, err := mime.ParseMediaType(a.ReplyType); err == nil && (mt == "application/json" || strings.HasSuffix(mt, "+json")) {

@@ -17,20 +17,22 @@ import (
 
 // Kinds of queued analysis (the job's analysis).
 const (
-	analysisFit       = "fit"
-	analysisSchild    = "schild"
-	analysisPotential = "potential"
+	analysisFit         = "fit"
+	analysisSchild      = "schild"
+	analysisPotential   = "potential"
+	analysisOperational = "operational"
 )
 
 // queuedRequest is what a queued analysis stores to run later: the
 // request as validated (a bootstrap seed drawn for it included) and what
 // the synchronous path took besides.
 type queuedRequest struct {
-	Fit         *wire.FitRequest       `json:"fit,omitempty"`
-	Schild      *wire.SchildRequest    `json:"schild,omitempty"`
-	Potential   *wire.PotentialRequest `json:"potential,omitempty"`
-	SVG         bool                   `json:"svg,omitempty"`
-	InputSHA256 string                 `json:"input_sha256,omitempty"`
+	Fit         *wire.FitRequest         `json:"fit,omitempty"`
+	Schild      *wire.SchildRequest      `json:"schild,omitempty"`
+	Potential   *wire.PotentialRequest   `json:"potential,omitempty"`
+	Operational *wire.OperationalRequest `json:"operational,omitempty"`
+	SVG         bool                     `json:"svg,omitempty"`
+	InputSHA256 string                   `json:"input_sha256,omitempty"`
 }
 
 // queue plans a request over the synchronous budget: the analysis stored
@@ -107,6 +109,13 @@ func (s *Service) runQueued(ctx context.Context, who Caller, kind string, q *que
 			return plan{}, err
 		}
 		r, err := s.runPotential(ctx, q.Potential, m, lc, q.SVG)
+		return plan{reply: r}, err
+	case kind == analysisOperational && q.Operational != nil:
+		ref, part, _, err := s.prepareOperational(q.Operational)
+		if err != nil {
+			return plan{}, err
+		}
+		r, err := operational(q.Operational, ref, part)
 		return plan{reply: r}, err
 	}
 	return plan{}, &Error{Kind: ErrInvalid, Detail: fmt.Sprintf("no %s request in the queued analysis", kind)}

@@ -181,10 +181,12 @@ func TestIdempotencyWalk(t *testing.T) {
 	})
 }
 
-// sameReply checks that a replay matches the original byte for byte.
+// sameReply checks that a replay matches the original byte for byte, its
+// status and Location included.
 func sameReply(t *testing.T, what string, a, b *httptest.ResponseRecorder) {
 	t.Helper()
-	if b.Code != a.Code || b.Body.String() != a.Body.String() || b.Header().Get("Content-Type") != a.Header().Get("Content-Type") {
+	if b.Code != a.Code || b.Body.String() != a.Body.String() || b.Header().Get("Content-Type") != a.Header().Get("Content-Type") ||
+		b.Header().Get("Location") != a.Header().Get("Location") {
 		t.Errorf("%s: replay %d %.200s, original %d %.200s", what, b.Code, b.Body, a.Code, a.Body)
 	}
 	if b.Header().Get("Idempotency-Replayed") != "true" {

@@ -325,7 +325,8 @@ func TestLayoutAndPlateRules(t *testing.T) {
 	// A CSV sample without a concentration points at its row.
 	csvBody := "well,role,compound_id,conc,value\nA1,max_control,,,100\nA2,max_control,,,100\nA3,min_control,,,0\nA4,min_control,,,0\nA5,sample,X,,50\n"
 	w = ts.do("POST", "/v1/plates?format=96&barcode=B", ScopeSubmit, csvBody, "Content-Type", "text/csv")
-	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 1 || p.Errors[0].Row != 6 || !strings.Contains(p.Errors[0].Detail, "concentration") {
+	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 1 || p.Errors[0].Row != 6 || p.Errors[0].Column != 4 ||
+		!strings.Contains(p.Errors[0].Detail, "concentration") {
 		t.Errorf("CSV without conc: %d %s", w.Code, w.Body)
 	}
 	// A grid upload takes its concentrations from the layout, in molar.

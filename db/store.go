@@ -25,8 +25,13 @@ type Store interface {
 
 // Transactor runs writes.
 type Transactor interface {
-	// Write runs fn in one transaction, committed when fn returns nil; see
-	// sqlStore.Write for what a failed call inside it means.
+	// Write runs fn once, in one transaction on either engine, committed
+	// when fn returns nil and rolled back otherwise. Each Writer call's
+	// error reaches fn as it happens, with the same category and text on
+	// both engines. An ErrExists from an Insert* call (the key is taken;
+	// nothing was written) leaves the write usable: fn may go on or give
+	// up. Any other error aborts the write: later calls return it again,
+	// and Write returns it and rolls back even if fn swallowed it.
 	Write(ctx context.Context, fn func(Writer) error) error
 }
 

@@ -69,8 +69,7 @@ type Reply struct {
 	Status      int
 	ContentType string
 	Body        []byte
-	// Location is the stored record's path, "" for none. It is not part of
-	// the stored reply.
+	// Location is the stored record's path, "" for none.
 	Location string
 	// Replayed is true when the reply is a stored one.
 	Replayed bool
@@ -121,7 +120,7 @@ func (s *Service) write(ctx context.Context, who Caller, idem *Idem, prepare fun
 		}
 		if idem != nil {
 			err := w.InsertIdempotent(ctx, &db.Idempotent{Actor: who.Name, Key: idem.Key, RequestSHA256: idem.Hash,
-				Status: reply.Status, ContentType: reply.ContentType, Body: reply.Body, CreatedAt: s.now()})
+				Status: reply.Status, ContentType: reply.ContentType, Body: reply.Body, Location: reply.Location, CreatedAt: s.now()})
 			if err != nil {
 				return fmt.Errorf("store reply for key %q: %w", idem.Key, err)
 			}
@@ -156,7 +155,7 @@ func (s *Service) replay(ctx context.Context, who Caller, idem *Idem) (*Reply, e
 	if rec.RequestSHA256 != idem.Hash {
 		return nil, &Error{Kind: ErrConflict, Detail: "this Idempotency-Key was used for a different request; use a new key"}
 	}
-	return &Reply{Status: rec.Status, ContentType: rec.ContentType, Body: rec.Body, Replayed: true}, nil
+	return &Reply{Status: rec.Status, ContentType: rec.ContentType, Body: rec.Body, Location: rec.Location, Replayed: true}, nil
 }
 
 // jsonReply encodes v as a JSON reply.

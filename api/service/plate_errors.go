@@ -22,7 +22,7 @@ func locator(form PlateForm, wells []ingest.WellIn) Locate {
 			if i < 0 || i >= len(wells) {
 				return FieldError{Parameter: field}
 			}
-			return FieldError{Row: wells[i].Line}
+			return FieldError{Row: wells[i].Line, Column: wells[i].Columns[field]}
 		}
 	case PlateGrid:
 		return func(_ int, field string) FieldError { return FieldError{Parameter: field} }

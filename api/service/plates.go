@@ -27,7 +27,8 @@ const (
 	// PlateJSON: a JSON body; errors are JSON Pointers (/wells/3/conc).
 	PlateJSON PlateForm = iota
 	// PlateCSV: a long CSV body with the plate fields as query parameters;
-	// a well's error names its CSV row, a plate field's its parameter.
+	// a well's error names its CSV row and column, a plate field's its
+	// parameter.
 	PlateCSV
 	// PlateGrid: a reader's grid with a saved layout (LayoutID); errors
 	// name the parameter (a well's, its layout's).

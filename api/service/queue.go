@@ -17,20 +17,22 @@ import (
 
 // Kinds of queued analysis (the job's analysis).
 const (
-	analysisFit       = "fit"
-	analysisSchild    = "schild"
-	analysisPotential = "potential"
+	analysisFit         = "fit"
+	analysisSchild      = "schild"
+	analysisPotential   = "potential"
+	analysisOperational = "operational"
 )
 
 // queuedRequest is what a queued analysis stores to run later: the
 // request as validated (a bootstrap seed drawn for it included) and what
 // the synchronous path took besides.
 type queuedRequest struct {
-	Fit         *wire.FitRequest       `json:"fit,omitempty"`
-	Schild      *wire.SchildRequest    `json:"schild,omitempty"`
-	Potential   *wire.PotentialRequest `json:"potential,omitempty"`
-	SVG         bool                   `json:"svg,omitempty"`
-	InputSHA256 string                 `json:"input_sha256,omitempty"`
+	Fit         *wire.FitRequest         `json:"fit,omitempty"`
+	Schild      *wire.SchildRequest      `json:"schild,omitempty"`
+	Potential   *wire.PotentialRequest   `json:"potential,omitempty"`
+	Operational *wire.OperationalRequest `json:"operational,omitempty"`
+	SVG         bool                     `json:"svg,omitempty"`
+	InputSHA256 string                   `json:"input_sha256,omitempty"`
 }
 
 // queue plans a request over the synchronous budget: the analysis stored
@@ -108,6 +110,13 @@ func (s *Service) runQueued(ctx context.Context, who Caller, kind string, q *que
 		}
 		r, err := s.runPotential(ctx, q.Potential, m, lc, q.SVG)
 		return plan{reply: r}, err
+	case kind == analysisOperational && q.Operational != nil:
+		ref, part, _, err := s.prepareOperational(q.Operational)
+		if err != nil {
+			return plan{}, err
+		}
+		r, err := operational(q.Operational, ref, part)
+		return plan{reply: r}, err
 	}
 	return plan{}, &Error{Kind: ErrInvalid, Detail: fmt.Sprintf("no %s request in the queued analysis", kind)}
 }
@@ -163,6 +172,18 @@ func (s *Service) Analysis(ctx context.Context, id string) (*wire.Analysis, erro
 		SubmittedBy: a.SubmittedBy, Location: a.Location, Error: a.Error}
 	if a.FinishedAt != nil {
 		v.FinishedAt = a.FinishedAt.Format(time.RFC3339Nano)
+	}
+	if a.Status == db.AnalysisQueued {
+		// Not finished: its job says whether it runs, waits for a retry
+		// (with the last error) or was given up (failed).
+		j, err := s.store.Job(ctx, a.JobID)
+		if err != nil {
+			return nil, fmt.Errorf("job of analysis %s: %w", a.ID, err)
+		}
+		v.Status, v.Error = db.JobStatus(j, nil)
+		if v.Status == db.JobDone {
+			v.Status = db.JobRunning // finishing: the analysis row says done in the same transaction
+		}
 	}
 	if a.Status == db.AnalysisDone {
 		v.ResultType, v.ResultURL = a.ReplyType, "/v1/analyses/"+a.ID+"/result"

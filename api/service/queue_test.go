@@ -3,11 +3,15 @@ package service
 import (
 	"context"
 	"encoding/json"
+	"errors"
+	"math"
 	"testing"
 
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/db/dbtest"
+	"sluice/fit"
+	"sluice/fit/schild"
 )
 
 // A fit over the synchronous budget is stored as a queued analysis with
@@ -131,5 +135,48 @@ func TestQueuedPotential(t *testing.T) {
 	}
 	if a, err := s.Analysis(ctx, "bad"); err != nil || a.Status != "failed" || a.Error == "" {
 		t.Errorf("refused analysis: %+v %v", a, err)
+	}
+}
+
+// A queued operational analysis gives, once its job has run, the reply
+// the synchronous request gives.
+func TestQueuedOperational(t *testing.T) {
+	store := dbtest.SQLite(t)
+	queued, err := New(Deps{Store: store, Budget: Budget{Sync: 1}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sync := newTestService(t, store)
+	ctx := context.Background()
+	var ref, part []wire.PointIn
+	for k := 0; k < 12; k++ {
+		a := 1e-9 * math.Pow(10, 0.5*float64(k))
+		r, p := fit.Hill.Value([]float64{0, 100, -7, 1}, a), schild.Operational(100, 2e-6, 1.5, 1, a)
+		ref = append(ref, wire.PointIn{Conc: &a, Response: &r})
+		part = append(part, wire.PointIn{Conc: &a, Response: &p})
+	}
+	req := &wire.OperationalRequest{Reference: ref, Partial: part}
+	r, err := queued.Operational(ctx, Caller{Name: "p"}, nil, req)
+	if err != nil || r.Status != 202 {
+		t.Fatalf("%v %+v", err, r)
+	}
+	var q wire.AnalysisQueued
+	if err := json.Unmarshal(r.Body, &q); err != nil {
+		t.Fatal(err)
+	}
+	if err := queued.RunAnalysis(ctx, "operational", q.AnalysisID); err != nil {
+		t.Fatal(err)
+	}
+	got, err := queued.AnalysisResult(ctx, q.AnalysisID)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := sync.Operational(ctx, Caller{Name: "p"}, nil, req)
+	if err != nil || want.Status != 200 || string(got.Body) != string(want.Body) {
+		t.Errorf("queued %s\nsynchronous %s (%v)", got.Body, want.Body, err)
+	}
+	req.Confidence = 1.5
+	if _, err := sync.Operational(ctx, Caller{}, nil, req); !errors.Is(err, ErrInvalid) {
+		t.Errorf("confidence 1.5: %v", err)
 	}
 }

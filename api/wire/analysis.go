@@ -15,8 +15,8 @@ type AnalysisQueued struct {
 // Result holds it when it is JSON, and ResultURL gives it byte for byte).
 type Analysis struct {
 	ID          string          `json:"id"`
-	Kind        string          `json:"kind"` // "fit", "schild" or "potential"
-	Status      string          `json:"status"`
+	Kind        string          `json:"kind"`   // "fit", "schild" or "potential"
+	Status      string          `json:"status"` // queued, running, done or failed
 	JobID       int64           `json:"job_id"`
 	CreatedAt   string          `json:"created_at"`
 	SubmittedBy string          `json:"submitted_by"`

@@ -39,9 +39,9 @@ type serveConfig struct {
 	// 30s, inside Kubernetes' default termination grace period.
 	ShutdownGrace time.Duration
 	// SyncBudget (SLUICE_SYNC_BUDGET, --sync-budget) is the estimated CPU
-	// time of one core a fit, Schild or potential request may take before
-	// it answers; a request estimated above it (fit.Cost, schild.Cost,
-	// membrane.Cost) is queued as a job and answered 202. WorkLimit
+	// time of one core a fit, Schild, potential or operational request may
+	// take before it answers; a request estimated above it (fit.Cost,
+	// schild.Cost, membrane.Cost) is queued as a job and answered 202. WorkLimit
 	// (SLUICE_WORK_LIMIT, --work-limit) refuses any request estimated above
 	// it with a 422. Range 1ms ≤ sync budget ≤ work limit ≤ 1h; defaults
 	// 1s and 30s (service.DefaultSyncBudget and DefaultHardLimit).
@@ -119,7 +119,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.BoolVar(&migrate, "migrate", migrate, "apply the store's migrations at start; false only checks they were applied (SLUICE_MIGRATE)")
 	fs.StringVar(&c.Role, "role", envOr(getenv, "SLUICE_ROLE", "all"), "api (HTTP only), worker (plate jobs; HTTP for health and metrics) or all (SLUICE_ROLE)")
 	fs.DurationVar(&c.ShutdownGrace, "shutdown-grace", grace, "on SIGTERM, how long running plate jobs and requests may finish (SLUICE_SHUTDOWN_GRACE)")
-	fs.DurationVar(&c.SyncBudget, "sync-budget", syncBudget, "estimated CPU time a fit, Schild or potential request may take before it answers; above it, queued (SLUICE_SYNC_BUDGET)")
+	fs.DurationVar(&c.SyncBudget, "sync-budget", syncBudget, "estimated CPU time a fit, Schild, potential or operational request may take before it answers; above it, queued (SLUICE_SYNC_BUDGET)")
 	fs.DurationVar(&c.WorkLimit, "work-limit", workLimit, "estimated CPU time above which a request is refused with a 422 (SLUICE_WORK_LIMIT)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err

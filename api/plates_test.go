@@ -387,3 +387,24 @@ func TestPlateZeroMinControls(t *testing.T) {
 		}
 	})
 }
+
+// A grid that lacks a value for a well its layout reads names the well.
+func TestGridMissingValue(t *testing.T) {
+	ts := newTestServer(t, dbtest.SQLite(t))
+	num := func(v float64) *float64 { return &v }
+	layout := wire.LayoutRequest{ID: "g96", Name: "g", Format: 96, Wells: []wire.Well{
+		{Well: "A1", Role: "max_control"}, {Well: "B1", Role: "max_control"},
+		{Well: "A12", Role: "min_control"}, {Well: "B12", Role: "min_control"},
+		{Well: "C5", Role: "sample", CompoundID: "X", Conc: num(1e-6)},
+	}}
+	b, _ := json.Marshal(layout)
+	if w := ts.do("POST", "/v1/layouts", ScopeSubmit, string(b)); w.Code != 201 {
+		t.Fatalf("layout: %d %s", w.Code, w.Body)
+	}
+	grid := ",1,12\nA,100,1\nB,101,2\n" // no column 5: C05 has no value
+	w := ts.do("POST", "/v1/plates?layout_id=g96&format=96&barcode=G", ScopeSubmit, grid, "Content-Type", "text/csv")
+	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 1 || !strings.Contains(p.Errors[0].Detail, "C05") ||
+		p.Errors[0].Parameter != "" {
+		t.Errorf("%d %s", w.Code, w.Body)
+	}
+}

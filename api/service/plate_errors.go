@@ -12,9 +12,10 @@ import (
 // (-1 for a field of the plate as a whole) and the field's name.
 type Locate func(i int, field string) FieldError
 
-// locator is the Locate of a plate form: a JSON Pointer into a JSON body,
-// the CSV row of a well (plate fields are query parameters), or for a grid
-// the parameter.
+// locator is the Locate of a plate form: a JSON Pointer into a JSON body;
+// for CSV the row and column of a well's field, or the query parameter of
+// a plate field; for a grid the parameter of a plate field (a well's error
+// names the well in its detail).
 func locator(form PlateForm, wells []ingest.WellIn) Locate {
 	switch form {
 	case PlateCSV:
@@ -25,7 +26,14 @@ func locator(form PlateForm, wells []ingest.WellIn) Locate {
 			return FieldError{Row: wells[i].Line, Column: wells[i].Columns[field]}
 		}
 	case PlateGrid:
-		return func(_ int, field string) FieldError { return FieldError{Parameter: field} }
+		return func(i int, field string) FieldError {
+			if i < 0 {
+				return FieldError{Parameter: field}
+			}
+			// A well of the layout: the grid has no line numbers to
+			// give, and the detail names the well.
+			return FieldError{}
+		}
 	}
 	return JSONLocate
 }

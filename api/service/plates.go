@@ -30,8 +30,9 @@ const (
 	// a well's error names its CSV row and column, a plate field's its
 	// parameter.
 	PlateCSV
-	// PlateGrid: a reader's grid with a saved layout (LayoutID); errors
-	// name the parameter (a well's, its layout's).
+	// PlateGrid: a reader's grid with a saved layout (LayoutID); a plate
+	// field's error names its parameter, a well's names the well in its
+	// detail (e.g. a read well the grid has no value for).
 	PlateGrid
 )
 

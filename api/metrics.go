@@ -1,6 +1,7 @@
 package api
 
 import (
+	"log/slog"
 	"strconv"
 	"time"
 
@@ -24,7 +25,7 @@ type metrics struct {
 	plateDuration prometheus.Histogram
 }
 
-func newMetrics(reg prometheus.Registerer, store db.Store) (*metrics, error) {
+func newMetrics(reg prometheus.Registerer, store db.Store, log *slog.Logger) (*metrics, error) {
 	m := &metrics{
 		requests: prometheus.NewCounterVec(prometheus.CounterOpts{
 			Name: "sluice_http_requests_total", Help: "HTTP requests by route, method and status code.",
@@ -54,7 +55,7 @@ func newMetrics(reg prometheus.Registerer, store db.Store) (*metrics, error) {
 	cs := []prometheus.Collector{m.requests, m.duration, m.fits, m.fitDuration, m.resamples, m.failedRefits, m.plateDuration,
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{})}
 	if store != nil {
-		cs = append(cs, poolCollector{store})
+		cs = append(cs, poolCollector{store}, jobsCollector{jobs: store, log: log})
 	}
 	for _, c := range cs {
 		if err := reg.Register(c); err != nil {

@@ -85,7 +85,7 @@ func New(cfg Config, d Deps) (*Server, error) {
 	if reg == nil {
 		reg = prometheus.NewRegistry()
 	}
-	m, err := newMetrics(reg, d.Store)
+	m, err := newMetrics(reg, d.Store, s.log)
 	if err != nil {
 		return nil, err
 	}

@@ -115,6 +115,9 @@ type Jobs interface {
 	// is done (the grace period); then it cancels them, so that River
 	// hands them back to be retried, and returns an error saying so.
 	StopWorkers(ctx context.Context) error
+	// JobCounts counts waiting and running jobs by kind, for the
+	// queue-depth metrics (sluice_jobs_queued, sluice_jobs_running).
+	JobCounts(ctx context.Context) ([]JobCount, error)
 }
 
 // Health tells whether the store answers, for probes and metrics.

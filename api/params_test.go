@@ -92,3 +92,30 @@ func TestQueryParamsDocumented(t *testing.T) {
 		}
 	}
 }
+
+// Every operation documents the 400 of an unknown query parameter, and
+// every POST the 409 of a reused Idempotency-Key.
+func TestProblemsDocumented(t *testing.T) {
+	var doc struct {
+		Paths map[string]map[string]json.RawMessage `json:"paths"`
+	}
+	if err := json.Unmarshal(openAPIDoc, &doc); err != nil {
+		t.Fatal(err)
+	}
+	for path, ops := range doc.Paths {
+		for method, raw := range ops {
+			var op struct {
+				Responses map[string]json.RawMessage `json:"responses"`
+			}
+			if err := json.Unmarshal(raw, &op); err != nil || op.Responses == nil {
+				continue
+			}
+			if op.Responses["400"] == nil {
+				t.Errorf("%s %s: no 400", method, path)
+			}
+			if method == "post" && op.Responses["409"] == nil {
+				t.Errorf("%s %s: no 409", method, path)
+			}
+		}
+	}
+}

@@ -160,6 +160,15 @@ func TestIdempotencyWalk(t *testing.T) {
 				}
 			})
 		}
+		// The figure asked for by Accept is another request than the JSON
+		// under the same key.
+		t.Run("potential Accept", func(t *testing.T) {
+			a := ts.do("POST", "/v1/potential", ScopeRead, factsPotential, "Idempotency-Key", "walk-accept", "Accept", "image/svg+xml")
+			b := ts.do("POST", "/v1/potential", ScopeRead, factsPotential, "Idempotency-Key", "walk-accept")
+			if a.Code != 200 || a.Header().Get("Content-Type") != "image/svg+xml" || b.Code != 409 {
+				t.Errorf("svg %d %s, then JSON under its key %d, want 409", a.Code, a.Header().Get("Content-Type"), b.Code)
+			}
+		})
 		// ?wait is "submit, then wait": retried without it, the plate is
 		// replayed, not refused or stored twice.
 		t.Run("plates?wait", func(t *testing.T) {
@@ -181,10 +190,12 @@ func TestIdempotencyWalk(t *testing.T) {
 	})
 }
 
-// sameReply checks that a replay matches the original byte for byte.
+// sameReply checks that a replay matches the original byte for byte, its
+// status and Location included.
 func sameReply(t *testing.T, what string, a, b *httptest.ResponseRecorder) {
 	t.Helper()
-	if b.Code != a.Code || b.Body.String() != a.Body.String() || b.Header().Get("Content-Type") != a.Header().Get("Content-Type") {
+	if b.Code != a.Code || b.Body.String() != a.Body.String() || b.Header().Get("Content-Type") != a.Header().Get("Content-Type") ||
+		b.Header().Get("Location") != a.Header().Get("Location") {
 		t.Errorf("%s: replay %d %.200s, original %d %.200s", what, b.Code, b.Body, a.Code, a.Body)
 	}
 	if b.Header().Get("Idempotency-Replayed") != "true" {

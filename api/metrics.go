@@ -1,6 +1,7 @@
 package api
 
 import (
+	"log/slog"
 	"strconv"
 	"time"
 
@@ -24,7 +25,7 @@ type metrics struct {
 	plateDuration prometheus.Histogram
 }
 
-func newMetrics(reg prometheus.Registerer, store db.Store) (*metrics, error) {
+func newMetrics(reg prometheus.Registerer, store db.Store, log *slog.Logger) (*metrics, error) {
 	m := &metrics{
 		requests: prometheus.NewCounterVec(prometheus.CounterOpts{
 			Name: "sluice_http_requests_total", Help: "HTTP requests by route, method and status code.",
@@ -54,7 +55,7 @@ func newMetrics(reg prometheus.Registerer, store db.Store) (*metrics, error) {
 	cs := []prometheus.Collector{m.requests, m.duration, m.fits, m.fitDuration, m.resamples, m.failedRefits, m.plateDuration,
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{})}
 	if store != nil {
-		cs = append(cs, poolCollector{store})
+		cs = append(cs, poolCollector{store}, jobsCollector{jobs: store, log: log})
 	}
 	for _, c := range cs {
 		if err := reg.Register(c); err != nil {
@@ -105,6 +106,15 @@ func (p poolCollector) Collect(ch chan<- prometheus.Metric) {
 // CurveFitted implements service.Observer.
 func (m *metrics) CurveFitted(model, status string, d time.Duration, resamples, failedRefits int) {
 	m.fitDuration.WithLabelValues(model).Observe(d.Seconds())
+	m.fits.WithLabelValues(model, status).Inc()
+	if resamples > 0 {
+		m.resamples.Add(float64(resamples))
+		m.failedRefits.Add(float64(failedRefits))
+	}
+}
+
+// PlateCurveFitted implements service.Observer.
+func (m *metrics) PlateCurveFitted(model, status string, resamples, failedRefits int) {
 	m.fits.WithLabelValues(model, status).Inc()
 	if resamples > 0 {
 		m.resamples.Add(float64(resamples))

@@ -1,6 +1,8 @@
 package api
 
 import (
+	"encoding/json"
+	"slices"
 	"strings"
 	"testing"
 
@@ -44,5 +46,76 @@ func TestUnknownQueryParameters(t *testing.T) {
 	// The filters themselves still work.
 	if w := ts.do("GET", "/v1/fits?compound_id=X&limit=5", ScopeRead, ""); w.Code != 200 {
 		t.Errorf("GET /v1/fits?compound_id=X&limit=5: %d %s", w.Code, w.Body)
+	}
+}
+
+// The query parameters the OpenAPI document gives each route are the ones
+// the route takes (queryParams), no more and no fewer.
+func TestQueryParamsDocumented(t *testing.T) {
+	var doc struct {
+		Paths map[string]map[string]json.RawMessage `json:"paths"`
+	}
+	if err := json.Unmarshal(openAPIDoc, &doc); err != nil {
+		t.Fatal(err)
+	}
+	documented := map[string][]string{}
+	for path, ops := range doc.Paths {
+		for method, raw := range ops {
+			var op struct {
+				Parameters []struct {
+					Name string `json:"name"`
+					In   string `json:"in"`
+				} `json:"parameters"`
+			}
+			if err := json.Unmarshal(raw, &op); err != nil {
+				continue // not an operation
+			}
+			key := strings.ToUpper(method) + " " + strings.ReplaceAll(path, "{id}", ":id")
+			for _, p := range op.Parameters {
+				if p.In == "query" {
+					documented[key] = append(documented[key], p.Name)
+				}
+			}
+		}
+	}
+	routes := map[string]bool{}
+	for k := range documented {
+		routes[k] = true
+	}
+	for k := range queryParams {
+		routes[k] = true
+	}
+	for k := range routes {
+		got, want := slices.Sorted(slices.Values(documented[k])), slices.Sorted(slices.Values(queryParams[k]))
+		if !slices.Equal(got, want) {
+			t.Errorf("%s: documented %v, takes %v", k, got, want)
+		}
+	}
+}
+
+// Every operation documents the 400 of an unknown query parameter, and
+// every POST the 409 of a reused Idempotency-Key.
+func TestProblemsDocumented(t *testing.T) {
+	var doc struct {
+		Paths map[string]map[string]json.RawMessage `json:"paths"`
+	}
+	if err := json.Unmarshal(openAPIDoc, &doc); err != nil {
+		t.Fatal(err)
+	}
+	for path, ops := range doc.Paths {
+		for method, raw := range ops {
+			var op struct {
+				Responses map[string]json.RawMessage `json:"responses"`
+			}
+			if err := json.Unmarshal(raw, &op); err != nil || op.Responses == nil {
+				continue
+			}
+			if op.Responses["400"] == nil {
+				t.Errorf("%s %s: no 400", method, path)
+			}
+			if method == "post" && op.Responses["409"] == nil {
+				t.Errorf("%s %s: no 409", method, path)
+			}
+		}
 	}
 }

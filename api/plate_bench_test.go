@@ -65,7 +65,7 @@ func BenchmarkPlate1536(b *testing.B) {
 			if err != nil {
 				b.Fatal(err)
 			}
-			if err := store.StartWorkers(context.Background(), srv.FitPlate, 2); err != nil {
+			if err := store.StartWorkers(context.Background(), srv.Service().RunPlateJob, 2); err != nil {
 				b.Fatal(err)
 			}
 			defer store.StopWorkers(context.Background())

@@ -22,11 +22,11 @@ import (
 // concentrations in duplicate (columns 3–22), generated from known Hill
 // parameters with noise of 2 % of the window. It returns the wells and each
 // compound's true log EC50 and slope.
-func invented384(seed uint64) ([]WellJSON, map[string][2]float64) {
+func invented384(seed uint64) ([]wire.Well, map[string][2]float64) {
 	rng := rand.New(rand.NewPCG(seed, 384))
 	const lo, hi = 200.0, 2200.0
 	truth := map[string][2]float64{}
-	var ws []WellJSON
+	var ws []wire.Well
 	f := plate.Plate384
 	num := func(v float64) *float64 { return &v }
 	for r := 0; r < 16; r++ {
@@ -35,7 +35,7 @@ func invented384(seed uint64) ([]WellJSON, map[string][2]float64) {
 		h := 0.8 + 0.1*float64(r%6)
 		truth[cpd] = [2]float64{logEC, h}
 		for c := 0; c < 24; c++ {
-			w := WellJSON{Well: f.Name(plate.Well{Row: r, Col: c})}
+			w := wire.Well{Well: f.Name(plate.Well{Row: r, Col: c})}
 			switch {
 			case c < 2:
 				w.Role, w.Value = "max_control", num(hi+40*rng.NormFloat64())
@@ -54,7 +54,7 @@ func invented384(seed uint64) ([]WellJSON, map[string][2]float64) {
 
 func startWorkers(t *testing.T, ts *testServer) {
 	t.Helper()
-	if err := ts.store.StartWorkers(context.Background(), ts.srv.FitPlate, 2); err != nil {
+	if err := ts.store.StartWorkers(context.Background(), ts.srv.Service().RunPlateJob, 2); err != nil {
 		t.Fatal(err)
 	}
 	t.Cleanup(func() { ts.store.StopWorkers(context.Background()) })
@@ -68,13 +68,13 @@ func TestPlateJSONEndToEnd(t *testing.T) {
 		startWorkers(t, ts)
 		wells, truth := invented384(1)
 		seed := uint64(11) // fixed, so that the check below is deterministic
-		body, _ := json.Marshal(PlateRequest{Barcode: "LK-0384-01", Format: 384, Mode: "agonist", Wells: wells,
-			MeasuredAt: "2026-11-30T10:00:00Z", Fit: &PlateFitIn{Bootstrap: &wire.BootstrapIn{Resamples: 300, Seed: &seed}}})
+		body, _ := json.Marshal(wire.PlateRequest{Barcode: "LK-0384-01", Format: 384, Mode: "agonist", Wells: wells,
+			MeasuredAt: "2026-11-30T10:00:00Z", Fit: &wire.PlateFit{Bootstrap: &wire.BootstrapIn{Resamples: 300, Seed: &seed}}})
 		w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
 		if w.Code != 200 {
 			t.Fatalf("%d %s", w.Code, w.Body)
 		}
-		var v PlateView
+		var v wire.PlateView
 		json.Unmarshal(w.Body.Bytes(), &v)
 		if v.Status != db.PlateDone || len(v.Curves) != 16 || v.Progress.Done != 16 || v.Progress.Total != 16 {
 			t.Fatalf("plate %s, %d curves, progress %+v", v.Status, len(v.Curves), v.Progress)
@@ -91,7 +91,7 @@ func TestPlateJSONEndToEnd(t *testing.T) {
 		// fixed check, declared before running.
 		missed := 0
 		for _, raw := range v.Curves {
-			var pc PlateCurve
+			var pc wire.PlateCurve
 			json.Unmarshal(raw, &pc)
 			tr := truth[pc.CompoundID]
 			for _, p := range pc.Params {
@@ -105,7 +105,7 @@ func TestPlateJSONEndToEnd(t *testing.T) {
 			t.Errorf("%d of 16 log_ec50 intervals miss the truth", missed)
 		}
 		j := ts.do("GET", fmt.Sprintf("/v1/jobs/%d", v.JobID), ScopeRead, "")
-		var jv JobView
+		var jv wire.JobView
 		json.Unmarshal(j.Body.Bytes(), &jv)
 		if j.Code != 200 || jv.Status != "done" || jv.PlateID != v.PlateID {
 			t.Errorf("job: %d %s", j.Code, j.Body)
@@ -129,7 +129,7 @@ func TestPlateCSVAndGrid(t *testing.T) {
 	var long strings.Builder
 	long.WriteString("well,role,compound_id,conc,value\n")
 	grid := map[string]float64{}
-	var layout []WellJSON
+	var layout []wire.Well
 	for _, w := range wells {
 		conc := ""
 		if w.Conc != nil {
@@ -150,7 +150,7 @@ func TestPlateCSVAndGrid(t *testing.T) {
 	if a.Code != 200 {
 		t.Fatalf("long CSV: %d %s", a.Code, a.Body)
 	}
-	lb, _ := json.Marshal(LayoutRequest{ID: "lx-384-a", Name: "16 × 10 × 2", Format: 384, Wells: layout})
+	lb, _ := json.Marshal(wire.LayoutRequest{ID: "lx-384-a", Name: "16 × 10 × 2", Format: 384, Wells: layout})
 	if w := ts.do("POST", "/v1/layouts", ScopeSubmit, string(lb)); w.Code != 201 {
 		t.Fatalf("layout: %d %s", w.Code, w.Body)
 	}
@@ -171,14 +171,14 @@ func TestPlateCSVAndGrid(t *testing.T) {
 	if b.Code != 200 {
 		t.Fatalf("grid: %d %s", b.Code, b.Body)
 	}
-	var va, vb PlateView
+	var va, vb wire.PlateView
 	json.Unmarshal(a.Body.Bytes(), &va)
 	json.Unmarshal(b.Body.Bytes(), &vb)
 	if len(va.Curves) != 16 || len(vb.Curves) != 16 {
 		t.Fatalf("%d and %d curves", len(va.Curves), len(vb.Curves))
 	}
 	for i := range va.Curves {
-		var ca, cb PlateCurve
+		var ca, cb wire.PlateCurve
 		json.Unmarshal(va.Curves[i], &ca)
 		json.Unmarshal(vb.Curves[i], &cb)
 		if ca.Key != cb.Key || math.Abs(float64(ca.PEC50-cb.PEC50)) > 1e-9 {
@@ -191,8 +191,8 @@ func TestPlateCSVAndGrid(t *testing.T) {
 func TestPlateBadInput(t *testing.T) {
 	ts := newTestServer(t, dbtest.SQLite(t))
 	wells, _ := invented384(3)
-	mk := func(mod func(*PlateRequest)) string {
-		req := PlateRequest{Barcode: "B", Format: 384, Wells: append([]WellJSON(nil), wells...)}
+	mk := func(mod func(*wire.PlateRequest)) string {
+		req := wire.PlateRequest{Barcode: "B", Format: 384, Wells: append([]wire.Well(nil), wells...)}
 		mod(&req)
 		b, _ := json.Marshal(req)
 		return string(b)
@@ -201,16 +201,16 @@ func TestPlateBadInput(t *testing.T) {
 		body    string
 		pointer string
 	}{
-		{mk(func(r *PlateRequest) { r.Wells[3].Well = "Q99" }), "/wells/3/well"},
-		{mk(func(r *PlateRequest) { r.Wells[5].Well = r.Wells[4].Well }), "/wells/5/well"},
-		{mk(func(r *PlateRequest) { r.Wells[7].Role = "blank" }), "/wells/7/role"},
-		{mk(func(r *PlateRequest) { r.Wells[2].CompoundID = "" }), "/wells/2/compound_id"},
-		{mk(func(r *PlateRequest) { r.Wells[2].Value = nil }), "/wells/2/value"},
-		{mk(func(r *PlateRequest) { r.Format = 100 }), "/format"},
-		{mk(func(r *PlateRequest) { r.Mode = "both" }), "/mode"},
-		{mk(func(r *PlateRequest) { r.Fit = &PlateFitIn{Model: "hill9"} }), "/fit/model"},
-		{mk(func(r *PlateRequest) { r.Fit = &PlateFitIn{Bootstrap: &wire.BootstrapIn{Resamples: -1}} }), "/fit/bootstrap/resamples"},
-		{mk(func(r *PlateRequest) {
+		{mk(func(r *wire.PlateRequest) { r.Wells[3].Well = "Q99" }), "/wells/3/well"},
+		{mk(func(r *wire.PlateRequest) { r.Wells[5].Well = r.Wells[4].Well }), "/wells/5/well"},
+		{mk(func(r *wire.PlateRequest) { r.Wells[7].Role = "blank" }), "/wells/7/role"},
+		{mk(func(r *wire.PlateRequest) { r.Wells[2].CompoundID = "" }), "/wells/2/compound_id"},
+		{mk(func(r *wire.PlateRequest) { r.Wells[2].Value = nil }), "/wells/2/value"},
+		{mk(func(r *wire.PlateRequest) { r.Format = 100 }), "/format"},
+		{mk(func(r *wire.PlateRequest) { r.Mode = "both" }), "/mode"},
+		{mk(func(r *wire.PlateRequest) { r.Fit = &wire.PlateFit{Model: "hill9"} }), "/fit/model"},
+		{mk(func(r *wire.PlateRequest) { r.Fit = &wire.PlateFit{Bootstrap: &wire.BootstrapIn{Resamples: -1}} }), "/fit/bootstrap/resamples"},
+		{mk(func(r *wire.PlateRequest) {
 			for i := range r.Wells {
 				if r.Wells[i].Role == "min_control" {
 					r.Wells[i].Role = "empty"
@@ -243,7 +243,7 @@ func TestPlateBadInput(t *testing.T) {
 func TestPlateJobInterrupted(t *testing.T) {
 	ts := newTestServer(t, dbtest.SQLite(t))
 	wells, _ := invented384(4)
-	body, _ := json.Marshal(PlateRequest{Barcode: "LK-KILL", Format: 384, Wells: wells, Fit: &PlateFitIn{Bootstrap: &wire.BootstrapIn{Resamples: 5000}}})
+	body, _ := json.Marshal(wire.PlateRequest{Barcode: "LK-KILL", Format: 384, Wells: wells, Fit: &wire.PlateFit{Bootstrap: &wire.BootstrapIn{Resamples: 5000}}})
 	w := ts.do("POST", "/v1/plates", ScopeSubmit, string(body))
 	if w.Code != 202 {
 		t.Fatalf("%d %s", w.Code, w.Body)
@@ -255,17 +255,17 @@ func TestPlateJobInterrupted(t *testing.T) {
 	json.Unmarshal(w.Body.Bytes(), &acc)
 	ctx, cancel := context.WithCancel(context.Background())
 	go func() { time.Sleep(20 * time.Millisecond); cancel() }()
-	if err := ts.srv.FitPlate(ctx, acc.PlateID); err == nil {
+	if err := ts.srv.Service().RunPlateJob(ctx, acc.PlateID); err == nil {
 		t.Fatal("an interrupted job reported success")
 	}
 	cs, _ := ts.store.PlateCurves(context.Background(), acc.PlateID)
 	if len(cs) != 0 {
 		t.Fatalf("%d curves stored by an interrupted job", len(cs))
 	}
-	if err := ts.srv.FitPlate(context.Background(), acc.PlateID); err != nil {
+	if err := ts.srv.Service().RunPlateJob(context.Background(), acc.PlateID); err != nil {
 		t.Fatal(err)
 	}
-	if err := ts.srv.FitPlate(context.Background(), acc.PlateID); err != nil { // a late duplicate run
+	if err := ts.srv.Service().RunPlateJob(context.Background(), acc.PlateID); err != nil { // a late duplicate run
 		t.Fatal(err)
 	}
 	cs, _ = ts.store.PlateCurves(context.Background(), acc.PlateID)
@@ -280,25 +280,25 @@ func TestPlateJobInterrupted(t *testing.T) {
 func TestLayoutAndPlateRules(t *testing.T) {
 	ts := newTestServer(t, dbtest.SQLite(t))
 	wells, _ := invented384(5)
-	layout := func(mod func([]WellJSON)) string {
-		ws := make([]WellJSON, len(wells))
+	layout := func(mod func([]wire.Well)) string {
+		ws := make([]wire.Well, len(wells))
 		for i, w := range wells {
 			w.Value = nil
 			ws[i] = w
 		}
 		mod(ws)
-		b, _ := json.Marshal(LayoutRequest{ID: "l1", Name: "l", Format: 384, Wells: ws})
+		b, _ := json.Marshal(wire.LayoutRequest{ID: "l1", Name: "l", Format: 384, Wells: ws})
 		return string(b)
 	}
 	one := 1.0
 	for _, c := range []struct {
 		body, pointer string
 	}{
-		{layout(func(ws []WellJSON) { ws[9].Well = "Q1" }), "/wells/9/well"},
-		{layout(func(ws []WellJSON) { ws[9].Value = &one }), "/wells/9/value"},
-		{layout(func(ws []WellJSON) { ws[4].Conc = nil }), "/wells/4/conc"},
-		{layout(func(ws []WellJSON) { ws[4].AntagonistConc = &one }), "/wells/4/antagonist_id"},
-		{layout(func(ws []WellJSON) {
+		{layout(func(ws []wire.Well) { ws[9].Well = "Q1" }), "/wells/9/well"},
+		{layout(func(ws []wire.Well) { ws[9].Value = &one }), "/wells/9/value"},
+		{layout(func(ws []wire.Well) { ws[4].Conc = nil }), "/wells/4/conc"},
+		{layout(func(ws []wire.Well) { ws[4].AntagonistConc = &one }), "/wells/4/antagonist_id"},
+		{layout(func(ws []wire.Well) {
 			for i := range ws {
 				if ws[i].Role == "max_control" {
 					ws[i].Role = "excluded"
@@ -315,7 +315,7 @@ func TestLayoutAndPlateRules(t *testing.T) {
 		t.Error("an invalid layout was stored")
 	}
 	// Two broken wells: both listed, in order.
-	req := PlateRequest{Barcode: "B", Format: 384, Wells: append([]WellJSON(nil), wells...)}
+	req := wire.PlateRequest{Barcode: "B", Format: 384, Wells: append([]wire.Well(nil), wells...)}
 	req.Wells[2].CompoundID, req.Wells[30].Role = "", "blank"
 	b, _ := json.Marshal(req)
 	w := ts.do("POST", "/v1/plates", ScopeSubmit, string(b))
@@ -325,7 +325,8 @@ func TestLayoutAndPlateRules(t *testing.T) {
 	// A CSV sample without a concentration points at its row.
 	csvBody := "well,role,compound_id,conc,value\nA1,max_control,,,100\nA2,max_control,,,100\nA3,min_control,,,0\nA4,min_control,,,0\nA5,sample,X,,50\n"
 	w = ts.do("POST", "/v1/plates?format=96&barcode=B", ScopeSubmit, csvBody, "Content-Type", "text/csv")
-	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 1 || p.Errors[0].Row != 6 || !strings.Contains(p.Errors[0].Detail, "concentration") {
+	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 1 || p.Errors[0].Row != 6 || p.Errors[0].Column != 4 ||
+		!strings.Contains(p.Errors[0].Detail, "concentration") {
 		t.Errorf("CSV without conc: %d %s", w.Code, w.Body)
 	}
 	// A grid upload takes its concentrations from the layout, in molar.
@@ -351,13 +352,13 @@ func TestPlateZeroMinControls(t *testing.T) {
 			}
 		}
 		seed := uint64(3)
-		body, _ := json.Marshal(PlateRequest{Barcode: "LK-BGSUB", Format: 384, Wells: wells,
-			Fit: &PlateFitIn{Bootstrap: &wire.BootstrapIn{Resamples: 50, Seed: &seed}}})
+		body, _ := json.Marshal(wire.PlateRequest{Barcode: "LK-BGSUB", Format: 384, Wells: wells,
+			Fit: &wire.PlateFit{Bootstrap: &wire.BootstrapIn{Resamples: 50, Seed: &seed}}})
 		w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
 		if w.Code != 200 {
 			t.Fatalf("%d %s", w.Code, w.Body)
 		}
-		var v PlateView
+		var v wire.PlateView
 		json.Unmarshal(w.Body.Bytes(), &v)
 		if v.Status != db.PlateDone || len(v.Curves) != 16 {
 			t.Fatalf("plate %s with %d curves", v.Status, len(v.Curves))
@@ -385,4 +386,25 @@ func TestPlateZeroMinControls(t *testing.T) {
 			t.Errorf("heatmap: %d", hm.Code)
 		}
 	})
+}
+
+// A grid that lacks a value for a well its layout reads names the well.
+func TestGridMissingValue(t *testing.T) {
+	ts := newTestServer(t, dbtest.SQLite(t))
+	num := func(v float64) *float64 { return &v }
+	layout := wire.LayoutRequest{ID: "g96", Name: "g", Format: 96, Wells: []wire.Well{
+		{Well: "A1", Role: "max_control"}, {Well: "B1", Role: "max_control"},
+		{Well: "A12", Role: "min_control"}, {Well: "B12", Role: "min_control"},
+		{Well: "C5", Role: "sample", CompoundID: "X", Conc: num(1e-6)},
+	}}
+	b, _ := json.Marshal(layout)
+	if w := ts.do("POST", "/v1/layouts", ScopeSubmit, string(b)); w.Code != 201 {
+		t.Fatalf("layout: %d %s", w.Code, w.Body)
+	}
+	grid := ",1,12\nA,100,1\nB,101,2\n" // no column 5: C05 has no value
+	w := ts.do("POST", "/v1/plates?layout_id=g96&format=96&barcode=G", ScopeSubmit, grid, "Content-Type", "text/csv")
+	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 1 || !strings.Contains(p.Errors[0].Detail, "C05") ||
+		p.Errors[0].Parameter != "" {
+		t.Errorf("%d %s", w.Code, w.Body)
+	}
 }

@@ -16,12 +16,16 @@ func (s *Server) postPotential(c *gin.Context) {
 	if !ok {
 		return
 	}
-	idem, err := idemOf(c, body)
+	svg := c.Query("format") == "svg" || strings.Contains(c.GetHeader("Accept"), "image/svg+xml")
+	reply := "json"
+	if svg {
+		reply = "svg"
+	}
+	idem, err := idemOf(c, body, "reply", reply)
 	if err != nil {
 		s.writeProblem(c, err)
 		return
 	}
-	svg := c.Query("format") == "svg" || strings.Contains(c.GetHeader("Accept"), "image/svg+xml")
 	r, err := s.svc.Potential(c.Request.Context(), callerOf(c), idem, &req, svg)
 	if err != nil {
 		s.writeProblem(c, err)

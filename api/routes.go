@@ -56,20 +56,22 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/jobs/:id", s.getJob)
 	read.GET("/schild/:id", s.getSchild)
 	read.GET("/schild/:id/plot.svg", s.schildPlot)
+	read.GET("/analyses/:id", s.getAnalysis)
+	read.GET("/analyses/:id/result", s.getAnalysisResult)
 
-	// Writes: the use cases handle the Idempotency-Key (service.NewIdem);
-	// s.idempotency does it for the handlers that still store themselves.
+	// Writes: each handler builds the request's service.Idem from its
+	// Idempotency-Key (idemOf) and the use case does the rest.
 	submit := r.Group("/v1", s.authenticate(ScopeSubmit))
 	submit.POST("/fits", s.createFit)
 	submit.POST("/assays", s.createAssay)
 	submit.POST("/compounds", s.createCompound)
-	submit.POST("/layouts", s.idempotency, s.createLayout)
-	submit.POST("/plates", s.idempotency, s.createPlate)
+	submit.POST("/layouts", s.createLayout)
+	submit.POST("/plates", s.createPlate)
 	submit.POST("/schild", s.createSchild)
 
 	// Calculators: no record is stored, so scope read suffices.
 	calc := r.Group("/v1", s.authenticate(ScopeRead))
-	calc.POST("/potential", s.idempotency, s.postPotential)
+	calc.POST("/potential", s.postPotential)
 	calc.POST("/operational", s.postOperational)
 	return r
 }

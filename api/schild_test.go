@@ -91,17 +91,17 @@ func TestPlateSchild(t *testing.T) {
 	startWorkers(t, ts)
 	f := plate.Plate384
 	num := func(v float64) *float64 { return &v }
-	var wells []WellJSON
+	var wells []wire.Well
 	for r := 0; r < 16; r++ {
-		wells = append(wells, WellJSON{Well: f.Name(plate.Well{Row: r, Col: 0}), Role: "max_control", Value: num(1000 + float64(r%3))},
-			WellJSON{Well: f.Name(plate.Well{Row: r, Col: 23}), Role: "min_control", Value: num(float64(r % 3))})
+		wells = append(wells, wire.Well{Well: f.Name(plate.Well{Row: r, Col: 0}), Role: "max_control", Value: num(1000 + float64(r%3))},
+			wire.Well{Well: f.Name(plate.Well{Row: r, Col: 23}), Role: "min_control", Value: num(float64(r % 3))})
 	}
 	// Rows 0–3: LX-REF with LA-1 at 0, 10, 100, 1000 nM; 14 concentrations.
 	for r, b := range []float64{0, 1e-8, 1e-7, 1e-6} {
 		L := -6 + math.Log10(1+b*1e8)
 		for k := 0; k <= 13; k++ {
 			a := 1e-9 * math.Pow(10, 0.5*float64(k))
-			w := WellJSON{Well: f.Name(plate.Well{Row: r, Col: 2 + k}), Role: "sample", CompoundID: "LX-REF", Conc: num(a),
+			w := wire.Well{Well: f.Name(plate.Well{Row: r, Col: 2 + k}), Role: "sample", CompoundID: "LX-REF", Conc: num(a),
 				Value: num(1000 * fit.Hill.Value([]float64{0, 1, L, 1.2}, a))}
 			if b > 0 {
 				w.AntagonistID, w.AntagonistConc = "LA-1", num(b)
@@ -109,9 +109,9 @@ func TestPlateSchild(t *testing.T) {
 			wells = append(wells, w)
 		}
 	}
-	body, _ := json.Marshal(PlateRequest{Barcode: "LK-SCHILD", Format: 384, Wells: wells})
+	body, _ := json.Marshal(wire.PlateRequest{Barcode: "LK-SCHILD", Format: 384, Wells: wells})
 	w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
-	var v PlateView
+	var v wire.PlateView
 	json.Unmarshal(w.Body.Bytes(), &v)
 	if w.Code != 200 || len(v.Schild) != 1 || len(v.Curves) != 4 {
 		t.Fatalf("%d: %d schild, %d curves: %s", w.Code, len(v.Schild), len(v.Curves), w.Body)

@@ -4,6 +4,7 @@
 package api
 
 import (
+	"context"
 	"crypto/rand"
 	"log/slog"
 	"net/http"
@@ -58,6 +59,10 @@ type Server struct {
 	tokens  *tokenCache
 	engine  *gin.Engine
 	ops     *gin.Engine // health and metrics only, for --role worker
+	// draining is cancelled by Drain: requests that wait (POST
+	// /v1/plates?wait=) answer at once instead.
+	draining context.Context
+	drain    context.CancelFunc
 }
 
 // New builds the server and its routes.
@@ -80,7 +85,7 @@ func New(cfg Config, d Deps) (*Server, error) {
 	if reg == nil {
 		reg = prometheus.NewRegistry()
 	}
-	m, err := newMetrics(reg, d.Store)
+	m, err := newMetrics(reg, d.Store, s.log)
 	if err != nil {
 		return nil, err
 	}
@@ -90,6 +95,7 @@ func New(cfg Config, d Deps) (*Server, error) {
 	if err != nil {
 		return nil, err
 	}
+	s.draining, s.drain = context.WithCancel(context.Background())
 	s.engine = s.routes(reg)
 	s.ops = s.opsRoutes(reg)
 	return s, nil
@@ -100,3 +106,12 @@ func (s *Server) Handler() http.Handler { return s.engine }
 
 // randomBytes fills b from the system's secure source.
 func randomBytes(b []byte) { rand.Read(b) }
+
+// Service is the use-case layer the handlers call; the plate workers run
+// its RunPlateJob.
+func (s *Server) Service() *service.Service { return s.svc }
+
+// Drain tells requests that are waiting for a plate to answer now, with
+// where to look later (202), so that a graceful shutdown need not wait for
+// them: pass it to http.Server.RegisterOnShutdown.
+func (s *Server) Drain() { s.drain() }

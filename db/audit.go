@@ -32,17 +32,17 @@ func (s *sqlStore) Audit(ctx context.Context, limit int) ([]AuditEntry, error) {
 }
 
 func (w *sqlWriter) InsertIdempotent(ctx context.Context, r *Idempotent) error {
-	return w.insert(ctx, "InsertIdempotent", r.Key, "INSERT INTO idempotency_keys (actor, key, request_sha256, status, content_type, body, created_at) "+
-		"VALUES ($1, $2, $3, $4, $5, $6, $7)",
-		r.Actor, r.Key, r.RequestSHA256, r.Status, r.ContentType, r.Body, w.e.timeArg(r.CreatedAt))
+	return w.insert(ctx, "InsertIdempotent", r.Key, "INSERT INTO idempotency_keys (actor, key, request_sha256, status, content_type, body, location, created_at) "+
+		"VALUES ($1, $2, $3, $4, $5, $6, $7, $8)",
+		r.Actor, r.Key, r.RequestSHA256, r.Status, r.ContentType, r.Body, r.Location, w.e.timeArg(r.CreatedAt))
 }
 
 func (s *sqlStore) Idempotent(ctx context.Context, actor, key string) (*Idempotent, error) {
 	var r Idempotent
 	var t dbTime
-	err := s.e.queryRow(ctx, "SELECT actor, key, request_sha256, status, content_type, body, created_at "+
+	err := s.e.queryRow(ctx, "SELECT actor, key, request_sha256, status, content_type, body, location, created_at "+
 		"FROM idempotency_keys WHERE actor = $1 AND key = $2", actor, key).
-		Scan(&r.Actor, &r.Key, &r.RequestSHA256, &r.Status, &r.ContentType, &r.Body, &t)
+		Scan(&r.Actor, &r.Key, &r.RequestSHA256, &r.Status, &r.ContentType, &r.Body, &r.Location, &t)
 	if err != nil {
 		return nil, s.read("Idempotent", key, err)
 	}

@@ -3,6 +3,7 @@ package db_test
 import (
 	"context"
 	"errors"
+	"fmt"
 	"strings"
 	"sync"
 	"testing"
@@ -205,6 +206,57 @@ func TestErrorTexts(t *testing.T) {
 					t.Errorf("%q shows %q", err, leak)
 				}
 			}
+		}
+	})
+}
+
+// The plate job's pattern: a retried job stores its Schild runs again in
+// the write that finishes the plate; the ones already stored answer
+// ErrExists, the write goes on and commits, and the first runs stay.
+func TestSchildRunKeepsFirst(t *testing.T) {
+	dbtest.Engines(t, func(t *testing.T, s db.Store) {
+		ctx := context.Background()
+		setup := func() error {
+			return s.Write(ctx, func(w db.Writer) error {
+				if err := w.InsertAssay(ctx, &db.Assay{ID: "a1", Name: "a1", CreatedAt: t0}); err != nil {
+					return err
+				}
+				return w.InsertPlate(ctx, &db.Plate{ID: "p1", CreatedAt: t0, SubmittedBy: "robot", AssayID: "a1", Barcode: "LK-1",
+					Format: 96, ConcUnit: "M", Mode: "antagonist", Settings: []byte(`{}`), InputSHA256: "h", Status: db.PlateRunning}, nil)
+			})
+		}
+		if err := setup(); err != nil {
+			t.Fatal(err)
+		}
+		finish := func(attempt int) error {
+			return s.Write(ctx, func(w db.Writer) error {
+				for _, pair := range []string{"A:X", "A:Y"} {
+					r := &db.SchildRun{ID: "p1:" + pair, CreatedAt: t0, SubmittedBy: "robot", PlateID: "p1", AgonistID: "A",
+						AntagonistID: pair[2:], EngineVersion: "0", InputSHA256: "h", Input: []byte(`{}`),
+						Result: []byte(fmt.Sprintf(`{"attempt":%d}`, attempt))}
+					if err := w.InsertSchildRun(ctx, r); err != nil && !errors.Is(err, db.ErrExists) {
+						return err
+					}
+				}
+				return w.FinishPlate(ctx, "p1", db.PlateDone, []byte(`{"pass":true}`), nil, "")
+			})
+		}
+		for attempt := 1; attempt <= 2; attempt++ {
+			if err := finish(attempt); err != nil {
+				t.Fatalf("attempt %d: %v", attempt, err)
+			}
+		}
+		runs, err := s.PlateSchildRuns(ctx, "p1")
+		if err != nil || len(runs) != 2 {
+			t.Fatalf("runs: %+v %v", runs, err)
+		}
+		for _, r := range runs {
+			if !jsonEqual(r.Result, `{"attempt":1}`) {
+				t.Errorf("%s: %s, want the first attempt's", r.ID, r.Result)
+			}
+		}
+		if p, _ := s.Plate(ctx, "p1"); p.Status != db.PlateDone {
+			t.Errorf("plate %s", p.Status)
 		}
 	})
 }

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"strings"
 	"testing"
 	"time"
 
@@ -232,4 +233,40 @@ func showParams(ps []db.FitParam) string {
 		s += fmt.Sprintf(" %v %v} ", p.Fixed, p.AtBound)
 	}
 	return s
+}
+
+// Replicas that start together migrate one after the other under the
+// advisory lock: every one succeeds on a fresh database (unlocked, two
+// would both try to create the first tables).
+func TestConcurrentMigrationsPostgres(t *testing.T) {
+	url := dbtest.PostgresURL(t)
+	ctx := context.Background()
+	errs := make(chan error, 3)
+	for i := 0; i < 3; i++ {
+		go func() { errs <- db.Migrate(ctx, url, "", 0) }()
+	}
+	for i := 0; i < 3; i++ {
+		if err := <-errs; err != nil {
+			t.Errorf("replica %d: %v", i, err)
+		}
+	}
+	s, err := db.OpenWith(ctx, url, "", db.Options{SkipMigrations: true})
+	if err != nil {
+		t.Fatalf("open without migrating after the replicas: %v", err)
+	}
+	s.Close()
+}
+
+// Opening without migrating refuses a store that is behind, and says
+// what to run.
+func TestSkipMigrationsChecks(t *testing.T) {
+	for _, engine := range []string{"sqlite", "postgres"} {
+		t.Run(engine, func(t *testing.T) {
+			_, url, dir := rawAt(t, engine, 3)
+			_, err := db.OpenWith(context.Background(), url, dir, db.Options{SkipMigrations: true})
+			if err == nil || !strings.Contains(err.Error(), "at migration 3") || !strings.Contains(err.Error(), "sluice migrate") {
+				t.Errorf("store at migration 3 opened without migrating: %v", err)
+			}
+		})
+	}
 }

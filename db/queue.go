@@ -2,9 +2,11 @@ package db
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"strconv"
+	"sync"
 	"time"
 
 	"github.com/riverqueue/river"
@@ -18,37 +20,72 @@ type PlateFitArgs struct {
 }
 
 // Kind names the job in River's table.
-func (PlateFitArgs) Kind() string { return "sluice_plate_fit" }
+func (PlateFitArgs) Kind() string { return JobPlateFit }
+
+// AnalysisArgs is the job of one single analysis too large for the
+// synchronous budget (a fit, a potential prediction, …), stored before it
+// was queued under ID.
+type AnalysisArgs struct {
+	Analysis string `json:"analysis"` // what to run, e.g. "fit", "potential"
+	ID       string `json:"id"`       // what to run it on
+}
+
+// Kind names the job in River's table.
+func (AnalysisArgs) Kind() string { return JobAnalysis }
+
+// Job kinds, as River stores them.
+const (
+	JobPlateFit = "sluice_plate_fit"
+	JobAnalysis = "sluice_analysis"
+)
 
 // Job is a queued job's state.
 type Job struct {
 	ID       int64
+	Kind     string // JobPlateFit or JobAnalysis
 	State    string // River's: available, scheduled, running, retryable, completed, discarded, cancelled
 	Attempt  int
 	Errors   []string
 	Finished *time.Time
+	// Target is the plate's ID (JobPlateFit) or the analysis' ID
+	// (JobAnalysis); Analysis is the analysis' kind.
+	Target   string
+	Analysis string
 }
 
 // WorkFunc does one plate's job; an error makes River retry it.
 type WorkFunc func(ctx context.Context, plateID string) error
 
+// AnalysisFunc does one queued analysis; an error makes River retry it.
+type AnalysisFunc func(ctx context.Context, analysis, id string) error
+
+// Handlers are the work functions of the job kinds, one each; a nil one
+// leaves its kind to other workers.
+type Handlers struct {
+	Plate    WorkFunc
+	Analysis AnalysisFunc
+}
+
 // Queue settings.
 const (
-	// jobTimeout bounds one attempt at a plate; a 1536-well plate with
+	// jobTimeout bounds one attempt at a job; a 1536-well plate with
 	// B = 1000 takes about a second.
 	jobTimeout = 10 * time.Minute
 	// rescueAfter is when River hands the job of a worker that died to
 	// another one.
 	rescueAfter = 11 * time.Minute
-	// maxAttempts is how often a failing plate is tried.
+	// maxAttempts is how often a failing job is tried.
 	maxAttempts = 5
+	// hardStopWait bounds the wait for cancelled jobs to return after the
+	// caller's grace period (StopWorkers) or on Close.
+	hardStopWait = 10 * time.Second
 )
 
 // queue is River on one engine.
 type queue interface {
-	enqueue(ctx context.Context, q querier, args PlateFitArgs) (int64, error)
+	enqueue(ctx context.Context, q querier, args river.JobArgs) (int64, error)
 	job(ctx context.Context, id int64) (*Job, error)
-	start(ctx context.Context, work WorkFunc, workers int) error
+	start(h Handlers, workers int) error
 	stop(ctx context.Context) error
 }
 
@@ -60,9 +97,11 @@ type queue interface {
 type riverQueue[TTx any] struct {
 	driver riverdriver.Driver[TTx]
 	insert *river.Client[TTx]
-	worker *river.Client[TTx]
 	txOf   func(querier) (TTx, bool)
 	poll   time.Duration
+
+	mu     sync.Mutex
+	worker *river.Client[TTx]
 }
 
 func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(querier) (TTx, bool), poll time.Duration) (*riverQueue[TTx], error) {
@@ -73,7 +112,7 @@ func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx],
 	return &riverQueue[TTx]{driver: driver, insert: insert, txOf: txOf, poll: poll}, nil
 }
 
-func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args PlateFitArgs) (int64, error) {
+func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args river.JobArgs) (int64, error) {
 	tx, ok := q.txOf(qr)
 	if !ok {
 		return 0, errors.New("enqueue outside a transaction")
@@ -86,29 +125,63 @@ func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args PlateFit
 }
 
 func (q *riverQueue[TTx]) job(ctx context.Context, id int64) (*Job, error) {
+	key := strconv.FormatInt(id, 10)
 	row, err := q.insert.JobGet(ctx, id)
 	if errors.Is(err, river.ErrNotFound) {
-		return nil, &Error{Op: "Job", Key: strconv.FormatInt(id, 10), Err: ErrNotFound}
+		return nil, &Error{Op: "Job", Key: key, Err: ErrNotFound}
 	}
 	if err != nil {
-		return nil, &Error{Op: "Job", Key: strconv.FormatInt(id, 10), Err: err, cause: err}
+		return nil, &Error{Op: "Job", Key: key, Err: err, cause: err}
 	}
-	return jobOf(row), nil
+	j, err := jobOf(row)
+	if err != nil {
+		return nil, &Error{Op: "Job", Key: key, Err: err, cause: err}
+	}
+	return j, nil
 }
 
-func jobOf(row *rivertype.JobRow) *Job {
-	j := &Job{ID: row.ID, State: string(row.State), Attempt: row.Attempt, Finished: row.FinalizedAt}
+func jobOf(row *rivertype.JobRow) (*Job, error) {
+	j := &Job{ID: row.ID, Kind: row.Kind, State: string(row.State), Attempt: row.Attempt, Finished: row.FinalizedAt}
 	for _, e := range row.Errors {
 		j.Errors = append(j.Errors, e.Error)
 	}
-	return j
+	switch row.Kind {
+	case JobPlateFit:
+		var a PlateFitArgs
+		if err := json.Unmarshal(row.EncodedArgs, &a); err != nil {
+			return nil, fmt.Errorf("job arguments: %w", err)
+		}
+		j.Target = a.PlateID
+	case JobAnalysis:
+		var a AnalysisArgs
+		if err := json.Unmarshal(row.EncodedArgs, &a); err != nil {
+			return nil, fmt.Errorf("job arguments: %w", err)
+		}
+		j.Target, j.Analysis = a.ID, a.Analysis
+	}
+	return j, nil
 }
 
-func (q *riverQueue[TTx]) start(ctx context.Context, work WorkFunc, workers int) error {
+// start runs a River client with a worker for each handler given. Jobs get
+// a context of their own, not the caller's: only stop cancels them, so a
+// signal that ends the process's context does not kill running jobs.
+func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 	ws := river.NewWorkers()
-	river.AddWorker(ws, river.WorkFunc(func(ctx context.Context, job *river.Job[PlateFitArgs]) error {
-		return work(ctx, job.Args.PlateID)
-	}))
+	if h.Plate != nil {
+		river.AddWorker(ws, river.WorkFunc(func(ctx context.Context, job *river.Job[PlateFitArgs]) error {
+			return h.Plate(ctx, job.Args.PlateID)
+		}))
+	}
+	if h.Analysis != nil {
+		river.AddWorker(ws, river.WorkFunc(func(ctx context.Context, job *river.Job[AnalysisArgs]) error {
+			return h.Analysis(ctx, job.Args.Analysis, job.Args.ID)
+		}))
+	}
+	q.mu.Lock()
+	defer q.mu.Unlock()
+	if q.worker != nil {
+		return errors.New("job queue: workers already started")
+	}
 	c, err := river.NewClient(q.driver, &river.Config{
 		Queues:               map[string]river.QueueConfig{river.QueueDefault: {MaxWorkers: workers}},
 		Workers:              ws,
@@ -118,15 +191,35 @@ func (q *riverQueue[TTx]) start(ctx context.Context, work WorkFunc, workers int)
 		FetchCooldown:        q.poll / 2,
 	})
 	if err != nil {
-		return err
+		return fmt.Errorf("job queue: %w", err)
+	}
+	if err := c.Start(context.Background()); err != nil {
+		return fmt.Errorf("job queue: %w", err)
 	}
 	q.worker = c
-	return c.Start(ctx)
+	return nil
 }
 
+// stop stops fetching jobs and lets running ones finish (River's soft
+// Stop) until ctx is done; then it cancels them (StopAndCancel: River
+// hands them back for a retry) and waits at most hardStopWait for them to
+// return. It reports whether jobs had to be cancelled.
 func (q *riverQueue[TTx]) stop(ctx context.Context) error {
-	if q.worker == nil {
+	q.mu.Lock()
+	c := q.worker
+	q.worker = nil
+	q.mu.Unlock()
+	if c == nil {
 		return nil
 	}
-	return q.worker.Stop(ctx)
+	soft := c.Stop(ctx)
+	if soft == nil {
+		return nil
+	}
+	hardCtx, cancel := context.WithTimeout(context.WithoutCancel(ctx), hardStopWait)
+	defer cancel()
+	if err := c.StopAndCancel(hardCtx); err != nil {
+		return fmt.Errorf("stop workers: cancelled jobs did not return within %v: %w", hardStopWait, err)
+	}
+	return fmt.Errorf("stop workers: running jobs cancelled after the grace period: %w", soft)
 }

@@ -101,10 +101,11 @@ type AuditEntry struct {
 type Idempotent struct {
 	Actor         string
 	Key           string
-	RequestSHA256 string // of method, path and body
+	RequestSHA256 string // of the route, the parameters that change what is stored, and the body
 	Status        int
 	ContentType   string
 	Body          []byte
+	Location      string // the reply's Location header; "" for none
 	CreatedAt     time.Time
 }
 

@@ -11,14 +11,26 @@ type sqlStore struct {
 func (s *sqlStore) Ping(ctx context.Context) error { return s.read("Ping", "", s.e.ping(ctx)) }
 func (s *sqlStore) Stats() PoolStats               { return s.e.stats() }
 func (s *sqlStore) Engine() string                 { return s.e.name() }
-func (s *sqlStore) Close()                         { s.e.close() }
+
+// Close stops any workers still running (cancelling their jobs, which River
+// hands back) and closes the engine.
+func (s *sqlStore) Close() {
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel() // no grace period: straight to the hard stop
+	s.q.stop(ctx)
+	s.e.close()
+}
 
 var _ Store = (*sqlStore)(nil)
 
 func (s *sqlStore) Job(ctx context.Context, id int64) (*Job, error) { return s.q.job(ctx, id) }
 
 func (s *sqlStore) StartWorkers(ctx context.Context, work WorkFunc, workers int) error {
-	return s.q.start(ctx, work, workers)
+	return s.q.start(Handlers{Plate: work}, workers)
+}
+
+func (s *sqlStore) StartHandlers(ctx context.Context, h Handlers, workers int) error {
+	return s.q.start(h, workers)
 }
 
 func (s *sqlStore) StopWorkers(ctx context.Context) error { return s.q.stop(ctx) }
@@ -32,4 +44,18 @@ func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, plateID string) (int64,
 		return 0, w.abort(opError("EnqueuePlateFit", plateID, err, w.e.classify))
 	}
 	return id, nil
+}
+
+func (w *sqlWriter) EnqueueAnalysis(ctx context.Context, analysis, id string) (int64, error) {
+	if w.err != nil {
+		return 0, w.err
+	}
+	if analysis == "" || checkArgs([]any{analysis, id}) != nil {
+		return 0, w.invalid("EnqueueAnalysis", id, "analysis")
+	}
+	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id})
+	if err != nil {
+		return 0, w.abort(opError("EnqueueAnalysis", id, err, w.e.classify))
+	}
+	return jobID, nil
 }

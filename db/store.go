@@ -25,8 +25,13 @@ type Store interface {
 
 // Transactor runs writes.
 type Transactor interface {
-	// Write runs fn in one transaction, committed when fn returns nil; see
-	// sqlStore.Write for what a failed call inside it means.
+	// Write runs fn once, in one transaction on either engine, committed
+	// when fn returns nil and rolled back otherwise. Each Writer call's
+	// error reaches fn as it happens, with the same category and text on
+	// both engines. An ErrExists from an Insert* call (the key is taken;
+	// nothing was written) leaves the write usable: fn may go on or give
+	// up. Any other error aborts the write: later calls return it again,
+	// and Write returns it and rolls back even if fn swallowed it.
 	Write(ctx context.Context, fn func(Writer) error) error
 }
 
@@ -52,6 +57,8 @@ type Results interface {
 	// plate curves alike, oldest experiment (measured_at) first.
 	CompoundCurves(ctx context.Context, f CurveFilter) ([]CurveResult, error)
 	SchildRun(ctx context.Context, id string) (*SchildRun, error)
+	// Analysis returns a queued single analysis.
+	Analysis(ctx context.Context, id string) (*Analysis, error)
 	// PlateSchildRuns lists a plate's Schild runs by agonist, antagonist.
 	PlateSchildRuns(ctx context.Context, plateID string) ([]SchildRun, error)
 }
@@ -98,9 +105,19 @@ type Jobs interface {
 	// Job returns a queued job's state.
 	Job(ctx context.Context, id int64) (*Job, error)
 	// StartWorkers starts workers goroutines that take plate jobs and run
-	// work, until StopWorkers.
+	// work, until StopWorkers: StartHandlers with only Plate.
 	StartWorkers(ctx context.Context, work WorkFunc, workers int) error
+	// StartHandlers starts workers goroutines that take the jobs of every
+	// kind with a handler, until StopWorkers or Close. Jobs run with a
+	// context of their own: cancelling ctx does not stop them.
+	StartHandlers(ctx context.Context, h Handlers, workers int) error
+	// StopWorkers stops taking jobs and lets running ones finish until ctx
+	// is done (the grace period); then it cancels them, so that River
+	// hands them back to be retried, and returns an error saying so.
 	StopWorkers(ctx context.Context) error
+	// JobCounts counts waiting and running jobs by kind, for the
+	// queue-depth metrics (sluice_jobs_queued, sluice_jobs_running).
+	JobCounts(ctx context.Context) ([]JobCount, error)
 }
 
 // Health tells whether the store answers, for probes and metrics.
@@ -134,6 +151,16 @@ type Writer interface {
 	// that a stored plate always has its job, and returns the job's ID
 	// (store it as the plate's JobID).
 	EnqueuePlateFit(ctx context.Context, plateID string) (int64, error)
+	// EnqueueAnalysis queues a single analysis (e.g. "fit", "potential")
+	// of the record id, stored in this transaction, for a worker's
+	// Handlers.Analysis; it returns the job's ID.
+	EnqueueAnalysis(ctx context.Context, analysis, id string) (int64, error)
+	// InsertAnalysis stores a single analysis to queue (with the job
+	// EnqueueAnalysis returned), status queued.
+	InsertAnalysis(ctx context.Context, a *Analysis) error
+	// FinishAnalysis records how a queued analysis finished; ErrNotFound
+	// when there is no queued analysis with that ID (finished already).
+	FinishAnalysis(ctx context.Context, id string, r *AnalysisResult) error
 	// FinishPlate stores a plate's curves (keeping any stored by an
 	// earlier attempt) and its final status, QC and error.
 	FinishPlate(ctx context.Context, plateID, status string, qc []byte, curves []PlateCurve, errText string) error

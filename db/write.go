@@ -7,26 +7,24 @@ import (
 	"unicode/utf8"
 )
 
-// Write runs fn in one transaction on either engine, committed when fn
-// returns nil and rolled back otherwise.
-//
-// Each Writer call's error reaches fn as it happens, with the same
-// category and text on both engines. An ErrExists from an Insert* call
-// (the key is taken; nothing was written) leaves the write usable: fn may
-// go on or give up. Any other error aborts the write, as PostgreSQL
-// aborts the transaction: later calls return that error again, and Write
-// returns it and rolls back even if fn swallowed it. fn runs once.
+// Write implements Transactor.Write: the writer records the first error
+// that aborts the write (PostgreSQL aborts the transaction at it; SQLite
+// is made to behave the same), and fn's nil cannot commit past it.
 func (s *sqlStore) Write(ctx context.Context, fn func(Writer) error) error {
-	var fnErr error
+	// fnFailed tells fn's own error (returned as it is) from the engine's
+	// at BEGIN or COMMIT (wrapped as Write's). Comparing the errors
+	// themselves could panic on an uncomparable error type.
+	fnFailed := false
 	err := s.e.inTx(ctx, func(q querier) error {
 		w := &sqlWriter{q: q, e: s.e, queue: s.q}
-		fnErr = fn(w)
-		if fnErr == nil {
-			fnErr = w.err
+		err := fn(w)
+		if err == nil {
+			err = w.err
 		}
-		return fnErr
+		fnFailed = err != nil
+		return err
 	})
-	if err != nil && err == fnErr {
+	if fnFailed {
 		return err
 	}
 	return opError("Write", "", err, s.e.classify)

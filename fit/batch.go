@@ -40,7 +40,8 @@ func (e *CurveError) Unwrap() error { return e.Err }
 // each chunk of boot.Chunk resamples: when it is done, FitBatch returns an
 // error wrapping ctx.Err() within one chunk per worker, and no results. A
 // panic while fitting a curve is returned as an error wrapping a
-// *boot.PanicError whose Index is the curve's position.
+// *boot.PanicError whose Index is the curve's position (in its bootstrap:
+// the resample's).
 func FitBatch(ctx context.Context, curves []Curve, s *Settings, bs *BootSettings, workers int, progress *Progress) ([]*Result, error) {
 	set, err := s.resolve()
 	if err != nil {
@@ -86,7 +87,11 @@ func FitBatch(ctx context.Context, curves []Curve, s *Settings, bs *BootSettings
 	})
 	if err != nil {
 		if _, ok := errors.AsType[*boot.PanicError](err); !ok {
-			err = context.Cause(cctx)
+			// ctx's own error when the caller cancelled (its cause may be
+			// any error), else the bootstrap's.
+			if err = ctx.Err(); err == nil {
+				err = context.Cause(cctx)
+			}
 		}
 		return nil, fmt.Errorf("fit batch: %w", err)
 	}

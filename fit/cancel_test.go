@@ -5,6 +5,7 @@ import (
 	"errors"
 	"math/rand/v2"
 	"runtime"
+	"sync/atomic"
 	"testing"
 
 	"go.uber.org/goleak"
@@ -117,5 +118,58 @@ func TestFitBatchProgressCounts(t *testing.T) {
 	}
 	if prog.Curves() != len(curves) || prog.Resamples() != 100*boots {
 		t.Errorf("progress %d curves, %d resamples; want %d and %d", prog.Curves(), prog.Resamples(), len(curves), 100*boots)
+	}
+}
+
+// A model that panics in the middle of a batch's bootstraps makes FitBatch
+// return an error wrapping a *boot.PanicError, on one worker and on
+// several, instead of crashing the process; no goroutine is left behind.
+func TestFitBatchPanicBecomesError(t *testing.T) {
+	defer goleak.VerifyNone(t)
+	rng := rand.New(rand.NewPCG(7, 8))
+	curves := make([]Curve, 4)
+	for i := range curves {
+		curves[i] = simulatedCurve(rng, []float64{0, 100, -7, 1}, 5)
+	}
+	// The 200th model evaluation is in a first fit, the 20 000th in a
+	// bootstrap.
+	for _, c := range []struct{ workers, at int }{{1, 200}, {2, 200}, {1, 20000}, {2, 20000}, {4, 20000}} {
+		workers := c.workers
+		var calls atomic.Int64
+		spec := *hillSpec()
+		spec.name = "hill_with_a_bug"
+		hill := spec.curve
+		spec.curve = func(theta []float64, x float64, grad []float64) float64 {
+			if calls.Add(1) == int64(c.at) {
+				panic("model bug")
+			}
+			return hill(theta, x, grad)
+		}
+		reg, err := NewRegistry(&spec)
+		if err != nil {
+			t.Fatal(err)
+		}
+		res, err := FitBatch(context.Background(), curves, &Settings{Models: reg, Model: spec.name},
+			&BootSettings{Resamples: 1000, Seed: 1}, workers, nil)
+		var pe *boot.PanicError
+		if !errors.As(err, &pe) || pe.Value != "model bug" || res != nil {
+			t.Fatalf("workers %d, panic at %d: err = %v, %d results; want a *boot.PanicError and none", workers, c.at, err, len(res))
+		}
+	}
+}
+
+// A caller that cancels with a cause of its own still gets an error that
+// wraps context.Canceled.
+func TestFitBatchCancelledWithCause(t *testing.T) {
+	defer goleak.VerifyNone(t)
+	rng := rand.New(rand.NewPCG(9, 10))
+	curves := []Curve{simulatedCurve(rng, []float64{0, 100, -7, 1}, 5), simulatedCurve(rng, []float64{0, 100, -6, 1}, 5)}
+	ctx, cancel := context.WithCancelCause(context.Background())
+	var prog Progress
+	atCancel := cancelWhen(func() { cancel(errors.New("shutting down")) }, prog.Resamples, boot.Chunk)
+	_, err := FitBatch(ctx, curves, nil, &BootSettings{Resamples: 20000, Seed: 1}, 2, &prog)
+	atCancel()
+	if !errors.Is(err, context.Canceled) {
+		t.Errorf("err = %v, want context.Canceled", err)
 	}
 }

@@ -40,7 +40,7 @@ func TestCostCountsBoundMeasuredEvaluations(t *testing.T) {
 	for _, m := range Builtin().Names() {
 		var fitEvals, refitEvals, curves, refits int
 		var params int
-		for trial := 0; trial < 40; trial++ {
+		for trial := 0; trial < 25; trial++ {
 			c := simulatedCurve(rng, []float64{0, 100, -7, 1}, 2+8*rng.Float64())
 			set, err := (&Settings{Model: m}).resolve()
 			if err != nil {

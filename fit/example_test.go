@@ -3,6 +3,7 @@ package fit_test
 import (
 	"context"
 	"fmt"
+	"time"
 
 	"sluice/fit"
 )
@@ -54,4 +55,55 @@ func ExampleParseModel() {
 	// unknown model "hill7" (want hill, hill5 or bell)
 	// bell [bottom top log_ec50 hill log_ic50 hill_block] monotone: false
 	// log_ec50 -6 hill 1.2 top 100
+}
+
+// ExampleFitBatch fits a batch under a deadline and reports its progress
+// the way a caller should: the fitting goroutines only count into a
+// fit.Progress, and the caller's own goroutine reads it on a ticker (here
+// it would write it to a store; the example prints only the end).
+func ExampleFitBatch() {
+	conc := []float64{1e-8, 3e-8, 1e-7, 3e-7, 1e-6, 3e-6}
+	var curves []fit.Curve
+	for k, shift := range []float64{1, 2, 4} {
+		c := fit.Curve{ID: fmt.Sprint("compound-", k+1)}
+		for i, x := range conc {
+			y := 100 / (1 + shift*2e-7/x)
+			c.Points = append(c.Points, fit.Point{Conc: x, Response: y + float64(i%3-1)})
+		}
+		curves = append(curves, c)
+	}
+	ctx, cancel := context.WithTimeout(context.Background(), time.Minute)
+	defer cancel()
+	var progress fit.Progress
+	done := make(chan struct{})
+	reported := make(chan struct{})
+	go func() {
+		defer close(reported)
+		t := time.NewTicker(100 * time.Millisecond)
+		defer t.Stop()
+		for {
+			select {
+			case <-done:
+				return
+			case <-t.C:
+				_ = progress.Curves() // e.g. store it as the job's progress
+			}
+		}
+	}()
+	results, err := fit.FitBatch(ctx, curves, nil, &fit.BootSettings{Resamples: 200, Seed: 1}, 0, &progress)
+	close(done)
+	<-reported
+	if err != nil { // wraps context.DeadlineExceeded when the minute ran out
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("%d curves, %d resamples refitted\n", progress.Curves(), progress.Resamples())
+	for _, r := range results {
+		fmt.Printf("%s: pEC50 %.2f\n", r.Curve, -r.LogEC50().Estimate)
+	}
+	// Output:
+	// 3 curves, 600 resamples refitted
+	// compound-1: pEC50 6.69
+	// compound-2: pEC50 6.35
+	// compound-3: pEC50 6.03
 }

@@ -26,6 +26,10 @@ type WellIn struct {
 	AntagonistID   string
 	AntagonistConc float64
 	Line           int
+	// Columns are the CSV's 1-based column numbers by field name (shared
+	// by every well of a file; nil for JSON), so that an error about a
+	// well's field can name its cell.
+	Columns map[string]int
 }
 
 // MaxPlateRows bounds a plate file.
@@ -37,8 +41,15 @@ const MaxPlateRows = 10000
 // blank; empty and excluded wells may leave value blank.
 func ReadPlateCSV(r io.Reader) ([]WellIn, error) {
 	var out []WellIn
+	var cols map[string]int
 	err := eachRow(r, []string{"well", "role", "value"}, MaxPlateRows, func(row csvRow) error {
-		w := WellIn{Line: row.line}
+		if cols == nil {
+			cols = make(map[string]int, len(row.col))
+			for name, i := range row.col {
+				cols[name] = i + 1
+			}
+		}
+		w := WellIn{Line: row.line, Columns: cols}
 		w.Well, _, _ = row.text("well")
 		w.Role, _, _ = row.text("role")
 		w.CompoundID, _, _ = row.text("compound_id")

@@ -6,6 +6,8 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"sluice/fit/plate"
 )
 
 // wellFormed parses the SVG as XML and counts elements by name.
@@ -70,5 +72,28 @@ func TestTicks(t *testing.T) {
 		if math.Signbit(v) && v == 0 {
 			t.Errorf("−0 in %v", ts)
 		}
+	}
+}
+
+func TestHeatmapSVG(t *testing.T) {
+	v := func(x float64) *float64 { return &x }
+	fig := &Heatmap{Barcode: `P<1>&"`, Format: plate.Plate96, Verdict: "QC FAIL · Z′ 0.10", Reasons: []string{"Z′ 0.100 is below 0.50"},
+		Footnote: "For research use only.", Wells: []HeatWell{
+			{Row: 0, Col: 0, Name: "A01", Role: plate.MaxControl, Value: v(100)},
+			{Row: 0, Col: 11, Name: "A12", Role: plate.MinControl, Value: v(0)},
+			{Row: 7, Col: 5, Name: "H06", Role: plate.Empty},
+		}}
+	var b strings.Builder
+	if err := fig.Write(&b); err != nil {
+		t.Fatal(err)
+	}
+	s := b.String()
+	n := wellFormed(t, s)
+	// The background and one cell per well.
+	if n["rect"] != 4 || !strings.Contains(s, "P&lt;1&gt;&amp;&#34;") || !strings.Contains(s, "Z′ 0.100 is below") {
+		t.Errorf("elements %v\n%s", n, s)
+	}
+	if !strings.Contains(s, `stroke="#d62728"`) || !strings.Contains(s, `stroke="#1f77b4"`) || !strings.Contains(s, "H06 empty no value") {
+		t.Errorf("controls not outlined or empty well not labelled:\n%s", s)
 	}
 }

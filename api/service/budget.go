@@ -44,8 +44,8 @@ func (b Budget) resolve() (Budget, error) {
 }
 
 // admit refuses work over the hard limit with ErrTooMuchWork naming the
-// field that drives it. Work over the synchronous budget is still answered
-// synchronously: the job kind that would take it has not landed.
+// field that drives it. (Work over Sync is the use case's to queue: see
+// queue.go.)
 func (b Budget) admit(w cost.Work, field string) error {
 	if w > b.Hard {
 		return TooMuchWork(field, "this request is about %.3g units of work (%.0f s of one core), more than the limit of %.3g; "+

@@ -28,9 +28,12 @@ func checkEntry(e *wire.CatalogueEntry) error {
 	if e.Name == "" || len(e.Name) > maxTextField {
 		return Invalid("/name", "name is required, at most %d bytes", maxTextField)
 	}
-	for _, f := range []struct{ ptr, v string }{{"/target", e.Target}, {"/readout", e.Readout}, {"/units", e.Units}} {
+	for _, f := range []struct{ ptr, v string }{{"/name", e.Name}, {"/target", e.Target}, {"/readout", e.Readout}, {"/units", e.Units}} {
 		if len(f.v) > maxTextField {
 			return Invalid(f.ptr, "at most %d bytes", maxTextField)
+		}
+		if err := checkText(f.ptr, f.v); err != nil {
+			return err
 		}
 	}
 	if e.CreatedAt != "" || e.CreatedBy != "" {
@@ -50,17 +53,17 @@ func (s *Service) CreateCompound(ctx context.Context, who Caller, idem *Idem, e 
 }
 
 func (s *Service) createEntry(ctx context.Context, who Caller, idem *Idem, kind string, e wire.CatalogueEntry) (*Reply, error) {
-	return s.write(ctx, who, idem, func(context.Context) (commitFunc, error) {
+	return s.write(ctx, who, idem, func(context.Context) (plan, error) {
 		if err := checkEntry(&e); err != nil {
-			return nil, err
+			return plan{}, err
 		}
 		now := s.now()
 		e.CreatedAt, e.CreatedBy = now.Format(time.RFC3339Nano), who.Name
 		reply, err := jsonReply(http.StatusCreated, e, fmt.Sprintf("/v1/%ss/%s", kind, e.ID))
 		if err != nil {
-			return nil, err
+			return plan{}, err
 		}
-		return func(ctx context.Context, w db.Writer) (*Reply, error) {
+		return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
 			var err error
 			if kind == "assay" {
 				err = w.InsertAssay(ctx, &db.Assay{ID: e.ID, Name: e.Name, Target: e.Target, Readout: e.Readout, Units: e.Units, CreatedAt: now, CreatedBy: who.Name})
@@ -74,7 +77,7 @@ func (s *Service) createEntry(ctx context.Context, who Caller, idem *Idem, kind 
 				return nil, fmt.Errorf("audit %s %q: %w", kind, e.ID, err)
 			}
 			return reply, nil
-		}, nil
+		}}, nil
 	})
 }
 

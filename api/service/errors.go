@@ -82,3 +82,12 @@ func FieldsOf(err error) []FieldError {
 func EscapePointer(s string) string {
 	return strings.ReplaceAll(strings.ReplaceAll(s, "~", "~0"), "/", "~1")
 }
+
+// checkText refuses text the store cannot hold on either engine: a NUL
+// character (JSON's \u0000), which PostgreSQL refuses in text and jsonb.
+func checkText(pointer, s string) error {
+	if strings.IndexByte(s, 0) >= 0 {
+		return Invalid(pointer, "text must not contain the NUL character (\\u0000)")
+	}
+	return nil
+}

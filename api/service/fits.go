@@ -14,6 +14,7 @@ import (
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
+	"sluice/fit/cost"
 )
 
 // Limits on a fit request.
@@ -29,7 +30,8 @@ type fitInput struct {
 	settings fit.Settings
 	boot     *fit.BootSettings
 	store    bool
-	free     int // parameters estimated
+	free     int       // parameters estimated
+	work     cost.Work // fit.Cost of the request
 }
 
 // validateFit checks a request and converts it; every error points at a
@@ -55,6 +57,9 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 		if p.Response == nil {
 			return nil, Invalid(fmt.Sprintf("/points/%d/response", i), "response is required")
 		}
+		if *p.Conc < 0 {
+			return nil, Invalid(fmt.Sprintf("/points/%d/conc", i), "concentration %g is negative", *p.Conc)
+		}
 		pt := fit.Point{Conc: unit.ToMolar(*p.Conc), Response: *p.Response}
 		if p.Weight != nil {
 			if *p.Weight <= 0 {
@@ -79,9 +84,18 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 	if len(req.Labels) > MaxLabels {
 		return nil, Invalid("/labels", "more than %d labels", MaxLabels)
 	}
+	for _, f := range []struct{ ptr, v string }{{"/assay_id", req.AssayID}, {"/compound_id", req.CompoundID}, {"/refit_of", req.RefitOf}} {
+		if err := checkText(f.ptr, f.v); err != nil {
+			return nil, err
+		}
+	}
 	for k, v := range req.Labels {
+		ptr := "/labels/" + EscapePointer(k)
+		if err := errors.Join(checkText(ptr, k), checkText(ptr, v)); err != nil {
+			return nil, err
+		}
 		if len(k) == 0 || len(k) > MaxLabelLength || len(v) > MaxLabelLength {
-			return nil, Invalid("/labels/"+EscapePointer(k), "label names must be 1–%d bytes and values at most %d", MaxLabelLength, MaxLabelLength)
+			return nil, Invalid(ptr, "label names must be 1–%d bytes and values at most %d", MaxLabelLength, MaxLabelLength)
 		}
 	}
 	in.free = free
@@ -95,6 +109,16 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 		}
 		in.boot.Seed = *b.Seed
 	}
+	// The settings are checked here, not by the fit, so that a request is
+	// refused before it is costed or queued.
+	if err := in.settings.Validate(); err != nil {
+		return nil, err
+	}
+	if in.boot != nil {
+		if err := in.boot.Validate(); err != nil {
+			return nil, err
+		}
+	}
 	return in, nil
 }
 
@@ -106,6 +130,7 @@ func (s *Service) admitFit(in *fitInput) error {
 	if in.boot != nil && w > 2*fit.CostOf(curves, in.free, nil) {
 		field = "/bootstrap/resamples"
 	}
+	in.work = w
 	return s.budget.admit(w, field)
 }
 
@@ -137,74 +162,95 @@ func (s *Service) checkRefs(ctx context.Context, req *wire.FitRequest) error {
 }
 
 // Fit is POST /v1/fits: fit one curve and store it (201 with its
-// Location) unless req.Store is false (200). raw is the body as sent; its
-// SHA-256 is the run's input_sha256.
+// Location) unless req.Store is false (200); a fit over the synchronous
+// budget is queued (202). raw is the body as sent; its SHA-256 is the
+// run's input_sha256.
 func (s *Service) Fit(ctx context.Context, who Caller, idem *Idem, req *wire.FitRequest, raw []byte) (*Reply, error) {
-	return s.write(ctx, who, idem, func(ctx context.Context) (commitFunc, error) {
-		in, err := s.validateFit(req)
+	sha := sha256.Sum256(raw)
+	inputSHA := hex.EncodeToString(sha[:])
+	return s.write(ctx, who, idem, func(ctx context.Context) (plan, error) {
+		in, err := s.prepareFit(ctx, req)
 		if err != nil {
-			return nil, err
+			return plan{}, err
 		}
-		if err := s.admitFit(in); err != nil {
-			return nil, err
+		if in.work > s.budget.Sync {
+			return s.queue(who, analysisFit, &queuedRequest{Fit: req, InputSHA256: inputSHA})
 		}
-		if err := s.checkRefs(ctx, req); err != nil {
-			return nil, err
-		}
-		in.curve.ID = req.CompoundID
-		start := time.Now()
-		res, err := fit.Fit(in.curve, &in.settings)
-		if err == nil && in.boot != nil {
-			err = fit.Bootstrap(ctx, res, in.boot)
-		}
-		if err != nil {
-			return nil, err // a *fit.PointError or *fit.SettingError: 422 with its pointer
-		}
-		var resamples, failed int
-		if res.Boot != nil {
-			resamples, failed = res.Boot.Resamples, res.Boot.Failed
-		}
-		s.obs.CurveFitted(string(res.Model), res.Status, time.Since(start), resamples, failed)
-
-		out := wire.StoredFit{FitResult: wire.FromFit(res)}
-		if !in.store {
-			return func(context.Context, db.Writer) (*Reply, error) { return jsonReply(http.StatusOK, out, "") }, nil
-		}
-		run, err := s.newFitRun(who, req, raw, res, &out)
-		if err != nil {
-			return nil, err
-		}
-		reply, err := jsonReply(http.StatusCreated, out, "/v1/fits/"+out.ID)
-		if err != nil {
-			return nil, err
-		}
-		run.Result = reply.Body
-		detail, err := json.Marshal(map[string]string{"model": string(res.Model), "status": res.Status})
-		if err != nil {
-			return nil, fmt.Errorf("audit detail: %w", err)
-		}
-		return func(ctx context.Context, w db.Writer) (*Reply, error) {
-			if err := w.InsertFitRun(ctx, run); err != nil {
-				return nil, fmt.Errorf("store fit %s: %w", run.ID, err)
-			}
-			if err := w.InsertAudit(ctx, &db.AuditEntry{At: run.CreatedAt, Actor: who.Name, Action: "fit.create", Target: run.ID,
-				Detail: detail}); err != nil {
-				return nil, fmt.Errorf("audit fit %s: %w", run.ID, err)
-			}
-			return reply, nil
-		}, nil
+		return s.runFit(ctx, who, req, in, inputSHA)
 	})
 }
 
+// prepareFit validates a fit request, checks its work against the hard
+// limit and the records it names.
+func (s *Service) prepareFit(ctx context.Context, req *wire.FitRequest) (*fitInput, error) {
+	in, err := s.validateFit(req)
+	if err != nil {
+		return nil, err
+	}
+	if err := s.admitFit(in); err != nil {
+		return nil, err
+	}
+	if err := s.checkRefs(ctx, req); err != nil {
+		return nil, err
+	}
+	return in, nil
+}
+
+// runFit fits a prepared request and plans its reply and records.
+func (s *Service) runFit(ctx context.Context, who Caller, req *wire.FitRequest, in *fitInput, inputSHA string) (plan, error) {
+	in.curve.ID = req.CompoundID
+	start := time.Now()
+	res, err := fit.Fit(in.curve, &in.settings)
+	if err == nil && in.boot != nil {
+		err = fit.Bootstrap(ctx, res, in.boot)
+	}
+	if err != nil {
+		return plan{}, err // a *fit.PointError or *fit.SettingError: 422 with its pointer
+	}
+	var resamples, failed int
+	if res.Boot != nil {
+		resamples, failed = res.Boot.Resamples, res.Boot.Failed
+	}
+	s.obs.CurveFitted(string(res.Model), res.Status, time.Since(start), resamples, failed)
+
+	out := wire.StoredFit{FitResult: wire.FromFit(res)}
+	if !in.store {
+		r, err := jsonReply(http.StatusOK, out, "")
+		return plan{reply: r}, err
+	}
+	run, err := s.newFitRun(who, req, inputSHA, res, &out)
+	if err != nil {
+		return plan{}, err
+	}
+	reply, err := jsonReply(http.StatusCreated, out, "/v1/fits/"+out.ID)
+	if err != nil {
+		return plan{}, err
+	}
+	run.Result = reply.Body
+	detail, err := json.Marshal(map[string]string{"model": string(res.Model), "status": res.Status})
+	if err != nil {
+		return plan{}, fmt.Errorf("audit detail: %w", err)
+	}
+	return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
+		if err := w.InsertFitRun(ctx, run); err != nil {
+			return nil, fmt.Errorf("store fit %s: %w", run.ID, err)
+		}
+		if err := w.InsertAudit(ctx, &db.AuditEntry{At: run.CreatedAt, Actor: who.Name, Action: "fit.create", Target: run.ID,
+			Detail: detail}); err != nil {
+			return nil, fmt.Errorf("audit fit %s: %w", run.ID, err)
+		}
+		return reply, nil
+	}}, nil
+}
+
 // newFitRun is the stored form of a fit; it fills out's provenance.
-func (s *Service) newFitRun(who Caller, req *wire.FitRequest, raw []byte, res *fit.Result, out *wire.StoredFit) (*db.FitRun, error) {
+func (s *Service) newFitRun(who Caller, req *wire.FitRequest, inputSHA string, res *fit.Result, out *wire.StoredFit) (*db.FitRun, error) {
 	now := s.now()
-	sum := sha256.Sum256(raw)
 	out.ID = s.newID()
 	out.CreatedAt = now.Format(time.RFC3339Nano)
 	out.SubmittedBy = who.Name
 	out.AssayID, out.CompoundID, out.RefitOf, out.Labels = req.AssayID, req.CompoundID, req.RefitOf, req.Labels
-	out.InputSHA256 = hex.EncodeToString(sum[:])
+	out.InputSHA256 = inputSHA
 	run := &db.FitRun{ID: out.ID, CreatedAt: now, SubmittedBy: who.Name, AssayID: req.AssayID,
 		CompoundID: req.CompoundID, RefitOf: req.RefitOf, Model: string(res.Model), Status: res.Status,
 		EngineVersion: fit.EngineVersion, InputSHA256: out.InputSHA256}

@@ -69,8 +69,7 @@ type Reply struct {
 	Status      int
 	ContentType string
 	Body        []byte
-	// Location is the stored record's path, "" for none. It is not part of
-	// the stored reply.
+	// Location is the stored record's path, "" for none.
 	Location string
 	// Replayed is true when the reply is a stored one.
 	Replayed bool
@@ -80,37 +79,52 @@ type Reply struct {
 // returns its reply.
 type commitFunc func(ctx context.Context, w db.Writer) (*Reply, error)
 
+// plan is what a write use case has prepared outside the transaction:
+// either the reply itself, when nothing but the reply is to be stored (a
+// calculator, a fit with store false), or the commit that stores the
+// request's records and returns the reply.
+type plan struct {
+	reply  *Reply
+	commit commitFunc
+}
+
 // write is the one path of every write use case:
 //
 //  1. a stored reply for idem's key is replayed before any work is done
 //     (another request under that key is ErrConflict);
-//  2. prepare does the work (validation, numerics) and returns the commit;
-//  3. the commit runs in one transaction that also stores its reply with
-//     the key;
+//  2. prepare does the work (validation, numerics) and returns its plan;
+//  3. the plan's records are stored in one transaction that also stores
+//     the reply with the key (without a key, a plan that is only a reply
+//     opens no transaction);
 //  4. when a concurrent request with the same key committed first (its key
 //     exists), its reply is returned and nothing of this one is kept.
-func (s *Service) write(ctx context.Context, who Caller, idem *Idem, prepare func(ctx context.Context) (commitFunc, error)) (*Reply, error) {
+func (s *Service) write(ctx context.Context, who Caller, idem *Idem, prepare func(ctx context.Context) (plan, error)) (*Reply, error) {
 	if r, err := s.replay(ctx, who, idem); r != nil || err != nil {
 		return r, err
 	}
-	commit, err := prepare(ctx)
+	p, err := prepare(ctx)
 	if err != nil {
 		return nil, err
 	}
-	var reply *Reply
+	if p.commit == nil && idem == nil {
+		return p.reply, nil
+	}
+	reply := p.reply
 	err = s.store.Write(ctx, func(w db.Writer) error {
-		r, err := commit(ctx, w)
-		if err != nil {
-			return err
+		if p.commit != nil {
+			r, err := p.commit(ctx, w)
+			if err != nil {
+				return err
+			}
+			reply = r
 		}
 		if idem != nil {
 			err := w.InsertIdempotent(ctx, &db.Idempotent{Actor: who.Name, Key: idem.Key, RequestSHA256: idem.Hash,
-				Status: r.Status, ContentType: r.ContentType, Body: r.Body, CreatedAt: s.now()})
+				Status: reply.Status, ContentType: reply.ContentType, Body: reply.Body, Location: reply.Location, CreatedAt: s.now()})
 			if err != nil {
 				return fmt.Errorf("store reply for key %q: %w", idem.Key, err)
 			}
 		}
-		reply = r
 		return nil
 	})
 	if idem != nil && errors.Is(err, db.ErrExists) {
@@ -141,22 +155,7 @@ func (s *Service) replay(ctx context.Context, who Caller, idem *Idem) (*Reply, e
 	if rec.RequestSHA256 != idem.Hash {
 		return nil, &Error{Kind: ErrConflict, Detail: "this Idempotency-Key was used for a different request; use a new key"}
 	}
-	return &Reply{Status: rec.Status, ContentType: rec.ContentType, Body: rec.Body, Replayed: true}, nil
-}
-
-// calculate answers a request that stores nothing (a calculator) under
-// its key: the reply is replayed for a retry.
-func (s *Service) calculate(ctx context.Context, who Caller, idem *Idem, compute func(ctx context.Context) (*Reply, error)) (*Reply, error) {
-	if idem == nil {
-		return compute(ctx)
-	}
-	return s.write(ctx, who, idem, func(ctx context.Context) (commitFunc, error) {
-		r, err := compute(ctx)
-		if err != nil {
-			return nil, err
-		}
-		return func(context.Context, db.Writer) (*Reply, error) { return r, nil }, nil
-	})
+	return &Reply{Status: rec.Status, ContentType: rec.ContentType, Body: rec.Body, Location: rec.Location, Replayed: true}, nil
 }
 
 // jsonReply encodes v as a JSON reply.

@@ -275,40 +275,65 @@ func PredictPotential(ctx context.Context, req *wire.PotentialRequest, budget Bu
 // Potential is POST /v1/potential: the steady membrane potential across
 // agonist concentrations, with a band when the curve is a stored,
 // bootstrapped fit; as JSON, or as the figure of V and ΔV when svg. It
-// stores nothing but the reply under its key.
+// stores nothing but the reply under its key; a prediction over the
+// synchronous budget is queued (202).
 func (s *Service) Potential(ctx context.Context, who Caller, idem *Idem, req *wire.PotentialRequest, svg bool) (*Reply, error) {
-	return s.calculate(ctx, who, idem, func(ctx context.Context) (*Reply, error) {
-		m, err := validatePotential(req)
+	return s.write(ctx, who, idem, func(ctx context.Context) (plan, error) {
+		m, lc, w, err := s.preparePotential(ctx, req)
 		if err != nil {
-			return nil, err
+			return plan{}, err
 		}
-		draws := 0
-		var sc *storedCurve
-		if req.CurveID != "" {
-			if sc, err = s.storedCurve(ctx, req.CurveID, func(refit cost.Work, draws int) error {
-				return s.budget.admit(refit+potentialWork(req, draws), "/agonist_conc")
-			}); err != nil {
-				return nil, err
-			}
-			useCurve(req, m, sc)
-			draws = len(sc.draws)
+		if w > s.budget.Sync {
+			return s.queue(who, analysisPotential, &queuedRequest{Potential: req, SVG: svg})
 		}
-		if err := s.budget.admit(potentialWork(req, draws), "/agonist_conc"); err != nil {
-			return nil, err
-		}
-		out, err := predictPotential(ctx, req, m, s.fitWorkers)
-		if err != nil {
-			return nil, err
-		}
-		if !svg {
-			return jsonReply(http.StatusOK, out, "")
-		}
-		var buf bytes.Buffer
-		if err := PotentialFigure(out).Write(&buf); err != nil {
-			return nil, fmt.Errorf("potential figure: %w", err)
-		}
-		return &Reply{Status: http.StatusOK, ContentType: "image/svg+xml", Body: buf.Bytes()}, nil
+		r, err := s.runPotential(ctx, req, m, lc, svg)
+		return plan{reply: r}, err
 	})
+}
+
+// preparePotential validates a potential request, reads its stored curve
+// and checks the work (membrane.Cost, plus regenerating the curve's draws
+// when they were not stored) against the hard limit.
+func (s *Service) preparePotential(ctx context.Context, req *wire.PotentialRequest) (*potentialModel, *loadedCurve, cost.Work, error) {
+	m, err := validatePotential(req)
+	if err != nil {
+		return nil, nil, 0, err
+	}
+	var lc *loadedCurve
+	w := potentialWork(req, 0)
+	if req.CurveID != "" {
+		if lc, err = s.loadCurve(ctx, req.CurveID); err != nil {
+			return nil, nil, 0, err
+		}
+		w = lc.redraw + potentialWork(req, lc.draws)
+	}
+	if err := s.budget.admit(w, "/agonist_conc"); err != nil {
+		return nil, nil, 0, err
+	}
+	return m, lc, w, nil
+}
+
+// runPotential computes a prepared request's reply.
+func (s *Service) runPotential(ctx context.Context, req *wire.PotentialRequest, m *potentialModel, lc *loadedCurve, svg bool) (*Reply, error) {
+	if lc != nil {
+		sc, err := s.drawCurve(ctx, lc)
+		if err != nil {
+			return nil, err
+		}
+		useCurve(req, m, sc)
+	}
+	out, err := predictPotential(ctx, req, m, s.fitWorkers)
+	if err != nil {
+		return nil, err
+	}
+	if !svg {
+		return jsonReply(http.StatusOK, out, "")
+	}
+	var buf bytes.Buffer
+	if err := PotentialFigure(out).Write(&buf); err != nil {
+		return nil, fmt.Errorf("potential figure: %w", err)
+	}
+	return &Reply{Status: http.StatusOK, ContentType: "image/svg+xml", Body: buf.Bytes()}, nil
 }
 
 // PotentialFigure is V against log concentration, with its interval when

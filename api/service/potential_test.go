@@ -105,7 +105,7 @@ func TestPotentialBandFromStoredDraws(t *testing.T) {
 // that drives it.
 func TestHardLimit(t *testing.T) {
 	store := dbtest.SQLite(t)
-	s, err := New(Deps{Store: store, Budget: Budget{Sync: 1000, Hard: 100_000}})
+	s, err := New(Deps{Store: store, Budget: Budget{Sync: 100_000, Hard: 100_000}})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -15,6 +15,7 @@ import (
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
+	"sluice/fit/cost"
 	"sluice/fit/schild"
 )
 
@@ -30,6 +31,9 @@ func validateSchild(req *wire.SchildRequest) ([]schild.Curve, *schild.Settings, 
 	unit, err := ingest.ParseUnit(req.ConcUnit)
 	if err != nil {
 		return nil, nil, Invalid("/conc_unit", "%v", err)
+	}
+	if err := errors.Join(checkText("/agonist_id", req.AgonistID), checkText("/antagonist_id", req.AntagonistID)); err != nil {
+		return nil, nil, err
 	}
 	if len(req.Curves) < MinSchildCurves || len(req.Curves) > MaxSchildCurves {
 		return nil, nil, Invalid("/curves", "give the control curve (antagonist_conc 0) and 1–%d shifted curves", MaxSchildCurves-1)
@@ -95,53 +99,75 @@ func (s *Service) analyzeSchild(ctx context.Context, curves []schild.Curve, set 
 }
 
 // CreateSchild is POST /v1/schild: a Schild analysis, stored (201 with its
-// Location) unless req.Store is false (200). raw is the body as sent; its
-// SHA-256 is the run's input_sha256.
+// Location) unless req.Store is false (200); one over the synchronous
+// budget is queued (202). raw is the body as sent; its SHA-256 is the
+// run's input_sha256.
 func (s *Service) CreateSchild(ctx context.Context, who Caller, idem *Idem, req *wire.SchildRequest, raw []byte) (*Reply, error) {
-	return s.write(ctx, who, idem, func(ctx context.Context) (commitFunc, error) {
-		curves, set, err := validateSchild(req)
+	sha := sha256.Sum256(raw)
+	inputSHA := hex.EncodeToString(sha[:])
+	return s.write(ctx, who, idem, func(ctx context.Context) (plan, error) {
+		curves, set, w, err := s.prepareSchild(req)
 		if err != nil {
-			return nil, err
+			return plan{}, err
 		}
-		w, field := schild.Cost(curves, set), "/curves"
-		if set.Resamples > 0 && w > 2*schild.Cost(curves, &schild.Settings{Confidence: set.Confidence}) {
-			field = "/bootstrap/resamples"
+		if w > s.budget.Sync {
+			return s.queue(who, analysisSchild, &queuedRequest{Schild: req, InputSHA256: inputSHA})
 		}
-		if err := s.budget.admit(w, field); err != nil {
-			return nil, err
-		}
-		res, err := s.analyzeSchild(ctx, curves, set)
-		if err != nil {
-			return nil, err
-		}
-		out := wire.FromSchild(res, curves, set.Seed)
-		out.AgonistID, out.AntagonistID = req.AgonistID, req.AntagonistID
-		if req.Store != nil && !*req.Store {
-			return func(context.Context, db.Writer) (*Reply, error) { return jsonReply(http.StatusOK, out, "") }, nil
-		}
-		now := s.now()
-		out.ID, out.CreatedAt = s.newID(), now.Format(time.RFC3339Nano)
-		reply, err := jsonReply(http.StatusCreated, out, "/v1/schild/"+out.ID)
-		if err != nil {
-			return nil, err
-		}
-		in, err := json.Marshal(req)
-		if err != nil {
-			return nil, fmt.Errorf("encode schild input: %w", err)
-		}
-		sum := sha256.Sum256(raw)
-		run := &db.SchildRun{ID: out.ID, CreatedAt: now, SubmittedBy: who.Name, AgonistID: req.AgonistID, AntagonistID: req.AntagonistID,
-			EngineVersion: fit.EngineVersion, InputSHA256: hex.EncodeToString(sum[:]), Input: in, Result: reply.Body}
-		return func(ctx context.Context, w db.Writer) (*Reply, error) {
-			if err := w.InsertSchildRun(ctx, run); err != nil {
-				return nil, fmt.Errorf("store schild %s: %w", run.ID, err)
-			}
-			if err := w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: who.Name, Action: "schild.create", Target: run.ID}); err != nil {
-				return nil, fmt.Errorf("audit schild %s: %w", run.ID, err)
-			}
-			return reply, nil
-		}, nil
+		return s.runSchild(ctx, who, req, curves, set, inputSHA)
 	})
+}
+
+// prepareSchild validates a Schild request and checks its work
+// (schild.Cost) against the hard limit, naming the bootstrap's resamples
+// when they drive it and the curves otherwise.
+func (s *Service) prepareSchild(req *wire.SchildRequest) ([]schild.Curve, *schild.Settings, cost.Work, error) {
+	curves, set, err := validateSchild(req)
+	if err != nil {
+		return nil, nil, 0, err
+	}
+	w, field := schild.Cost(curves, set), "/curves"
+	if set.Resamples > 0 && w > 2*schild.Cost(curves, &schild.Settings{Confidence: set.Confidence}) {
+		field = "/bootstrap/resamples"
+	}
+	if err := s.budget.admit(w, field); err != nil {
+		return nil, nil, 0, err
+	}
+	return curves, set, w, nil
+}
+
+// runSchild analyses a prepared request and plans its reply and record.
+func (s *Service) runSchild(ctx context.Context, who Caller, req *wire.SchildRequest, curves []schild.Curve, set *schild.Settings, inputSHA string) (plan, error) {
+	res, err := s.analyzeSchild(ctx, curves, set)
+	if err != nil {
+		return plan{}, err
+	}
+	out := wire.FromSchild(res, curves, set.Seed)
+	out.AgonistID, out.AntagonistID = req.AgonistID, req.AntagonistID
+	if req.Store != nil && !*req.Store {
+		r, err := jsonReply(http.StatusOK, out, "")
+		return plan{reply: r}, err
+	}
+	now := s.now()
+	out.ID, out.CreatedAt = s.newID(), now.Format(time.RFC3339Nano)
+	reply, err := jsonReply(http.StatusCreated, out, "/v1/schild/"+out.ID)
+	if err != nil {
+		return plan{}, err
+	}
+	in, err := json.Marshal(req)
+	if err != nil {
+		return plan{}, fmt.Errorf("encode schild input: %w", err)
+	}
+	run := &db.SchildRun{ID: out.ID, CreatedAt: now, SubmittedBy: who.Name, AgonistID: req.AgonistID, AntagonistID: req.AntagonistID,
+		EngineVersion: fit.EngineVersion, InputSHA256: inputSHA, Input: in, Result: reply.Body}
+	return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
+		if err := w.InsertSchildRun(ctx, run); err != nil {
+			return nil, fmt.Errorf("store schild %s: %w", run.ID, err)
+		}
+		if err := w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: who.Name, Action: "schild.create", Target: run.ID}); err != nil {
+			return nil, fmt.Errorf("audit schild %s: %w", run.ID, err)
+		}
+		return reply, nil
+	}}, nil
 }
 
 // SchildRun is GET /v1/schild/{id}: the stored run, its result as it was

@@ -38,6 +38,24 @@ type SchildRuns interface {
 	SchildRun(ctx context.Context, id string) (*db.SchildRun, error)
 }
 
+// Analyses reads queued single analyses.
+type Analyses interface {
+	Analysis(ctx context.Context, id string) (*db.Analysis, error)
+}
+
+// Plates reads plates, their wells, curves, Schild runs, layouts and jobs,
+// and records a running job's progress.
+type Plates interface {
+	Plate(ctx context.Context, id string) (*db.Plate, error)
+	PlateByJob(ctx context.Context, jobID int64) (*db.Plate, error)
+	Wells(ctx context.Context, plateID string) ([]db.WellRow, error)
+	PlateCurves(ctx context.Context, plateID string) ([]db.PlateCurve, error)
+	PlateSchildRuns(ctx context.Context, plateID string) ([]db.SchildRun, error)
+	Layout(ctx context.Context, id string) (*db.Layout, error)
+	SetPlateProgress(ctx context.Context, plateID, status string, done, total int) error
+	Job(ctx context.Context, id int64) (*db.Job, error)
+}
+
 // Store is everything the service reads and writes.
 type Store interface {
 	Writes
@@ -45,6 +63,8 @@ type Store interface {
 	Catalogue
 	FitRuns
 	SchildRuns
+	Analyses
+	Plates
 }
 
 var _ Store = db.Store(nil)

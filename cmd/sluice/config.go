@@ -7,10 +7,12 @@ import (
 	"log/slog"
 	"net"
 	"net/url"
-
 	"strconv"
 	"strings"
 	"time"
+
+	"sluice/api/service"
+	"sluice/fit/cost"
 )
 
 // serveConfig is the effective configuration of `sluice serve`: defaults,
@@ -26,13 +28,31 @@ type serveConfig struct {
 	LogLevel     string // SLUICE_LOG_LEVEL, --log-level
 	FitWorkers   int    // SLUICE_FIT_WORKERS, --fit-workers
 	Role         string // SLUICE_ROLE, --role: api, worker or all
+	// SkipMigrations (SLUICE_MIGRATE=false, --migrate=false) lets API
+	// replicas skip the store's migrations at start and only check that
+	// `sluice migrate` has run. The zero value (the default) migrates.
+	SkipMigrations bool
 	// ShutdownGrace (SLUICE_SHUTDOWN_GRACE, --shutdown-grace) is how long a
 	// SIGTERM or SIGINT lets running plate jobs and HTTP requests finish
 	// before they are cancelled (a cancelled job is retried later, by this
 	// or another worker). Zero cancels them at once; range 0–1h; default
 	// 30s, inside Kubernetes' default termination grace period.
 	ShutdownGrace time.Duration
+	// SyncBudget (SLUICE_SYNC_BUDGET, --sync-budget) is the estimated CPU
+	// time of one core a fit, Schild, potential or operational request may
+	// take before it answers; a request estimated above it (fit.Cost,
+	// schild.Cost, membrane.Cost) is queued as a job and answered 202. WorkLimit
+	// (SLUICE_WORK_LIMIT, --work-limit) refuses any request estimated above
+	// it with a 422. Range 1ms ≤ sync budget ≤ work limit ≤ 1h; defaults
+	// 1s and 30s (service.DefaultSyncBudget and DefaultHardLimit).
+	SyncBudget, WorkLimit time.Duration
 }
+
+// Bounds and defaults of --sync-budget and --work-limit.
+const (
+	minBudget = time.Millisecond
+	maxBudget = time.Hour
+)
 
 // Bounds and default of --shutdown-grace.
 const (
@@ -68,6 +88,15 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	if err != nil {
 		errs = append(errs, fmt.Errorf("SLUICE_SHUTDOWN_GRACE: %q is not a duration (e.g. 30s)", getenv("SLUICE_SHUTDOWN_GRACE")))
 	}
+	defSync, defLimit := durationOf(service.DefaultSyncBudget), durationOf(service.DefaultHardLimit)
+	syncBudget, err := time.ParseDuration(envOr(getenv, "SLUICE_SYNC_BUDGET", defSync.String()))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_SYNC_BUDGET: %q is not a duration (e.g. 1s)", getenv("SLUICE_SYNC_BUDGET")))
+	}
+	workLimit, err := time.ParseDuration(envOr(getenv, "SLUICE_WORK_LIMIT", defLimit.String()))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_WORK_LIMIT: %q is not a duration (e.g. 30s)", getenv("SLUICE_WORK_LIMIT")))
+	}
 	auth := true
 	switch v := strings.ToLower(getenv("SLUICE_AUTH")); v {
 	case "", "on", "true", "1":
@@ -76,6 +105,10 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	default:
 		errs = append(errs, fmt.Errorf("SLUICE_AUTH: %q is not on or off", v))
 	}
+	migrate, err := parseBool(getenv("SLUICE_MIGRATE"), true)
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_MIGRATE: %v", err))
+	}
 	fs.StringVar(&c.Addr, "addr", envOr(getenv, "SLUICE_ADDR", "127.0.0.1:8080"), "listen address (SLUICE_ADDR)")
 	fs.StringVar(&c.DataDir, "data", envOr(getenv, "SLUICE_DATA", "./sluice-data"), "data directory of the embedded store (SLUICE_DATA)")
 	fs.Int64Var(&c.BodyLimit, "body-limit", limit, "largest request body in bytes (SLUICE_BODY_LIMIT)")
@@ -83,8 +116,11 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.BoolVar(&c.Demo, "demo", false, "load the invented demo scenario if the store has none")
 	fs.StringVar(&c.LogLevel, "log-level", envOr(getenv, "SLUICE_LOG_LEVEL", "info"), "debug, info, warn or error (SLUICE_LOG_LEVEL)")
 	fs.IntVar(&c.FitWorkers, "fit-workers", workers, "goroutines per bootstrap; 0 = one per CPU (SLUICE_FIT_WORKERS)")
+	fs.BoolVar(&migrate, "migrate", migrate, "apply the store's migrations at start; false only checks they were applied (SLUICE_MIGRATE)")
 	fs.StringVar(&c.Role, "role", envOr(getenv, "SLUICE_ROLE", "all"), "api (HTTP only), worker (plate jobs; HTTP for health and metrics) or all (SLUICE_ROLE)")
 	fs.DurationVar(&c.ShutdownGrace, "shutdown-grace", grace, "on SIGTERM, how long running plate jobs and requests may finish (SLUICE_SHUTDOWN_GRACE)")
+	fs.DurationVar(&c.SyncBudget, "sync-budget", syncBudget, "estimated CPU time a fit, Schild, potential or operational request may take before it answers; above it, queued (SLUICE_SYNC_BUDGET)")
+	fs.DurationVar(&c.WorkLimit, "work-limit", workLimit, "estimated CPU time above which a request is refused with a 422 (SLUICE_WORK_LIMIT)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -92,6 +128,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 		errs = append(errs, fmt.Errorf("unexpected arguments %q", fs.Args()))
 	}
 	c.AuthDisabled = !auth
+	c.SkipMigrations = !migrate
 	c.DatabaseURL = getenv("SLUICE_DATABASE_URL")
 	c.AdminToken = getenv("SLUICE_ADMIN_TOKEN")
 	errs = append(errs, c.validate()...)
@@ -118,6 +155,10 @@ func (c *serveConfig) validate() []error {
 	if c.ShutdownGrace < 0 || c.ShutdownGrace > maxShutdownGrace {
 		errs = append(errs, fmt.Errorf("--shutdown-grace / SLUICE_SHUTDOWN_GRACE: %v is outside 0–%v", c.ShutdownGrace, maxShutdownGrace))
 	}
+	if c.SyncBudget < minBudget || c.WorkLimit > maxBudget || c.SyncBudget > c.WorkLimit {
+		errs = append(errs, fmt.Errorf("--sync-budget / SLUICE_SYNC_BUDGET and --work-limit / SLUICE_WORK_LIMIT: want %v ≤ %v ≤ %v ≤ %v",
+			minBudget, c.SyncBudget, c.WorkLimit, maxBudget))
+	}
 	if c.FitWorkers < 0 {
 		errs = append(errs, fmt.Errorf("--fit-workers / SLUICE_FIT_WORKERS: %d is negative", c.FitWorkers))
 	}
@@ -136,6 +177,19 @@ func (c *serveConfig) validate() []error {
 		errs = append(errs, errors.New("SLUICE_ADMIN_TOKEN: shorter than 16 characters"))
 	}
 	return errs
+}
+
+// parseBool reads an on/off variable; "" is def.
+func parseBool(v string, def bool) (bool, error) {
+	switch strings.ToLower(v) {
+	case "":
+		return def, nil
+	case "on", "true", "1":
+		return true, nil
+	case "off", "false", "0":
+		return false, nil
+	}
+	return def, fmt.Errorf("%q is not true or false", v)
 }
 
 func isLoopback(host string) bool {
@@ -167,7 +221,8 @@ func (c *serveConfig) logAttrs() []any {
 	}
 	return []any{"addr", c.Addr, "store", store, "body_limit", c.BodyLimit, "auth", !c.AuthDisabled,
 		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role,
-		"shutdown_grace", c.ShutdownGrace.String()}
+		"shutdown_grace", c.ShutdownGrace.String(), "migrate", !c.SkipMigrations,
+		"sync_budget", c.SyncBudget.String(), "work_limit", c.WorkLimit.String()}
 }
 
 // redactURL hides a URL's password.
@@ -177,4 +232,18 @@ func redactURL(s string) string {
 		return "(unparseable URL hidden)"
 	}
 	return u.Redacted()
+}
+
+// budget is the service's budget for the configured durations: CPU time
+// in cost units (cost.NanosecondsPerUnit each).
+func (c *serveConfig) budget() service.Budget {
+	return service.Budget{Sync: workOf(c.SyncBudget), Hard: workOf(c.WorkLimit)}
+}
+
+func workOf(d time.Duration) cost.Work {
+	return cost.Work(float64(d.Nanoseconds()) / cost.NanosecondsPerUnit)
+}
+
+func durationOf(w cost.Work) time.Duration {
+	return time.Duration(float64(w) * cost.NanosecondsPerUnit).Round(time.Millisecond)
 }

@@ -8,6 +8,9 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"sluice/api/service"
+	"sluice/fit/cost"
 )
 
 func env(m map[string]string) func(string) string { return func(k string) string { return m[k] } }
@@ -96,5 +99,33 @@ func TestTokenMigrateDemo(t *testing.T) {
 	out.Reset()
 	if code := runDemo(nil, getenv, &out, &errb); code != 0 || !strings.Contains(out.String(), "already") {
 		t.Errorf("second demo: %d %s", code, out.String())
+	}
+}
+
+// The work budgets are CPU times converted to cost units; the defaults are
+// the service's, and a sync budget above the limit names both settings.
+func TestServeConfigBudgets(t *testing.T) {
+	load := func(args []string, e map[string]string) (*serveConfig, error) {
+		fs := flag.NewFlagSet("serve", flag.ContinueOnError)
+		fs.SetOutput(io.Discard)
+		return loadServeConfig(args, env(e), fs)
+	}
+	c, err := load(nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b := c.budget(); b.Sync != service.DefaultSyncBudget || b.Hard != service.DefaultHardLimit {
+		t.Errorf("default budget %+v, want the service's", b)
+	}
+	c, err = load([]string{"--sync-budget", "2s"}, map[string]string{"SLUICE_WORK_LIMIT": "1m"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 2 s at cost.NanosecondsPerUnit = 40 is 5e7 units.
+	if b := c.budget(); b.Sync != 2e9/cost.NanosecondsPerUnit || b.Hard != 60e9/cost.NanosecondsPerUnit {
+		t.Errorf("budget %+v", b)
+	}
+	if _, err := load([]string{"--sync-budget", "2m"}, nil); err == nil || !strings.Contains(err.Error(), "--sync-budget") {
+		t.Errorf("sync budget above the limit: %v", err)
 	}
 }

@@ -9,14 +9,10 @@ import (
 	"io"
 	"math"
 	"math/rand/v2"
-	"net/http"
-	"net/http/httptest"
-	"strings"
 	"time"
 
-	"github.com/prometheus/client_golang/prometheus"
-
 	"sluice/api"
+	"sluice/api/service"
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
@@ -46,37 +42,27 @@ var demoCompounds = []demoCompound{
 	{"LX-104", "LX-104", 88, -7.9, 0.8},
 }
 
-// loadDemo loads the scenario through the API's own handlers (in process,
-// no network) unless the store already has it, and returns how many fits
-// it stored.
+// loadDemo loads the scenario through the service's use cases (the same
+// that the API's handlers call) unless the store already has it, fits its
+// plates in process, and returns how many single fits it stored.
 func loadDemo(ctx context.Context, store db.Store) (int, error) {
 	if _, err := store.Assay(ctx, demoAssay); err == nil {
 		return 0, nil
 	} else if !errors.Is(err, db.ErrNotFound) {
 		return 0, err
 	}
-	srv, err := api.New(api.Config{AuthDisabled: true}, api.Deps{Store: store, Registry: prometheus.NewRegistry()})
+	svc, err := service.New(service.Deps{Store: store})
 	if err != nil {
 		return 0, err
 	}
-	post := func(path string, body any) error {
-		b, _ := json.Marshal(body)
-		req := httptest.NewRequestWithContext(ctx, http.MethodPost, path, strings.NewReader(string(b)))
-		req.Header.Set("Content-Type", "application/json")
-		w := httptest.NewRecorder()
-		srv.Handler().ServeHTTP(w, req)
-		if w.Code >= 300 {
-			return fmt.Errorf("demo: POST %s: %d %s", path, w.Code, w.Body)
-		}
-		return nil
-	}
-	if err := post("/v1/assays", map[string]string{"id": demoAssay, "name": "LGX-7 membrane-potential dye (demo)",
-		"target": "LGX-7 (invented cation channel)", "readout": "membrane potential dye", "units": "% of reference max"}); err != nil {
-		return 0, err
+	who := service.Caller{Name: "demo", Scope: api.ScopeAdmin}
+	if _, err := svc.CreateAssay(ctx, who, nil, wire.CatalogueEntry{ID: demoAssay, Name: "LGX-7 membrane-potential dye (demo)",
+		Target: "LGX-7 (invented cation channel)", Readout: "membrane potential dye", Units: "% of reference max"}); err != nil {
+		return 0, fmt.Errorf("demo assay: %w", err)
 	}
 	for _, c := range demoCompounds {
-		if err := post("/v1/compounds", map[string]string{"id": c.id, "name": c.name, "target": "LGX-7"}); err != nil {
-			return 0, err
+		if _, err := svc.CreateCompound(ctx, who, nil, wire.CatalogueEntry{ID: c.id, Name: c.name, Target: "LGX-7"}); err != nil {
+			return 0, fmt.Errorf("demo compound %s: %w", c.id, err)
 		}
 	}
 	rng := rand.New(rand.NewPCG(2026, 7))
@@ -90,22 +76,27 @@ func loadDemo(ctx context.Context, store db.Store) (int, error) {
 			// of a log unit, as a real assay might show.
 			shift := 0.04 * rng.NormFloat64()
 			theta := []float64{0, c.top, c.logEC + shift, c.hill}
-			var pts []map[string]float64
+			var pts []wire.PointIn
 			for i := -1; i < 10; i++ {
 				conc := 0.0
 				if i >= 0 {
 					conc = 1 * math.Pow(10, 0.5*float64(i)) // nM
 				}
 				for r := 0; r < 3; r++ {
-					y := fit.Hill.Value(theta, conc*1e-9) + 4*rng.NormFloat64()
-					pts = append(pts, map[string]float64{"conc": conc, "response": math.Round(y*100) / 100})
+					y := math.Round((fit.Hill.Value(theta, conc*1e-9)+4*rng.NormFloat64())*100) / 100
+					pts = append(pts, wire.PointIn{Conc: &conc, Response: &y})
 				}
 			}
-			body := map[string]any{"model": "hill", "conc_unit": "nM", "points": pts, "assay_id": demoAssay,
-				"compound_id": c.id, "bootstrap": map[string]any{"resamples": 500, "seed": 1000*week + k},
-				"labels": map[string]string{"week": fmt.Sprintf("demo-week-%d", week), "plate": fmt.Sprintf("LK-%04d", 100+week)}}
-			if err := post("/v1/fits", body); err != nil {
-				return n, err
+			seed := uint64(1000*week + k)
+			req := &wire.FitRequest{Model: "hill", ConcUnit: "nM", Points: pts, AssayID: demoAssay, CompoundID: c.id,
+				Bootstrap: &wire.BootstrapIn{Resamples: 500, Seed: &seed},
+				Labels:    map[string]string{"week": fmt.Sprintf("demo-week-%d", week), "plate": fmt.Sprintf("LK-%04d", 100+week)}}
+			raw, err := json.Marshal(req)
+			if err != nil {
+				return n, fmt.Errorf("demo fit: %w", err)
+			}
+			if _, err := svc.Fit(ctx, who, nil, req, raw); err != nil {
+				return n, fmt.Errorf("demo fit of %s, week %d: %w", c.id, week, err)
 			}
 			n++
 		}
@@ -119,20 +110,16 @@ func loadDemo(ctx context.Context, store db.Store) (int, error) {
 			mode = "antagonist"
 		}
 		req := demoPlate(rng, week, mode, week == 3)
-		b, _ := json.Marshal(req)
-		r := httptest.NewRequestWithContext(ctx, http.MethodPost, "/v1/plates", strings.NewReader(string(b)))
-		r.Header.Set("Content-Type", "application/json")
-		w := httptest.NewRecorder()
-		srv.Handler().ServeHTTP(w, r)
-		if w.Code != http.StatusAccepted {
-			return n, fmt.Errorf("demo: POST /v1/plates: %d %s", w.Code, w.Body)
+		raw, err := json.Marshal(req)
+		if err != nil {
+			return n, fmt.Errorf("demo plate: %w", err)
 		}
-		var acc struct {
-			PlateID string `json:"plate_id"`
+		_, acc, err := svc.SubmitPlate(ctx, who, nil, &service.PlateSubmission{Form: service.PlateJSON, Plate: req, Raw: raw})
+		if err != nil {
+			return n, fmt.Errorf("demo plate %s: %w", req.Barcode, err)
 		}
-		json.Unmarshal(w.Body.Bytes(), &acc)
-		if err := srv.FitPlate(ctx, acc.PlateID); err != nil {
-			return n, err
+		if err := svc.RunPlateJob(ctx, acc.PlateID); err != nil {
+			return n, fmt.Errorf("demo plate %s: %w", req.Barcode, err)
 		}
 	}
 	return n, nil
@@ -142,13 +129,13 @@ func loadDemo(ctx context.Context, store db.Store) (int, error) {
 // in 23–24, 16 invented compounds (one per row) at 10 concentrations in
 // duplicate. In antagonist mode the samples inhibit a fixed agonist
 // stimulus; noisyMax makes the max controls scatter so that QC fails.
-func demoPlate(rng *rand.Rand, week int, mode string, noisyMax bool) api.PlateRequest {
+func demoPlate(rng *rand.Rand, week int, mode string, noisyMax bool) wire.PlateRequest {
 	const lo, hi = 300.0, 2400.0
 	f := plate.Plate384
 	num := func(v float64) *float64 { return &v }
-	req := api.PlateRequest{AssayID: demoAssay, Barcode: fmt.Sprintf("LK-384-%02d", week), Format: 384, Mode: mode,
+	req := wire.PlateRequest{AssayID: demoAssay, Barcode: fmt.Sprintf("LK-384-%02d", week), Format: 384, Mode: mode,
 		MeasuredAt: time.Date(2026, 10, 5+7*week, 9, 0, 0, 0, time.UTC).Format(time.RFC3339), ConcUnit: "nM",
-		Fit: &api.PlateFitIn{Bootstrap: &wire.BootstrapIn{Resamples: 200, Seed: func() *uint64 { s := uint64(week); return &s }()}}}
+		Fit: &wire.PlateFit{Bootstrap: &wire.BootstrapIn{Resamples: 200, Seed: func() *uint64 { s := uint64(week); return &s }()}}}
 	maxSD := 50.0
 	if noisyMax {
 		maxSD = 450
@@ -162,7 +149,7 @@ func demoPlate(rng *rand.Rand, week int, mode string, noisyMax bool) api.PlateRe
 		logEC := -8.6 + 3*float64(r)/15 + 0.05*rng.NormFloat64()
 		h := 0.8 + 0.12*float64(r%5)
 		for c := 0; c < 24; c++ {
-			w := api.WellJSON{Well: f.Name(plate.Well{Row: r, Col: c})}
+			w := wire.Well{Well: f.Name(plate.Well{Row: r, Col: c})}
 			switch {
 			case c < 2:
 				w.Role, w.Value = "max_control", num(hi+maxSD*rng.NormFloat64())

@@ -20,6 +20,8 @@ Usage:
   sluice migrate                   apply the database migrations
   sluice token create --scope S --name N
                                    print a new API token (read, submit or admin)
+  sluice token list                list the API tokens (never their secrets)
+  sluice token revoke NAME         revoke an API token
   sluice demo                      load the invented demo scenario into the store
   sluice potential REQUEST.json|-  predict the membrane-potential shift of an agonist (offline)
   sluice schild FILE|- [flags]     Schild analysis of shifted agonist curves (offline)

@@ -60,7 +60,7 @@ func runServe(args []string, getenv func(string) string, stderr io.Writer) int {
 // /metrics.
 func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Logger) int {
 	defer ln.Close() // closed already by Shutdown, unless serving never began
-	store, err := db.Open(ctx, cfg.DatabaseURL, cfg.DataDir)
+	store, err := db.OpenWith(ctx, cfg.DatabaseURL, cfg.DataDir, db.Options{SkipMigrations: cfg.SkipMigrations})
 	if err != nil {
 		log.Error("open store", "err", err)
 		return 1
@@ -81,7 +81,7 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		log.Info("demo scenario", "fits_loaded", n)
 	}
 	srv, err := api.New(api.Config{BodyLimit: cfg.BodyLimit, AuthDisabled: cfg.AuthDisabled, FitWorkers: cfg.FitWorkers},
-		api.Deps{Store: store, Registry: prometheus.NewRegistry(), Log: log})
+		api.Deps{Store: store, Registry: prometheus.NewRegistry(), Log: log, Budget: cfg.budget()})
 	if err != nil {
 		log.Error("build server", "err", err)
 		return 1
@@ -95,12 +95,14 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		// Jobs run on a context the signal does not cancel (cancelling
 		// River's start context is its hard stop); StopWorkers below
 		// ends them softly.
-		// Two plates at a time: each already fits its curves on every core.
-		if err := store.StartWorkers(context.WithoutCancel(ctx), srv.FitPlate, 2); err != nil {
+		// Two jobs at a time: each already fits its curves on every core.
+		// Plates, and single analyses over the synchronous budget.
+		svc := srv.Service()
+		if err := store.StartHandlers(context.WithoutCancel(ctx), db.Handlers{Plate: svc.RunPlateJob, Analysis: svc.RunAnalysis}, 2); err != nil {
 			log.Error("start workers", "err", err)
 			return 1
 		}
-		log.Info("plate workers started")
+		log.Info("workers started")
 	}
 	hs := &http.Server{
 		Handler:           handler,
@@ -110,6 +112,7 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		IdleTimeout:       2 * time.Minute,
 		ErrorLog:          slog.NewLogLogger(log.Handler(), slog.LevelWarn),
 	}
+	hs.RegisterOnShutdown(srv.Drain) // waiting requests answer 202 at once
 	log.Info("listening", "addr", ln.Addr().String(), "store", store.Engine(), "role", cfg.Role)
 	errc := make(chan error, 1)
 	go func() { errc <- hs.Serve(ln) }()
@@ -162,7 +165,8 @@ func storeFlags(fs *flag.FlagSet, getenv func(string) string) *string {
 	return fs.String("data", envOr(getenv, "SLUICE_DATA", "./sluice-data"), "data directory of the embedded store (SLUICE_DATA)")
 }
 
-// runMigrate is `sluice migrate`: apply the migrations and exit.
+// runMigrate is `sluice migrate`: apply the migrations (under a lock on
+// PostgreSQL) and exit.
 func runMigrate(args []string, getenv func(string) string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("migrate", flag.ContinueOnError)
 	fs.SetOutput(stderr)
@@ -170,64 +174,15 @@ func runMigrate(args []string, getenv func(string) string, stdout, stderr io.Wri
 	if err := fs.Parse(args); err != nil {
 		return 2
 	}
-	store, err := db.Open(context.Background(), getenv("SLUICE_DATABASE_URL"), *data)
-	if err != nil {
+	url := getenv("SLUICE_DATABASE_URL")
+	if err := db.Migrate(context.Background(), url, *data, 0); err != nil {
 		fmt.Fprintf(stderr, "sluice migrate: %v\n", err)
 		return 1
 	}
-	defer store.Close()
-	fmt.Fprintf(stdout, "sluice migrate: %s store is up to date\n", store.Engine())
-	return 0
-}
-
-// runToken is `sluice token create --scope S --name N`: print a new token
-// once; only its hash is stored.
-func runToken(args []string, getenv func(string) string, stdout, stderr io.Writer) int {
-	if len(args) == 0 || args[0] != "create" {
-		fmt.Fprintln(stderr, "usage: sluice token create --scope read|submit|admin --name NAME")
-		return 2
+	engine := "sqlite"
+	if url != "" {
+		engine = "postgres"
 	}
-	fs := flag.NewFlagSet("token create", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	scope := fs.String("scope", api.ScopeRead, "read, submit or admin")
-	name := fs.String("name", "", "a name for the token, e.g. pipeline-3 (shown in the audit log)")
-	data := storeFlags(fs, getenv)
-	if err := fs.Parse(args[1:]); err != nil {
-		return 2
-	}
-	if !api.ValidScope(*scope) {
-		fmt.Fprintf(stderr, "sluice token create: --scope: %q is not read, submit or admin\n", *scope)
-		return 2
-	}
-	if *name == "" {
-		fmt.Fprintln(stderr, "sluice token create: --name is required")
-		return 2
-	}
-	ctx := context.Background()
-	store, err := db.Open(ctx, getenv("SLUICE_DATABASE_URL"), *data)
-	if err != nil {
-		fmt.Fprintf(stderr, "sluice token create: %v\n", err)
-		return 1
-	}
-	defer store.Close()
-	secret, hash := api.NewToken()
-	now := time.Now().UTC()
-	err = store.Write(ctx, func(w db.Writer) error {
-		if err := w.InsertToken(ctx, &db.Token{ID: hash[:16], Name: *name, Scope: *scope, Hash: hash, CreatedAt: now}); err != nil {
-			return err
-		}
-		return w.InsertAudit(ctx, &db.AuditEntry{At: now, Actor: "cli", Action: "token.create", Target: *name,
-			Detail: []byte(fmt.Sprintf(`{"scope":%q}`, *scope))})
-	})
-	if errors.Is(err, db.ErrExists) {
-		fmt.Fprintf(stderr, "sluice token create: a token named %q exists; choose another name\n", *name)
-		return 2
-	}
-	if err != nil {
-		fmt.Fprintf(stderr, "sluice token create: %v\n", err)
-		return 1
-	}
-	fmt.Fprintln(stdout, secret)
-	fmt.Fprintf(stderr, "token %q (scope %s) created; it is shown only this once\n", *name, *scope)
+	fmt.Fprintf(stdout, "sluice migrate: %s store is up to date\n", engine)
 	return 0
 }

@@ -135,7 +135,10 @@ func (c *submitClient) post(path, ctype string, body []byte) (*accepted, error) 
 			fmt.Fprintf(c.log, "retrying in %v (%v)\n", d, last)
 			time.Sleep(d)
 		}
-		req, _ := http.NewRequest(http.MethodPost, c.base+path, bytes.NewReader(body))
+		req, err := http.NewRequest(http.MethodPost, c.base+path, bytes.NewReader(body))
+		if err != nil {
+			return nil, fmt.Errorf("--server %q: %w", c.base, err)
+		}
 		req.Header.Set("Content-Type", ctype)
 		req.Header.Set("Idempotency-Key", key)
 		if c.token != "" {
@@ -146,8 +149,12 @@ func (c *submitClient) post(path, ctype string, body []byte) (*accepted, error) 
 			last = err
 			continue
 		}
-		b, _ := io.ReadAll(resp.Body)
+		b, err := io.ReadAll(resp.Body)
 		resp.Body.Close()
+		if err != nil {
+			last = fmt.Errorf("reading the answer: %w", err)
+			continue
+		}
 		switch {
 		case resp.StatusCode == http.StatusAccepted || resp.StatusCode == http.StatusOK:
 			var a accepted
@@ -192,7 +199,10 @@ func problemText(status string, b []byte) error {
 }
 
 func (c *submitClient) get(path string, v any) error {
-	req, _ := http.NewRequest(http.MethodGet, c.base+path, nil)
+	req, err := http.NewRequest(http.MethodGet, c.base+path, nil)
+	if err != nil {
+		return fmt.Errorf("--server %q: %w", c.base, err)
+	}
 	if c.token != "" {
 		req.Header.Set("Authorization", "Bearer "+c.token)
 	}
@@ -201,7 +211,10 @@ func (c *submitClient) get(path string, v any) error {
 		return err
 	}
 	defer resp.Body.Close()
-	b, _ := io.ReadAll(resp.Body)
+	b, err := io.ReadAll(resp.Body)
+	if err != nil {
+		return fmt.Errorf("reading the answer to GET %s: %w", path, err)
+	}
 	if resp.StatusCode != http.StatusOK {
 		return problemText(resp.Status, b)
 	}
@@ -209,10 +222,10 @@ func (c *submitClient) get(path string, v any) error {
 }
 
 // waitPlate polls the job, drawing a progress bar, until it ends.
-func (c *submitClient) waitPlate(plateID string, jobID int64, timeout time.Duration) (*api.PlateView, error) {
+func (c *submitClient) waitPlate(plateID string, jobID int64, timeout time.Duration) (*wire.PlateView, error) {
 	deadline := time.Now().Add(timeout)
 	for {
-		var j api.JobView
+		var j wire.JobView
 		if err := c.get(fmt.Sprintf("/v1/jobs/%d", jobID), &j); err != nil {
 			return nil, err
 		}
@@ -225,7 +238,7 @@ func (c *submitClient) waitPlate(plateID string, jobID int64, timeout time.Durat
 			j.Progress.Done, j.Progress.Total, j.Status)
 		if j.Status == "done" || j.Status == "failed" {
 			fmt.Fprintln(c.log)
-			var v api.PlateView
+			var v wire.PlateView
 			if err := c.get("/v1/plates/"+plateID, &v); err != nil {
 				return nil, err
 			}
@@ -243,7 +256,7 @@ func (c *submitClient) waitPlate(plateID string, jobID int64, timeout time.Durat
 }
 
 // printSummary shows the QC verdict and each curve's potency.
-func printSummary(w io.Writer, v *api.PlateView) {
+func printSummary(w io.Writer, v *wire.PlateView) {
 	var qc struct {
 		ZPrime  float64  `json:"z_prime"`
 		Pass    bool     `json:"pass"`
@@ -265,7 +278,7 @@ func printSummary(w io.Writer, v *api.PlateView) {
 	tw := tabwriter.NewWriter(w, 0, 4, 2, ' ', 0)
 	fmt.Fprintln(tw, "  curve\tstatus\tpEC50\tEC50 (M)\t95% CI\tflags")
 	for _, raw := range v.Curves {
-		var pc api.PlateCurve
+		var pc wire.PlateCurve
 		if json.Unmarshal(raw, &pc) != nil {
 			continue
 		}

@@ -53,7 +53,7 @@ func TestSubmit(t *testing.T) {
 	store.Write(ctx, func(w db.Writer) error {
 		return w.InsertToken(ctx, &db.Token{ID: "t", Name: "pipeline-3", Scope: api.ScopeSubmit, Hash: hash})
 	})
-	if err := store.StartWorkers(ctx, srv.FitPlate, 1); err != nil {
+	if err := store.StartWorkers(ctx, srv.Service().RunPlateJob, 1); err != nil {
 		t.Fatal(err)
 	}
 	defer store.StopWorkers(ctx)

@@ -99,3 +99,21 @@ func TestRunPanicBecomesError(t *testing.T) {
 		}
 	}
 }
+
+// A panic while making a worker is an error too (Index −1), and the other
+// workers stop.
+func TestRunNewWorkerPanic(t *testing.T) {
+	for _, workers := range []int{1, 3} {
+		var made atomic.Int32
+		err := Run(context.Background(), 1000, workers, func() func(int) {
+			if made.Add(1) == 1 {
+				panic("no buffers")
+			}
+			return func(int) {}
+		})
+		var pe *PanicError
+		if !errors.As(err, &pe) || pe.Index != -1 || pe.Value != "no buffers" {
+			t.Errorf("workers %d: err = %v, want a *PanicError at -1", workers, err)
+		}
+	}
+}

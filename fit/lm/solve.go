@@ -31,9 +31,9 @@ type Result struct {
 	AtBound []bool
 	// Unscaled is (JᵀWJ)⁻¹ over the estimated parameters, N×N row-major,
 	// with zero rows and columns for fixed and at-bound parameters. It is
-	// all NaN when the Jacobian is rank-deficient at the estimate (Status
-	// Singular, or a solve that did not converge), with EstimateOnly, and
-	// after NumericalFailure.
+	// all NaN when the Jacobian is rank-deficient at the estimate (the
+	// status is then Singular if the solve had converged, else it keeps its
+	// own), with EstimateOnly, and after NumericalFailure.
 	Unscaled []float64
 	// Cov is σ²·Unscaled with σ² = RSS/DOF (NaN over the estimated
 	// parameters when DOF is 0).

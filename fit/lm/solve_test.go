@@ -197,3 +197,19 @@ func (f misra) Eval(b, r, jac []float64) {
 		}
 	}
 }
+
+// On a zero-residual fit SE is 0 for every parameter, a fixed one
+// included, as Result.SE documents; with residuals left, a fixed one's SE
+// is NaN (TestFixedAndBounds).
+func TestZeroResidualSE(t *testing.T) {
+	f := line{x: []float64{1, 2, 3, 4}, y: []float64{3, 5, 7, 9}} // exactly a = 1, b = 2
+	for _, fixed := range [][]bool{nil, {true, false}} {
+		res, err := lm.Solve(&lm.Problem{M: 4, N: 2, Func: f, Fixed: fixed}, []float64{1, 2}, nil)
+		if err != nil || res.Status != lm.ZeroResidual || res.RSS != 0 {
+			t.Fatalf("fixed %v: status %v RSS %v err %v", fixed, res.Status, res.RSS, err)
+		}
+		if res.SE(0) != 0 || res.SE(1) != 0 {
+			t.Errorf("fixed %v: SE = %v, %v; want 0, 0", fixed, res.SE(0), res.SE(1))
+		}
+	}
+}

@@ -8,8 +8,9 @@ import "sluice/fit/cost"
 const (
 	// costUnitsPerEval converts one evaluation of the Mg²⁺ steady-state
 	// equation (one exponential) to cost units: BenchmarkCostUnit here
-	// against BenchmarkCostUnit in package fit (ratio 2.2).
-	costUnitsPerEval = 3
+	// against BenchmarkCostUnit in package fit, run alternately, gave
+	// ratios of 0.7 to 2.2, median 1.3 (15 pairs).
+	costUnitsPerEval = 2
 	// costUnitsPerPoint is one open-fraction evaluation and chord
 	// potential, about one Hill value: a level of a four-parameter LM
 	// evaluation.
@@ -19,9 +20,10 @@ const (
 	// walked (measured mean 38.5 in all).
 	costContinueEvals = 40
 	// costWalkEvals allows each continuation series (a draw, the
-	// threshold search) to walk the whole scan grid twice, as across a
-	// jump between branches.
-	costWalkEvals = 2 * (scanSteps + 1)
+	// threshold search) to walk the whole scan grid once, as across a
+	// jump between branches (the benchmark's draws walk about 700 cells
+	// each in all).
+	costWalkEvals = scanSteps + 1
 	// costScanEvals bounds one full scan: every grid point and at most
 	// three roots of 100 halvings each.
 	costScanEvals = scanSteps + 1 + 3*100
@@ -38,15 +40,18 @@ const (
 //
 //	W = 4·(concs·(1 + draws) + 1 561)
 //
-// and with it the Mg²⁺ equation is evaluated, at 3 units per evaluation,
+// and with it the Mg²⁺ equation is evaluated, at 2 units per evaluation,
 // 4 301 times per concentration for the point estimate (a full scan),
-// about 40 times per concentration and draw when continuing, plus 8 002 per
+// about 40 times per concentration and draw when continuing, plus 4 001 per
 // continuation series for jumps:
 //
-//	W += 3·(4 301·concs + draws·(40·concs + 8 002) + 40·1 561 + 8 002)
+//	W += 2·(4 301·concs + draws·(40·concs + 4 001) + 40·1 561 + 4 001)
 //
-// It is an estimate from the sizes alone (see package cost); a draw whose
-// potential jumps between branches more than once costs more.
+// It is an estimate from the sizes alone (see package cost), on the high
+// side: for the benchmark request (200 concentrations, 1 000 draws, Mg²⁺)
+// it is 26.7 M units, 1.07 s at cost.NanosecondsPerUnit, where Predict and
+// Band took 0.05 s and 0.55 s (2026-12-02, one goroutine, busy machine). A
+// draw whose potential jumps between branches more than once costs more.
 func Cost(concs, draws int, mgBlock bool) cost.Work {
 	c, d := float64(concs), float64(draws)
 	w := costUnitsPerPoint * (c*(1+d) + costThresholdSteps)

@@ -47,9 +47,10 @@ type Prediction struct {
 // with B ≡ 1 without Mg²⁺ (chord-conductance equation, FACTS §7). With Mg²⁺
 // the equation is solved for V at each concentration, in ascending order,
 // taking the root nearest the previous one (continuation from rest); every
-// concentration gets a full scan of the equation, so that Multistable is
-// true whenever some concentration has more than one root. Points come back
-// in the order of concs.
+// concentration gets a full scan of the equation (4 001 grid points), so
+// that Multistable is true whenever some concentration has more than one
+// root the grid can tell apart (see scanSteps). Points come back in the
+// order of concs.
 //
 // ctx is checked before each concentration; when it is done Predict returns
 // an error wrapping ctx.Err() and no prediction.

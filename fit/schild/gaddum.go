@@ -40,6 +40,7 @@ type level struct {
 type globalModel struct {
 	levels []level
 	y      []float64 // level means (the resample's, when bootstrapping)
+	spec   *fit.Spec // fit.Hill, looked up once
 	hill   fit.Roles // where bottom, top, log EC50 and hill sit in fit.Hill's parameters
 	g      []float64 // fit.Hill's gradient and parameters, kept here so that no call allocates
 	theta  []float64
@@ -47,7 +48,7 @@ type globalModel struct {
 
 func newGlobalModel(levels []level, y []float64) globalModel {
 	np := len(fit.Hill.Params())
-	return globalModel{levels: levels, y: y, hill: fit.Hill.Roles(), g: make([]float64, np), theta: make([]float64, np)}
+	return globalModel{levels: levels, y: y, spec: fit.Hill.Spec(), hill: fit.Hill.Roles(), g: make([]float64, np), theta: make([]float64, np)}
 }
 
 // Eval writes residuals ȳ − f and their Jacobian (column-major). With
@@ -74,9 +75,9 @@ func (m *globalModel) Eval(p, r, jac []float64) {
 		m.theta[h.Bottom], m.theta[h.Top], m.theta[h.LogEC50], m.theta[h.Hill] = p[gBottom], p[gTop], L, p[gHill]
 		var f float64
 		if jac == nil {
-			f = fit.Hill.Value(m.theta, lv.conc)
+			f = m.spec.Value(m.theta, lv.conc)
 		} else {
-			f = fit.Hill.ValueGrad(m.theta, lv.conc, m.g)
+			f = m.spec.ValueGrad(m.theta, lv.conc, m.g)
 			dL := m.g[h.LogEC50]
 			jac[gBottom*nl+i] = -m.g[h.Bottom]
 			jac[gTop*nl+i] = -m.g[h.Top]

@@ -1,0 +1,53 @@
+package api
+
+import (
+	"context"
+	"log/slog"
+	"time"
+
+	"github.com/prometheus/client_golang/prometheus"
+
+	"sluice/db"
+)
+
+// jobsCollector reports the job queue's depth at each scrape, counted in
+// the store, so that every replica reports the same figures and an
+// autoscaler can follow them (deploy/README.md: the worker
+// HorizontalPodAutoscaler reads them through a Prometheus metrics adapter).
+type jobsCollector struct {
+	jobs interface {
+		JobCounts(ctx context.Context) ([]db.JobCount, error)
+	}
+	log *slog.Logger
+}
+
+// jobsCountTimeout bounds the count at one scrape; a store that does not
+// answer in time leaves the two gauges out of that scrape (and logs why)
+// rather than failing the whole scrape.
+const jobsCountTimeout = 2 * time.Second
+
+var (
+	jobsQueuedDesc = prometheus.NewDesc("sluice_jobs_queued",
+		"Jobs waiting for a worker (available, scheduled or retryable), by kind.", []string{"kind"}, nil)
+	jobsRunningDesc = prometheus.NewDesc("sluice_jobs_running",
+		"Jobs a worker has taken and not finished, by kind.", []string{"kind"}, nil)
+)
+
+func (j jobsCollector) Describe(ch chan<- *prometheus.Desc) {
+	ch <- jobsQueuedDesc
+	ch <- jobsRunningDesc
+}
+
+func (j jobsCollector) Collect(ch chan<- prometheus.Metric) {
+	ctx, cancel := context.WithTimeout(context.Background(), jobsCountTimeout)
+	defer cancel()
+	counts, err := j.jobs.JobCounts(ctx)
+	if err != nil {
+		j.log.Warn("metrics: count jobs", "err", err)
+		return
+	}
+	for _, c := range counts {
+		ch <- prometheus.MustNewConstMetric(jobsQueuedDesc, prometheus.GaugeValue, float64(c.Queued), c.Kind)
+		ch <- prometheus.MustNewConstMetric(jobsRunningDesc, prometheus.GaugeValue, float64(c.Running), c.Kind)
+	}
+}

@@ -1,0 +1,102 @@
+package plot
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+
+	"sluice/fit/plate"
+)
+
+// Heatmap is a plate's raw values by well: a cell per measured well
+// coloured on one scale from the plate's lowest to highest value, the
+// controls outlined (max red, min blue), and the QC verdict in the title.
+type Heatmap struct {
+	Barcode string
+	Format  plate.Format
+	Wells   []HeatWell
+	// Verdict is the QC line of the title ("QC pass · Z′ 0.88"), Reasons
+	// the reasons it failed, Footnote the caution under the figure.
+	Verdict  string
+	Reasons  []string
+	Footnote string
+}
+
+// HeatWell is one well: its place, canonical name, role and raw value
+// (nil when it has none).
+type HeatWell struct {
+	Row, Col int
+	Name     string
+	Role     plate.Role
+	Value    *float64
+}
+
+// Write renders the heat map.
+func (h *Heatmap) Write(w io.Writer) error {
+	f := h.Format
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, r := range h.Wells {
+		if r.Value != nil {
+			lo, hi = math.Min(lo, *r.Value), math.Max(hi, *r.Value)
+		}
+	}
+	cell := 640.0 / float64(f.Cols)
+	wd, ht := 60+cell*float64(f.Cols)+20, 70+cell*float64(f.Rows)+70
+	var b strings.Builder
+	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" width="%.0f" height="%.0f" font-family="sans-serif" font-size="11">`+"\n", wd, ht)
+	fmt.Fprintf(&b, `<rect width="100%%" height="100%%" fill="white"/>`+"\n")
+	fmt.Fprintf(&b, `<text x="60" y="24" font-size="15" font-weight="bold">Plate %s (%d wells) · %s</text>`+"\n", esc(h.Barcode), f.Wells, esc(h.Verdict))
+	if len(h.Reasons) > 0 {
+		fmt.Fprintf(&b, `<text x="60" y="42" fill="#a00">%s</text>`+"\n", esc(strings.Join(h.Reasons, "; ")))
+	}
+	for _, r := range h.Wells {
+		x, y := 60+cell*float64(r.Col), 60+cell*float64(r.Row)
+		fill := "#eeeeee"
+		if r.Value != nil && hi > lo {
+			fill = ramp((*r.Value - lo) / (hi - lo))
+		}
+		stroke := "none"
+		switch r.Role {
+		case plate.MaxControl:
+			stroke = "#d62728"
+		case plate.MinControl:
+			stroke = "#1f77b4"
+		}
+		fmt.Fprintf(&b, `<rect x="%.1f" y="%.1f" width="%.1f" height="%.1f" fill="%s" stroke="%s" stroke-width="1.5"><title>%s %s %s</title></rect>`+"\n",
+			x, y, cell-1, cell-1, fill, stroke, esc(r.Name), esc(string(r.Role)), valueText(r.Value))
+	}
+	step := 1
+	if f.Cols > 24 {
+		step = 4
+	}
+	for col := 0; col < f.Cols; col += step {
+		fmt.Fprintf(&b, `<text x="%.1f" y="56" text-anchor="middle">%d</text>`+"\n", 60+cell*(float64(col)+0.5), col+1)
+	}
+	for row := 0; row < f.Rows; row += step {
+		name := f.Name(plate.Well{Row: row})
+		fmt.Fprintf(&b, `<text x="52" y="%.1f" text-anchor="end">%s</text>`+"\n", 60+cell*(float64(row)+0.7), name[:len(name)-2])
+	}
+	fmt.Fprintf(&b, `<text x="60" y="%.1f" fill="#444">red outline: max controls · blue: min controls · colour: raw value %.4g to %.4g</text>`+"\n", ht-44, lo, hi)
+	fmt.Fprintf(&b, `<text x="60" y="%.1f" font-size="9" fill="#444">%s</text>`+"\n", ht-28, esc(h.Footnote))
+	b.WriteString("</svg>\n")
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
+func valueText(v *float64) string {
+	if v == nil {
+		return "no value"
+	}
+	return strconv.FormatFloat(*v, 'g', 6, 64)
+}
+
+// ramp maps [0, 1] to a perceptually ordered dark-blue → yellow scale.
+func ramp(t float64) string {
+	t = math.Min(math.Max(t, 0), 1)
+	r := 40 + t*(250-40)
+	g := 30 + t*(230-30)
+	b := 110 + t*(40-110)
+	return fmt.Sprintf("#%02x%02x%02x", int(r), int(g), int(b))
+}

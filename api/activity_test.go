@@ -81,3 +81,20 @@ func TestActivityOverHTTP(t *testing.T) {
 		}
 	})
 }
+
+// The activity settings are checked before anything is fitted or stored,
+// with a problem pointing at the field.
+func TestActivitySettingsRefused(t *testing.T) {
+	ts := newTestServer(t, dbtest.SQLite(t))
+	pts := curveBody(func(float64) float64 { return 40 })
+	for _, c := range []struct{ field, value string }{{"activity_alpha", "0.6"}, {"window", "-1"}, {"min_effect", "2"}} {
+		body := strings.Replace(pts, `{"conc_unit"`, `{"`+c.field+`":`+c.value+`,"conc_unit"`, 1)
+		w := ts.do("POST", "/v1/fits", ScopeSubmit, body)
+		if w.Code != http.StatusUnprocessableEntity || !strings.Contains(w.Body.String(), `"/`+c.field+`"`) {
+			t.Errorf("%s = %s: %d %s, want 422 pointing at /%s", c.field, c.value, w.Code, w.Body, c.field)
+		}
+	}
+	if l := ts.do("GET", "/v1/fits", ScopeRead, ""); strings.Contains(l.Body.String(), `"id"`) {
+		t.Errorf("a refused fit was stored: %s", l.Body)
+	}
+}

@@ -74,13 +74,19 @@ func ReadCurves(r io.Reader, unit Unit) ([]fit.Curve, error) {
 		if err != nil {
 			return err
 		}
-		w, _, err := row.number("weight", false)
+		w, given, err := row.number("weight", false)
 		if err != nil {
 			return err
 		}
 		if w < 0 {
 			_, c, _ := row.text("weight")
 			return &ParseError{Line: row.line, Column: c, Name: "weight", Err: fmt.Errorf("%w: weight %g is negative", ErrBadValue, w)}
+		}
+		// An empty cell means no weight (1); an explicit 0 would count as
+		// 1 too (fit.Point's zero value), so it is refused.
+		if given && w == 0 {
+			_, c, _ := row.text("weight")
+			return &ParseError{Line: row.line, Column: c, Name: "weight", Err: fmt.Errorf("%w: weight 0 does not leave a point out; remove the row, or give a weight > 0", ErrBadValue)}
 		}
 		id := "1"
 		if s, _, ok := row.text("curve"); ok {

@@ -63,7 +63,7 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 		pt := fit.Point{Conc: unit.ToMolar(*p.Conc), Response: *p.Response}
 		if p.Weight != nil {
 			if *p.Weight <= 0 {
-				return nil, Invalid(fmt.Sprintf("/points/%d/weight", i), "weight must be > 0")
+				return nil, Invalid(fmt.Sprintf("/points/%d/weight", i), "weight must be > 0; a weight of 0 does not leave a point out (remove the point instead), and is refused rather than counted as 1")
 			}
 			pt.Weight = *p.Weight
 		}
@@ -254,7 +254,7 @@ func (s *Service) newFitRun(who Caller, req *wire.FitRequest, inputSHA string, r
 	run := &db.FitRun{ID: out.ID, CreatedAt: now, SubmittedBy: who.Name, AssayID: req.AssayID,
 		CompoundID: req.CompoundID, RefitOf: req.RefitOf, Model: string(res.Model), Status: res.Status,
 		EngineVersion: fit.EngineVersion, InputSHA256: out.InputSHA256}
-	if l := res.LogEC50().Estimate; res.Converged() {
+	if l := res.LogEC50().Estimate; res.HasPotency() {
 		run.LogEC50 = &l
 	}
 	var err error

@@ -109,7 +109,7 @@ func (s *Service) RunPlateJob(ctx context.Context, plateID string) error {
 		if r.Boot != nil {
 			out[i].BootCols, out[i].BootDraws = len(r.Params), r.Boot.Draws
 		}
-		if r.Converged() {
+		if r.HasPotency() {
 			l := r.LogEC50().Estimate
 			out[i].LogEC50 = &l
 		}

@@ -184,7 +184,8 @@ func (s *Service) validatePlate(req *wire.PlateRequest, wells []ingest.WellIn, l
 	if req.Fit != nil {
 		set.Fit = *req.Fit
 	}
-	fs := fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill}
+	fs := fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill,
+		ActivityAlpha: set.Fit.ActivityAlpha, Window: set.Fit.PlateWindow(), MinEffect: set.Fit.MinEffect}
 	if err := fs.Validate(); err != nil {
 		return nil, prefixPointer(err, "/fit")
 	}

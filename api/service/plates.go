@@ -176,6 +176,11 @@ func (s *Service) validatePlate(req *wire.PlateRequest, wells []ingest.WellIn, l
 	}
 	// Fit settings, checked by the engine itself.
 	set := wire.PlateSettings{QC: req.QC}
+	if req.QC != nil {
+		if field, err := req.QC.Check(); err != nil {
+			return nil, Invalid("/qc/"+field, "%v", err)
+		}
+	}
 	if req.Fit != nil {
 		set.Fit = *req.Fit
 	}

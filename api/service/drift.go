@@ -258,3 +258,7 @@ func allMetrics() []string {
 	}
 	return append(out, metricR4s)
 }
+
+// DriftMetricNames lists every chart's metric name (the bounded values of
+// the metric label of sluice_drift_violations_total).
+func DriftMetricNames() []string { return allMetrics() }

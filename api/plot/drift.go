@@ -63,10 +63,10 @@ const maxListed = 12
 // Write renders the chart.
 func (d *Drift) Write(w io.Writer) error {
 	const (
-		W, x0, x1         = 760.0, 80.0, 690.0
+		W, x0, x1         = 800.0, 80.0, 690.0
 		ljTop, ljBottom   = 60.0, 300.0
 		ewTop, ewBottom   = 350.0, 470.0
-		listTop, lineStep = 520.0, 16.0
+		listTop, lineStep = 545.0, 16.0
 	)
 	var listed []string
 	for _, p := range d.Points {
@@ -76,7 +76,8 @@ func (d *Drift) Write(w io.Writer) error {
 	}
 	shown := min(len(listed), maxListed)
 	more := len(listed) - shown
-	H := listTop + lineStep*float64(shown+2) + 30
+	foot := wrap(d.Footnote, 120)
+	H := listTop + lineStep*float64(shown+2) + 14*float64(len(foot)) + 20
 	var b strings.Builder
 	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" width="%.0f" height="%.0f" viewBox="0 0 %.0f %.0f" font-family="sans-serif" font-size="12">`+"\n", W, H, W, H)
 	b.WriteString(`<rect width="100%" height="100%" fill="white"/>` + "\n")
@@ -179,7 +180,7 @@ func (d *Drift) Write(w io.Writer) error {
 	}
 
 	// Legend and the violation list.
-	y := listTop - 20
+	y := listTop - 24
 	legend := []struct{ c, t string }{{colourInControl, "in control"}, {colourWarning, "1-2s warning"},
 		{colourSystematic, "systematic: 2-2s, 4-1s, 10-x, EWMA, CUSUM"}, {colourRandom, "random: 1-3s, R-4s"}}
 	x := x0
@@ -201,8 +202,10 @@ func (d *Drift) Write(w io.Writer) error {
 		y += lineStep
 		fmt.Fprintf(&b, `<text x="%.0f" y="%.1f" fill="#666">and %d earlier violations</text>`+"\n", x0, y, more)
 	}
-	if d.Footnote != "" {
-		fmt.Fprintf(&b, `<text x="%.0f" y="%.1f" fill="#666" font-size="10">%s</text>`+"\n", x0, H-10, esc(d.Footnote))
+	y += lineStep
+	for _, l := range foot {
+		y += 14
+		fmt.Fprintf(&b, `<text x="%.0f" y="%.1f" fill="#666" font-size="10">%s</text>`+"\n", x0, y, esc(l))
 	}
 	b.WriteString("</svg>\n")
 	_, err := io.WriteString(w, b.String())

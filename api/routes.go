@@ -20,9 +20,10 @@ import (
 // 400 naming it (knownParams), so a misspelt filter never silently selects
 // everything.
 var queryParams = map[string][]string{
-	"GET /v1/fits":       {"assay_id", "compound_id", "from", "to", "limit", "cursor"},
-	"POST /v1/plates":    {"format", "barcode", "assay_id", "measured_at", "conc_unit", "mode", "layout_id", "model", "resamples", "seed", "scheme", "interval", "wait"},
-	"POST /v1/potential": {"format"},
+	"GET /v1/fits":             {"assay_id", "compound_id", "from", "to", "limit", "cursor"},
+	"POST /v1/plates":          {"format", "barcode", "assay_id", "measured_at", "conc_unit", "mode", "layout_id", "model", "resamples", "seed", "scheme", "interval", "wait"},
+	"POST /v1/potential":       {"format"},
+	"GET /v1/assays/:id/drift": {"metric", "from", "to"},
 }
 
 // routes is the whole API surface; the OpenAPI document lists the same
@@ -59,6 +60,8 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/schild/:id/plot.svg", s.schildPlot)
 	read.GET("/analyses/:id", s.getAnalysis)
 	read.GET("/analyses/:id/result", s.getAnalysisResult)
+	read.GET("/assays/:id/drift", s.getDrift)
+	read.GET("/drift", s.listDrift)
 
 	// Writes: each handler builds the request's service.Idem from its
 	// Idempotency-Key (idemOf) and the use case does the rest.
@@ -74,6 +77,10 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	calc := r.Group("/v1", s.authenticate(ScopeRead))
 	calc.POST("/potential", s.postPotential)
 	calc.POST("/operational", s.postOperational)
+	calc.POST("/qc/rules", s.postQCRules)
+
+	admin := r.Group("/v1", s.authenticate(ScopeAdmin))
+	admin.PUT("/assays/:id/baselines/:metric", s.putBaseline)
 	return r
 }
 

@@ -75,7 +75,7 @@ func BenchmarkPlate1536(b *testing.B) {
 			fitBefore := 0.0
 			for i := 0; b.Loop(); i++ {
 				t0 := time.Now()
-				resp, err := http.Post(hs.URL+fmt.Sprintf("/v1/plates?format=1536&barcode=BENCH-%d&resamples=1000&seed=1", i), "text/csv", strings.NewReader(body))
+				resp, err := http.Post(hs.URL+fmt.Sprintf("/v1/plates?conc_unit=M&format=1536&barcode=BENCH-%d&resamples=1000&seed=1", i), "text/csv", strings.NewReader(body))
 				if err != nil || resp.StatusCode != http.StatusAccepted {
 					b.Fatalf("post: %v %v", err, resp.Status)
 				}

@@ -73,7 +73,8 @@ func TestSchildEndpoint(t *testing.T) {
 	}
 	// Bad input points at the field.
 	for _, c := range []struct{ body, pointer string }{
-		{`{"curves":[{"antagonist_conc":0,"points":[]}]}`, "/curves"},
+		{`{"conc_unit":"M","curves":[{"antagonist_conc":0,"points":[]}]}`, "/curves"},
+		{strings.Replace(schildBody(func(float64) float64 { return 1 }, ""), `"conc_unit":"nM",`, ``, 1), "/conc_unit"},
 		{strings.Replace(schildBody(func(float64) float64 { return 1 }, ""), `"antagonist_conc":10,`, `"antagonist_conc":-10,`, 1), "/curves/1/antagonist_conc"},
 		{strings.Replace(schildBody(func(float64) float64 { return 1 }, ""), `"antagonist_conc":0,`, `"antagonist_conc":5,`, 1), "/curves"},
 	} {
@@ -109,7 +110,7 @@ func TestPlateSchild(t *testing.T) {
 			wells = append(wells, w)
 		}
 	}
-	body, _ := json.Marshal(wire.PlateRequest{Barcode: "LK-SCHILD", Format: 384, Wells: wells})
+	body, _ := json.Marshal(wire.PlateRequest{ConcUnit: "M", Barcode: "LK-SCHILD", Format: 384, Wells: wells})
 	w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
 	var v wire.PlateView
 	json.Unmarshal(w.Body.Bytes(), &v)

@@ -43,6 +43,9 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 		return nil, Invalid("/model", "%v", err)
 	}
 	unit, err := ingest.ParseUnit(req.ConcUnit)
+	if err == nil {
+		unit, err = ingest.RequireUnit(unit, "conc_unit")
+	}
 	if err != nil {
 		return nil, Invalid("/conc_unit", "%v", err)
 	}
@@ -329,7 +332,7 @@ func (s *Service) StoredFit(ctx context.Context, id string) (*StoredFit, error) 
 	if err := json.Unmarshal(run.Settings, &sf.Settings); err != nil {
 		return nil, fmt.Errorf("stored fit %s: settings: %w", id, err)
 	}
-	if sf.Unit, err = ingest.ParseUnit(sf.Input.ConcUnit); err != nil {
+	if sf.Unit, err = ingest.StoredUnit(sf.Input.ConcUnit); err != nil {
 		return nil, fmt.Errorf("stored fit %s: unit: %w", id, err)
 	}
 	return sf, nil

@@ -30,7 +30,7 @@ func invented384(seed uint64) ([]wire.Well, map[string][2]float64) {
 	f := plate.Plate384
 	num := func(v float64) *float64 { return &v }
 	for r := 0; r < 16; r++ {
-		cpd := fmt.Sprintf("LX-%03d", 200+r)
+		cpd := fmt.Sprintf("demo-cpd-%03d", 200+r)
 		logEC := -8.5 + 2.5*float64(r)/15
 		h := 0.8 + 0.1*float64(r%6)
 		truth[cpd] = [2]float64{logEC, h}

@@ -33,7 +33,7 @@ func invented96CSV() string {
 		for c := 1; c <= 10; c++ {
 			conc := 1e-9 * math.Pow(10, 0.5*float64(c-1))
 			y := 100 + 900*fit.Hill.Value([]float64{0, 1, -7 + 0.2*float64(r), 1.2}, conc) + 20*rng.NormFloat64()
-			fmt.Fprintf(&b, "%s,sample,LX-%d,%g,%.1f\n", f.Name(plate.Well{Row: r, Col: c}), r, conc, y)
+			fmt.Fprintf(&b, "%s,sample,demo-ag-%d,%g,%.1f\n", f.Name(plate.Well{Row: r, Col: c}), r, conc, y)
 		}
 	}
 	return b.String()
@@ -73,7 +73,7 @@ func TestSubmit(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d\n%s\n%s", code, out, stderr)
 	}
-	if !strings.Contains(stderr, "retrying") || !strings.Contains(out, "QC pass") || strings.Count(out, "LX-") != 8 ||
+	if !strings.Contains(stderr, "retrying") || !strings.Contains(out, "QC pass") || strings.Count(out, "demo-ag-") != 8 ||
 		!strings.Contains(out, "research use only") {
 		t.Errorf("output:\n%s\nstderr:\n%s", out, stderr)
 	}

@@ -300,7 +300,10 @@ func printSummary(w io.Writer, v *wire.PlateView) {
 		}
 		// An inactive curve has no potency (null, shown as -); one
 		// beyond the tested range reads as the bound with its qualifier.
-		pe, ec := "-", "-"
+		pe, ec, ci := "-", "-", "-"
+		if lo, hi := float64(pc.EC50.CI[0]), float64(pc.EC50.CI[1]); !math.IsNaN(lo) && !math.IsNaN(hi) {
+			ci = fmt.Sprintf("[%.3g, %.3g]", lo, hi)
+		}
 		if !math.IsNaN(float64(pc.PEC50)) {
 			pe, ec = fmt.Sprintf("%.2f", float64(pc.PEC50)), fmt.Sprintf("%.3g", float64(pc.EC50.Estimate))
 			if q := pc.Qualifier; q != nil && (*q == ">" || *q == "<") && !math.IsNaN(float64(pc.Bound)) {
@@ -308,8 +311,7 @@ func printSummary(w io.Writer, v *wire.PlateView) {
 				pe, ec = fmt.Sprintf("%s %.2f", pq, -math.Log10(float64(pc.Bound))), fmt.Sprintf("%s %.3g", *q, float64(pc.Bound))
 			}
 		}
-		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t[%.3g, %.3g]\t%s\n", pc.Key, pc.Status, pc.Activity, pe, ec,
-			float64(pc.EC50.CI[0]), float64(pc.EC50.CI[1]), strings.Join(pc.Flags, ","))
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\n", pc.Key, pc.Status, pc.Activity, pe, ec, ci, strings.Join(pc.Flags, ","))
 	}
 	tw.Flush()
 }

@@ -66,6 +66,8 @@ type Chart struct {
 	// each run afresh; EWMA and CUSUM carry the past with them, so a
 	// persistent shift keeps the status OutOfControl.
 	Status Status
+	// end is the running state after the last point (State).
+	end State
 }
 
 // LastViolation is the index of the last point that violates any rule,
@@ -95,16 +97,7 @@ func Evaluate(points []Point, base Baseline, set *Settings) (*Chart, error) {
 	if err := checkPoints(points); err != nil {
 		return nil, err
 	}
-	c := &Chart{Baseline: base, Settings: s, Points: make([]PointResult, len(points)), Status: InControl}
-	e := newEvaluator(base, s)
-	for i, p := range points {
-		newGroup := p.Group == "" || i == 0 || points[i-1].Group != p.Group
-		c.Points[i] = e.step(p.Value, newGroup)
-	}
-	if n := len(c.Points); n > 0 {
-		c.Status = c.Points[n-1].Status
-	}
-	return c, nil
+	return newEvaluator(base, s).run(points, "", base, s), nil
 }
 
 func checkPoints(points []Point) error {
@@ -144,6 +137,10 @@ type evaluator struct {
 	wg    westgard
 	ewma  ewma
 	cusum cusum
+	// n is the number of points judged; last the state it was restored
+	// from (Resume).
+	n    int
+	last State
 }
 
 func newEvaluator(b Baseline, s Settings) *evaluator {

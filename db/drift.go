@@ -51,6 +51,17 @@ type DriftChart struct {
 	Status    string
 	UpdatedAt time.Time
 	UpdatedBy string
+	// State is the chart's running state after its latest point, as the
+	// service encodes it (JSON); "" (NULL) when the chart must be
+	// re-evaluated from its start.
+	State string
+	// PrevState is, for a write, the state the new one was computed from
+	// (the State read before): UpsertDriftChart stores State only while
+	// the stored state is still PrevState, and NULL otherwise, so that a
+	// chart another write moved meanwhile (a plate of the same assay
+	// finishing concurrently) is re-evaluated from its start next time
+	// rather than carried forward without that write's point.
+	PrevState string
 	// Latest is the chart's latest recorded violation (by experiment
 	// time), filled by DriftCharts; nil when none.
 	Latest *DriftViolation
@@ -107,7 +118,7 @@ func (s *sqlStore) DriftPlates(ctx context.Context, assayID string, from, to tim
 	return out, s.read(op, assayID, rows.Err())
 }
 
-const driftChartCols = "assay_id, metric, source, baseline_mean, baseline_sd, baseline_runs, baseline_plates, status, updated_at, updated_by"
+const driftChartCols = "assay_id, metric, source, baseline_mean, baseline_sd, baseline_runs, baseline_plates, status, updated_at, updated_by, state"
 
 // driftChartScan receives driftChartCols.
 type driftChartScan struct {
@@ -115,15 +126,16 @@ type driftChartScan struct {
 	mean, sd *float64
 	plates   []byte
 	at       dbTime
+	state    *string
 }
 
 func (d *driftChartScan) dest() []any {
-	return []any{&d.c.AssayID, &d.c.Metric, &d.c.Source, &d.mean, &d.sd, &d.c.Runs, &d.plates, &d.c.Status, &d.at, &d.c.UpdatedBy}
+	return []any{&d.c.AssayID, &d.c.Metric, &d.c.Source, &d.mean, &d.sd, &d.c.Runs, &d.plates, &d.c.Status, &d.at, &d.c.UpdatedBy, &d.state}
 }
 
 func (d *driftChartScan) chart() (DriftChart, error) {
 	c := d.c
-	c.Mean, c.SD, c.UpdatedAt = nanNull(d.mean), nanNull(d.sd), d.at.t
+	c.Mean, c.SD, c.UpdatedAt, c.State = nanNull(d.mean), nanNull(d.sd), d.at.t, deref(d.state)
 	if len(d.plates) > 0 {
 		if err := json.Unmarshal(d.plates, &c.Plates); err != nil {
 			return c, err
@@ -163,7 +175,7 @@ func (s *sqlStore) DriftCharts(ctx context.Context) ([]DriftChart, error) {
 	const op = "DriftCharts"
 	// The latest violation of each chart: the last by experiment time
 	// (then plate, then rule), found through drift_violations_latest.
-	const q = "SELECT c." + "assay_id, c.metric, c.source, c.baseline_mean, c.baseline_sd, c.baseline_runs, c.baseline_plates, c.status, c.updated_at, c.updated_by, " +
+	const q = "SELECT c." + "assay_id, c.metric, c.source, c.baseline_mean, c.baseline_sd, c.baseline_runs, c.baseline_plates, c.status, c.updated_at, c.updated_by, c.state, " +
 		"v.plate_id, v.rule, v.measured_at, v.value, v.z, v.baseline_mean, v.baseline_sd, v.baseline_source, v.recorded_at " +
 		"FROM drift_charts c LEFT JOIN (SELECT *, ROW_NUMBER() OVER (PARTITION BY assay_id, metric ORDER BY measured_at DESC, plate_id DESC, rule) AS n " +
 		"FROM drift_violations) v ON v.assay_id = c.assay_id AND v.metric = c.metric AND v.n = 1 ORDER BY c.assay_id, c.metric"
@@ -219,8 +231,8 @@ func (s *sqlStore) DriftViolations(ctx context.Context, assayID, metric string) 
 	return out, s.read(op, assayID, rows.Err())
 }
 
-// UpsertDriftChart stores a chart's baseline and status, replacing the
-// stored ones.
+// UpsertDriftChart stores a chart's baseline, status and state, replacing
+// the stored ones (the state only while the stored one is c.PrevState).
 func (w *sqlWriter) UpsertDriftChart(ctx context.Context, c *DriftChart) error {
 	const op = "UpsertDriftChart"
 	key := c.AssayID + "/" + c.Metric
@@ -232,11 +244,13 @@ func (w *sqlWriter) UpsertDriftChart(ctx context.Context, c *DriftChart) error {
 	if err != nil {
 		return w.invalid(op, key, "plates")
 	}
-	_, err = w.exec(ctx, op, key, "INSERT INTO drift_charts ("+driftChartCols+") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10) "+
+	_, err = w.exec(ctx, op, key, "INSERT INTO drift_charts ("+driftChartCols+") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11) "+
 		"ON CONFLICT (assay_id, metric) DO UPDATE SET source = excluded.source, baseline_mean = excluded.baseline_mean, "+
 		"baseline_sd = excluded.baseline_sd, baseline_runs = excluded.baseline_runs, baseline_plates = excluded.baseline_plates, "+
-		"status = excluded.status, updated_at = excluded.updated_at, updated_by = excluded.updated_by",
-		c.AssayID, c.Metric, c.Source, nullNaN(c.Mean), nullNaN(c.SD), c.Runs, string(pj), c.Status, w.e.timeArg(c.UpdatedAt), c.UpdatedBy)
+		"status = excluded.status, updated_at = excluded.updated_at, updated_by = excluded.updated_by, "+
+		"state = CASE WHEN drift_charts.state IS NOT DISTINCT FROM $12 THEN excluded.state ELSE NULL END",
+		c.AssayID, c.Metric, c.Source, nullNaN(c.Mean), nullNaN(c.SD), c.Runs, string(pj), c.Status, w.e.timeArg(c.UpdatedAt), c.UpdatedBy,
+		nullEmpty(c.State), nullEmpty(c.PrevState))
 	return err
 }
 
@@ -247,4 +261,12 @@ func (w *sqlWriter) InsertDriftViolation(ctx context.Context, v *DriftViolation)
 		"INSERT INTO drift_violations ("+driftViolationCols+") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11)",
 		v.AssayID, v.Metric, v.PlateID, v.Rule, w.e.timeArg(v.MeasuredAt), v.Value, v.Z, v.BaselineMean, v.BaselineSD,
 		v.BaselineSource, w.e.timeArg(v.RecordedAt))
+}
+
+// nullEmpty binds "" as NULL.
+func nullEmpty(s string) *string {
+	if s == "" {
+		return nil
+	}
+	return &s
 }

@@ -182,7 +182,7 @@ type Writer interface {
 	// SetPlateQC stores a plate's QC figures as columns.
 	SetPlateQC(ctx context.Context, plateID string, qc *PlateQC) error
 	InsertSchildRun(ctx context.Context, r *SchildRun) error
-	// UpsertDriftChart stores a drift chart's baseline and status.
+	// UpsertDriftChart stores a drift chart's baseline, status and state.
 	UpsertDriftChart(ctx context.Context, c *DriftChart) error
 	// InsertDriftViolation records a rule violation once: ErrExists when
 	// that plate's rule on that chart is recorded already.

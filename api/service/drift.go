@@ -77,6 +77,11 @@ type evaluated struct {
 	sd     float64
 	status string
 	points []chartPoint
+	// chart is the judged chart (nil without a baseline).
+	chart *drift.Chart
+	// state is the chart's running state to store (chartState); nil
+	// stores none.
+	state *chartState
 }
 
 // baselineOf resolves a metric's baseline from its stored chart (nil: the
@@ -131,9 +136,22 @@ func evaluateMetric(metric string, plates []db.DriftPlate, stored map[string]*db
 	}
 	base, wb := baselineOf(m, stored[metric], plates)
 	if base == nil {
+		if row := stored[metric]; row == nil || row.Source == db.BaselineAuto {
+			accepted := 0
+			for i := range plates {
+				if plates[i].Pass && isFinite(m.value(&plates[i])) {
+					accepted++
+				}
+			}
+			ev.state = stateOf(plates, nil, accepted, nil)
+		}
 		return ev, nil
 	}
-	return ev.judge(series, *base, wb, nil)
+	if _, err := ev.judge(series, *base, wb, nil); err != nil {
+		return nil, err
+	}
+	ev.state = stateOf(plates, []float64{base.Mean, base.SD}, 0, ev.chart)
+	return ev, nil
 }
 
 // evaluateR4s charts R-4s over the plates whose two control means both
@@ -145,6 +163,7 @@ func evaluateR4s(plates []db.DriftPlate, stored map[string]*db.DriftChart) (*eva
 	maxB, _ := baselineOf(maxM, stored[maxM.name], plates)
 	minB, _ := baselineOf(minM, stored[minM.name], plates)
 	if maxB == nil || minB == nil {
+		ev.state = stateOf(plates, nil, 0, nil)
 		return ev, nil
 	}
 	var series []drift.Point
@@ -159,7 +178,11 @@ func evaluateR4s(plates []db.DriftPlate, stored map[string]*db.DriftChart) (*eva
 			drift.Point{Time: p.MeasuredAt, Value: zMin, Group: p.PlateID})
 	}
 	unit := drift.Baseline{Mean: 0, SD: 1}
-	return ev.judge(series, unit, &wire.DriftBaseline{Mean: 0, SD: 1, Source: db.BaselineStandard}, &drift.Settings{Rules: drift.Set(drift.RuleR4s)})
+	if _, err := ev.judge(series, unit, &wire.DriftBaseline{Mean: 0, SD: 1, Source: db.BaselineStandard}, &drift.Settings{Rules: drift.Set(drift.RuleR4s)}); err != nil {
+		return nil, err
+	}
+	ev.state = stateOf(plates, []float64{maxB.Mean, maxB.SD, minB.Mean, minB.SD}, 0, ev.chart)
+	return ev, nil
 }
 
 // judge evaluates the series (ev.points' values) against base.
@@ -170,12 +193,17 @@ func (ev *evaluated) judge(series []drift.Point, base drift.Baseline, wb *wire.D
 		// for r4s) per plate: an error here is ours.
 		return nil, errors.Join(errors.New("evaluate drift chart "+ev.metric), err)
 	}
-	ev.base, ev.source, ev.mean, ev.sd = wb, wb.Source, base.Mean, base.SD
+	ev.fill(ch, base, wb)
+	return ev, nil
+}
+
+// fill takes the judged chart of ev.points' values.
+func (ev *evaluated) fill(ch *drift.Chart, base drift.Baseline, wb *wire.DriftBaseline) {
+	ev.base, ev.source, ev.mean, ev.sd, ev.chart = wb, wb.Source, base.Mean, base.SD, ch
 	for i := range ev.points {
 		ev.points[i].res = ch.Points[i]
 	}
 	ev.status = string(ch.Status)
-	return ev, nil
 }
 
 // wireChart is the chart as GET /v1/assays/{id}/drift answers, its points
@@ -226,6 +254,12 @@ func (ev *evaluated) chartRow(assayID string, stored *db.DriftChart, at time.Tim
 	c := &db.DriftChart{AssayID: assayID, Metric: ev.metric, Source: db.BaselineAuto, Mean: math.NaN(), SD: math.NaN()}
 	if stored != nil {
 		c.Source, c.Mean, c.SD, c.Runs, c.Plates = stored.Source, stored.Mean, stored.SD, stored.Runs, stored.Plates
+		c.PrevState = stored.State
+	}
+	if ev.state != nil {
+		// A state that does not encode (a non-finite running sum) is not
+		// stored: the next plate then re-evaluates the chart.
+		c.State, _ = ev.state.encode()
 	}
 	if ev.metric == metricR4s {
 		c.Source = db.BaselineStandard

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"time"
 
 	"sluice/db"
 	"sluice/fit/plate"
@@ -63,10 +64,31 @@ func referencePEC50(assayRef string, wells []plate.PlateWell, curves []db.PlateC
 // window after it, and the store keeps each (chart, plate, rule) once.
 // Plates that finish concurrently in the same assay are each evaluated
 // without the other; the later evaluation of either chart sees both.
+//
+// A plate after the assay's last evaluated plate (the common case) is
+// judged from the charts' stored running states alone (advanceDrift),
+// with the same results; the full evaluation rebuilds those states. A
+// concurrent write leaves a chart without a state (UpsertDriftChart's
+// PrevState), so the next plate re-evaluates it in full.
 func (s *Service) planDrift(ctx context.Context, assayID string, fig db.DriftPlate) (*driftPlan, error) {
 	if assayID == "" {
 		return nil, nil
 	}
+	stored, err := s.store.AssayDriftCharts(ctx, assayID)
+	if err != nil {
+		return nil, fmt.Errorf("drift charts of assay %s: %w", assayID, err)
+	}
+	byMetric := chartsByMetric(stored)
+	now := s.now()
+	if p, ok, err := advanceDrift(assayID, fig, byMetric, now); err != nil || ok {
+		return p, err
+	}
+	return s.planDriftFull(ctx, assayID, fig, byMetric, now)
+}
+
+// planDriftFull is planDrift from the assay's whole series: fig placed
+// among its assessed plates and every chart evaluated from its start.
+func (s *Service) planDriftFull(ctx context.Context, assayID string, fig db.DriftPlate, byMetric map[string]*db.DriftChart, now time.Time) (*driftPlan, error) {
 	var zero db.DriftPlate
 	plates, err := s.store.DriftPlates(ctx, assayID, zero.MeasuredAt, zero.MeasuredAt)
 	if err != nil {
@@ -80,12 +102,6 @@ func (s *Service) planDrift(ctx context.Context, assayID string, fig db.DriftPla
 		return cmpString(a.PlateID, b.PlateID)
 	})
 	plates = slices.Insert(plates, pos, fig)
-	stored, err := s.store.AssayDriftCharts(ctx, assayID)
-	if err != nil {
-		return nil, fmt.Errorf("drift charts of assay %s: %w", assayID, err)
-	}
-	byMetric := chartsByMetric(stored)
-	now := s.now()
 	p := &driftPlan{assayID: assayID}
 	for _, m := range allMetrics() {
 		ev, err := evaluateMetric(m, plates, byMetric)

@@ -234,24 +234,38 @@ func (s *sqlStore) DriftViolations(ctx context.Context, assayID, metric string) 
 // UpsertDriftChart stores a chart's baseline, status and state, replacing
 // the stored ones (the state only while the stored one is c.PrevState).
 func (w *sqlWriter) UpsertDriftChart(ctx context.Context, c *DriftChart) error {
+	return w.UpsertDriftCharts(ctx, []*DriftChart{c})
+}
+
+const upsertDriftChart = "INSERT INTO drift_charts (" + driftChartCols + ") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11) " +
+	"ON CONFLICT (assay_id, metric) DO UPDATE SET source = excluded.source, baseline_mean = excluded.baseline_mean, " +
+	"baseline_sd = excluded.baseline_sd, baseline_runs = excluded.baseline_runs, baseline_plates = excluded.baseline_plates, " +
+	"status = excluded.status, updated_at = excluded.updated_at, updated_by = excluded.updated_by, " +
+	"state = CASE WHEN drift_charts.state IS NOT DISTINCT FROM $12 THEN excluded.state ELSE NULL END"
+
+// UpsertDriftCharts is UpsertDriftChart for several charts in one go (a
+// pipelined batch on PostgreSQL): a finishing plate writes all of its
+// assay's charts.
+func (w *sqlWriter) UpsertDriftCharts(ctx context.Context, cs []*DriftChart) error {
 	const op = "UpsertDriftChart"
-	key := c.AssayID + "/" + c.Metric
-	plates := c.Plates
-	if plates == nil {
-		plates = []string{}
+	if len(cs) == 0 {
+		return nil
 	}
-	pj, err := json.Marshal(plates)
-	if err != nil {
-		return w.invalid(op, key, "plates")
+	rows := make([][]any, 0, len(cs))
+	for _, c := range cs {
+		key := c.AssayID + "/" + c.Metric
+		plates := c.Plates
+		if plates == nil {
+			plates = []string{}
+		}
+		pj, err := json.Marshal(plates)
+		if err != nil {
+			return w.invalid(op, key, "plates")
+		}
+		rows = append(rows, []any{c.AssayID, c.Metric, c.Source, nullNaN(c.Mean), nullNaN(c.SD), c.Runs, string(pj), c.Status,
+			w.e.timeArg(c.UpdatedAt), c.UpdatedBy, nullEmpty(c.State), nullEmpty(c.PrevState)})
 	}
-	_, err = w.exec(ctx, op, key, "INSERT INTO drift_charts ("+driftChartCols+") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11) "+
-		"ON CONFLICT (assay_id, metric) DO UPDATE SET source = excluded.source, baseline_mean = excluded.baseline_mean, "+
-		"baseline_sd = excluded.baseline_sd, baseline_runs = excluded.baseline_runs, baseline_plates = excluded.baseline_plates, "+
-		"status = excluded.status, updated_at = excluded.updated_at, updated_by = excluded.updated_by, "+
-		"state = CASE WHEN drift_charts.state IS NOT DISTINCT FROM $12 THEN excluded.state ELSE NULL END",
-		c.AssayID, c.Metric, c.Source, nullNaN(c.Mean), nullNaN(c.SD), c.Runs, string(pj), c.Status, w.e.timeArg(c.UpdatedAt), c.UpdatedBy,
-		nullEmpty(c.State), nullEmpty(c.PrevState))
-	return err
+	return w.execMany(ctx, op, cs[0].AssayID+"/"+cs[0].Metric, upsertDriftChart, rows)
 }
 
 // InsertDriftViolation records a violation; ErrExists (the write goes on)

@@ -184,6 +184,8 @@ type Writer interface {
 	InsertSchildRun(ctx context.Context, r *SchildRun) error
 	// UpsertDriftChart stores a drift chart's baseline, status and state.
 	UpsertDriftChart(ctx context.Context, c *DriftChart) error
+	// UpsertDriftCharts is UpsertDriftChart for several charts at once.
+	UpsertDriftCharts(ctx context.Context, cs []*DriftChart) error
 	// InsertDriftViolation records a rule violation once: ErrExists when
 	// that plate's rule on that chart is recorded already.
 	InsertDriftViolation(ctx context.Context, v *DriftViolation) error

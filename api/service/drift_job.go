@@ -131,10 +131,10 @@ func (p *driftPlan) record(ctx context.Context, w db.Writer) (*driftNews, error)
 		return nil, nil
 	}
 	news := &driftNews{assayID: p.assayID}
+	if err := w.UpsertDriftCharts(ctx, p.charts); err != nil {
+		return nil, err
+	}
 	for _, c := range p.charts {
-		if err := w.UpsertDriftChart(ctx, c); err != nil {
-			return nil, err
-		}
 		news.outOfControl = news.outOfControl || c.Status == "out_of_control"
 	}
 	for i := range p.violations {

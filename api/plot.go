@@ -4,15 +4,9 @@ import (
 	"bytes"
 	"fmt"
 	"io"
-	"math"
 	"net/http"
-	"strings"
 
 	"github.com/gin-gonic/gin"
-
-	"sluice/api/plot"
-	"sluice/api/wire"
-	"sluice/fit"
 )
 
 // fitPlot is GET /v1/fits/{id}/plot.svg: the points, the fitted curve and
@@ -24,38 +18,12 @@ func (s *Server) fitPlot(c *gin.Context) {
 		return
 	}
 	run, res, input, unit := sf.Run, &sf.Result, &sf.Input, sf.Unit
-	fig := &plot.Curve{Title: "Fit " + run.ID, YLabel: "response", Footnote: wire.Caution}
-	lo, hi := math.Inf(1), math.Inf(-1)
+	var conc, resp []float64
 	for _, p := range input.Points {
-		cm := unit.ToMolar(*p.Conc)
-		fig.PointConc = append(fig.PointConc, cm)
-		fig.PointResp = append(fig.PointResp, *p.Response)
-		if cm > 0 {
-			lo, hi = math.Min(lo, cm), math.Max(hi, cm)
-		}
+		conc = append(conc, unit.ToMolar(*p.Conc))
+		resp = append(resp, *p.Response)
 	}
-	parts := []string{res.Model, res.Status}
-	if res.Status == fit.StatusConverged && !math.IsInf(lo, 0) {
-		theta := res.Params.Estimates()
-		np := len(theta)
-		cov := make([]float64, np*np)
-		for i := range res.Covariance {
-			for j, v := range res.Covariance[i] {
-				cov[i*np+j] = float64(v)
-			}
-		}
-		const n = 200
-		a, b := math.Log10(lo)-0.5, math.Log10(hi)+0.5
-		for k := 0; k < n; k++ {
-			fig.LineConc = append(fig.LineConc, math.Pow(10, a+(b-a)*float64(k)/(n-1)))
-		}
-		fig.Line, fig.BandLo, fig.BandHi = fit.Band(fit.Model(res.Model), theta, cov, res.Stats.DOF, float64(res.Confidence), fig.LineConc)
-		parts = append(parts, fmt.Sprintf("pEC50 %.2f", float64(res.PEC50)), fmt.Sprintf("%.0f%% band", 100*float64(res.Confidence)))
-	}
-	if len(res.Flags) > 0 {
-		parts = append(parts, "flags: "+strings.Join(res.Flags, ", "))
-	}
-	fig.Subtitle = strings.Join(parts, " · ")
+	fig := curveFigure("Fit "+run.ID, &res.FitResult, conc, resp)
 	s.writeSVG(c, fig)
 }
 

@@ -25,7 +25,8 @@ func curveFigure(title string, res *wire.FitResult, conc, resp []float64) *plot.
 		}
 	}
 	parts := []string{res.Model, res.Status}
-	if res.Status == fit.StatusConverged && !math.IsInf(lo, 0) {
+	// An inactive curve has no potency, hence no curve to draw.
+	if res.Status == fit.StatusConverged && res.Activity != string(fit.ActivityInactive) && !math.IsInf(lo, 0) {
 		theta := res.Params.Estimates()
 		np := len(theta)
 		cov := make([]float64, np*np)

@@ -73,8 +73,21 @@ func (m *metrics) middleware(c *gin.Context) {
 	if route == "" {
 		route = "unmatched"
 	}
-	m.requests.WithLabelValues(route, c.Request.Method, strconv.Itoa(c.Writer.Status())).Inc()
-	m.duration.WithLabelValues(route, c.Request.Method).Observe(time.Since(start).Seconds())
+	method := methodLabel(c.Request.Method)
+	m.requests.WithLabelValues(route, method, strconv.Itoa(c.Writer.Status())).Inc()
+	m.duration.WithLabelValues(route, method).Observe(time.Since(start).Seconds())
+}
+
+// methodLabel maps a request's method to a fixed set of label values, so
+// that a client cannot grow the series without bound by sending made-up
+// methods (net/http accepts any token as a method): the methods of RFC 9110
+// §9 and PATCH, and "other" for the rest.
+func methodLabel(m string) string {
+	switch m {
+	case "GET", "HEAD", "POST", "PUT", "PATCH", "DELETE", "OPTIONS", "CONNECT", "TRACE":
+		return m
+	}
+	return "other"
 }
 
 // poolCollector reports the store's connection pool.

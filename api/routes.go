@@ -2,6 +2,7 @@ package api
 
 import (
 	"errors"
+	"fmt"
 	"net/http"
 	"slices"
 	"strconv"
@@ -34,7 +35,7 @@ var queryParams = map[string][]string{
 func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	r := gin.New()
 	r.HandleMethodNotAllowed = true
-	r.Use(s.recoverer, s.metrics.middleware, s.limitBody, s.knownParams)
+	r.Use(s.recoverer, s.metrics.middleware, s.limitBody, s.knownParams, s.textParams)
 	r.NoRoute(func(c *gin.Context) {
 		s.writeProblem(c, &service.Error{Kind: errNotFoundRoute, Detail: "no such endpoint: " + c.Request.URL.Path})
 	})
@@ -148,4 +149,42 @@ func (s *Server) knownParams(c *gin.Context) {
 	}
 	e.Detail = "unknown query parameter " + strconv.Quote(unknown[0]) + ": " + e.Detail
 	s.writeProblem(c, e)
+}
+
+// MaxParamLen bounds a path or query parameter in bytes: IDs are at most a
+// few hundred bytes and a cursor less.
+const MaxParamLen = 1024
+
+// textParams refuses a path or query parameter that is not valid text
+// (service.ValidText: UTF-8 without control characters) or longer than
+// MaxParamLen, with a 400 naming it, before any store sees it: PostgreSQL
+// refuses such text where SQLite would look it up and find nothing, and
+// the answer must not depend on the engine.
+func (s *Server) textParams(c *gin.Context) {
+	check := func(name, v string) bool {
+		var d string
+		switch {
+		case len(v) > MaxParamLen:
+			d = fmt.Sprintf("%s is longer than %d bytes", name, MaxParamLen)
+		case !service.ValidText(v):
+			d = name + " must be valid UTF-8 without control characters"
+		default:
+			return true
+		}
+		s.writeProblem(c, &service.Error{Kind: errBadRequest, Detail: d, Fields: []FieldError{{Parameter: name, Detail: d}}})
+		return false
+	}
+	for _, p := range c.Params {
+		if !check(p.Key, p.Value) {
+			return
+		}
+	}
+	for name, vs := range c.Request.URL.Query() {
+		for _, v := range vs {
+			if !check(name, v) {
+				return
+			}
+		}
+	}
+	c.Next()
 }

@@ -62,7 +62,7 @@ func (s *Server) schildPlot(c *gin.Context) {
 			ser.PointResp = append(ser.PointResp, *p.Response)
 		}
 		cr := res.Curves[i]
-		if cr.Status == fit.StatusConverged {
+		if cr.Status == fit.StatusConverged && cr.Activity != string(fit.ActivityInactive) {
 			theta := cr.Params.Estimates()
 			lo, hi := math.Inf(1), math.Inf(-1)
 			for _, x := range ser.PointConc {

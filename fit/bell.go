@@ -14,7 +14,8 @@ const (
 //	A = 1/(1 + 10^((log_ec50 − x)·hill)),  B = 1/(1 + 10^((x − log_ic50)·hill_block))
 //
 // with hill, hill_block > 0, so the curve always rises before it falls and
-// is not monotone. The observed peak and half-peak differ from top and EC50
+// is not monotone; its parameters mean what they say when top ≥ bottom and
+// log_ec50 ≤ log_ic50 (bellAdmissible). The observed peak and half-peak differ from top and EC50
 // unless IC50 ≫ EC50 (BellPeak). Its window runs from bottom to the peak,
 // and EC_F is read on the rising limb (bellLogECF).
 func bellSpec() *Spec {
@@ -29,11 +30,25 @@ func bellSpec() *Spec {
 			{name: "log_ic50", bound: boundPotency},
 			{name: "hill_block", bound: boundRisingSlope},
 		},
-		roles:  sharedRoles(),
-		curve:  bellValue,
-		starts: bellStarts,
-		logECF: bellLogECF,
+		roles:      sharedRoles(),
+		curve:      bellValue,
+		starts:     bellStarts,
+		logECF:     bellLogECF,
+		admissible: bellAdmissible,
 	})
+}
+
+// bellAdmissible says whether a Bell solution reads as Bell means it:
+// activation, then block (log_ec50 ≤ log_ic50), towards a peak above
+// bottom (top ≥ bottom). The box also holds a dip (top < bottom) and a
+// crossed product (block before activation) whose top runs to ±1e6 and
+// beyond along a ridge; on data with no block at all these can fit better
+// than any peak while their top, log_ec50 and log_ic50 mean nothing, so the
+// fit prefers an admissible solution (at worst Bell's Hill limit, the
+// block held beyond the tested range) and flags FlagShapeNotAdmitted if it
+// has none.
+func bellAdmissible(t []float64) bool {
+	return t[iTop] >= t[iBottom] && t[iLogEC] <= t[iLogIC]
 }
 
 // bellValue evaluates the bell-shaped curve y = bottom + (top − bottom)·A·B

@@ -128,7 +128,7 @@ func Bootstrap(ctx context.Context, r *Result, bs *BootSettings) error {
 // bootstrap is Bootstrap with resolved settings, counting each refitted
 // resample in prog.
 func (r *Result) bootstrap(ctx context.Context, s BootSettings, prog *Progress) error {
-	if !r.Converged() {
+	if !r.Converged() || r.Activity == ActivityInactive {
 		return nil
 	}
 	set, d := r.set, r.design

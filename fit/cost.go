@@ -4,11 +4,18 @@ import "sluice/fit/cost"
 
 // Evaluation counts of the cost model (cost package), taken from above the
 // measured means on simulated 30-point curves (10 levels in triplicate,
-// 2–10 % noise, 100 curves per model, 2026-12-02).
+// 2–10 % noise, 40 curves per model, TestCostCountsBoundMeasuredEvaluations).
 const (
-	// costFitEvals bounds the evaluations of the first fit, over every
-	// start it tries: measured means 13 (hill), 232 (hill5), 112 (bell).
-	costFitEvals = 250
+	// costFitEvals4 bounds the evaluations of the first fit of a
+	// four-parameter model over every start it tries (hill: measured mean
+	// 15).
+	costFitEvals4 = 250
+	// costFitEvals5 and costFitEvals6 bound those of the five- and
+	// six-parameter models, whose fits search for the global optimum
+	// (search.go: every form, starts from the nested Hill fit, which is
+	// counted too): hill5 measured mean 427, bell 1301.
+	costFitEvals5 = 600
+	costFitEvals6 = 1600
 	// costRefitEvals4 is the evaluations of one warm-started bootstrap
 	// refit of a four-parameter model (measured mean 7.1, max 24); each
 	// further parameter doubles it (hill5, 5 parameters: 14.7; bell, 6:
@@ -16,11 +23,24 @@ const (
 	costRefitEvals4 = 8
 )
 
+// costFitEvals is E_fit(p), the evaluations of a first fit with p
+// parameters.
+func costFitEvals(p int) float64 {
+	switch {
+	case p <= 4:
+		return costFitEvals4
+	case p == 5:
+		return costFitEvals5
+	}
+	return costFitEvals6
+}
+
 // Cost estimates the work of fitting one curve of points at levels
 // distinct concentrations with params estimated parameters and, when bs is
 // not nil, bootstrapping it (zero fields of bs mean their defaults):
 //
-//	W = L·p·(E_fit + B·E_refit(p) + [BCa] n·E_refit(p)),  E_refit(p) = 8·2^(p−4)
+//	W = L·p·(E_fit(p) + B·E_refit(p) + [BCa] n·E_refit(p)),  E_refit(p) = 8·2^(p−4),
+//	E_fit(p) = 250 (p ≤ 4), 600 (p = 5), 1600 (p ≥ 6)
 //
 // in cost units (L levels, p parameters, n points, B resamples; the
 // jackknife of BCa refits n leave-one-out datasets). It is an estimate
@@ -31,7 +51,7 @@ func Cost(points, levels, params int, bs *BootSettings) cost.Work {
 	for p := 4; p < params; p++ {
 		refit *= 2
 	}
-	evals := float64(costFitEvals)
+	evals := costFitEvals(params)
 	if bs != nil {
 		b := bs.Resamples
 		if b == 0 {

@@ -18,8 +18,8 @@ func TestCostFormula(t *testing.T) {
 		{"fit only", 30, 10, 4, nil, 10 * 4 * 250},
 		{"B = 1000 percentile", 30, 10, 4, &BootSettings{Interval: IntervalPercentile}, 10 * 4 * (250 + 1000*8)},
 		{"B = 1000 BCa", 30, 10, 4, &BootSettings{Resamples: 1000}, 10 * 4 * (250 + 1000*8 + 30*8)},
-		{"hill5", 30, 10, 5, &BootSettings{Resamples: 500, Interval: IntervalPercentile}, 10 * 5 * (250 + 500*16)},
-		{"bell", 24, 8, 6, &BootSettings{Resamples: 500, Interval: IntervalPercentile}, 8 * 6 * (250 + 500*32)},
+		{"hill5", 30, 10, 5, &BootSettings{Resamples: 500, Interval: IntervalPercentile}, 10 * 5 * (600 + 500*16)},
+		{"bell", 24, 8, 6, &BootSettings{Resamples: 500, Interval: IntervalPercentile}, 8 * 6 * (1600 + 500*32)},
 	} {
 		if got := float64(Cost(c.points, c.levels, c.params, c.bs)); got != c.want {
 			t.Errorf("%s: Cost = %v, want %v", c.name, got, c.want)
@@ -48,16 +48,11 @@ func TestCostCountsBoundMeasuredEvaluations(t *testing.T) {
 			}
 			d := newDesign(c.Points)
 			params = len(set.curve.names())
-			sv := newSolver(set, d, false)
-			for i, st := range startValues(set, d) {
-				status := sv.solve(d.ybar, d.w, st)
-				fitEvals += sv.res.Evaluations
-				if i == 0 && status.Converged() && !sv.anyAtBound() {
-					break
-				}
-			}
-			curves++
+			// The fit's own count: every start it tried, and for a
+			// model that searches, the nested Hill fit.
 			r := fitDesign("", set, d)
+			fitEvals += r.evaluations
+			curves++
 			if !r.Converged() {
 				continue
 			}

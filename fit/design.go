@@ -6,7 +6,11 @@ import (
 )
 
 // Point is one observation. Conc is molar and ≥ 0 (0 is the vehicle);
-// Weight is a relative weight > 0, and zero means 1.
+// Weight is a relative weight > 0, and zero means 1: the zero value is a
+// point given no weight. A weight of 0 therefore cannot mean "leave this
+// point out" here, and the edges refuse an explicit 0 (the API's weight
+// field, the weight column of a CSV) with a message that says so, rather
+// than let it count as 1; a point to be left out is left out of the curve.
 type Point struct {
 	Conc, Response, Weight float64
 }
@@ -25,6 +29,8 @@ type design struct {
 	pureSS float64   // Σ wₗⱼ(yₗⱼ − ȳₗ)²
 	tss    float64   // Σ w(y − ȳ)², about the overall weighted mean
 	n      int       // number of points
+	// identical: every fitted response is the same number.
+	identical bool
 
 	// Per point, in level order: the level, the response and the weight.
 	level []int
@@ -53,12 +59,14 @@ func validatePoints(pts []Point) error {
 
 // newDesign groups validated points by concentration.
 func newDesign(pts []Point) *design {
-	idx := make([]int, len(pts))
+	n := len(pts)
+	idx := make([]int, n)
 	for i := range idx {
 		idx[i] = i
 	}
 	sort.SliceStable(idx, func(a, b int) bool { return pts[idx[a]].Conc < pts[idx[b]].Conc })
-	d := &design{n: len(pts), level: make([]int, len(pts)), y: make([]float64, len(pts)), pw: make([]float64, len(pts))}
+	d := &design{n: n, level: make([]int, n), y: make([]float64, n), pw: make([]float64, n)}
+	d.identical = n > 0
 	for k, i := range idx {
 		p := pts[i]
 		w := p.Weight
@@ -73,10 +81,13 @@ func newDesign(pts []Point) *design {
 		}
 		l := len(d.x) - 1
 		d.level[k], d.y[k], d.pw[k] = l, p.Response, w
+		if p.Response != pts[idx[0]].Response {
+			d.identical = false
+		}
 		d.w[l] += w
 		d.ybar[l] += w * p.Response
 	}
-	d.start = append(d.start, len(pts))
+	d.start = append(d.start, n)
 	var sw, swy float64
 	for l := range d.x {
 		swy += d.ybar[l]

@@ -29,7 +29,8 @@ func Fit(c Curve, s *Settings) (*Result, error) {
 func fitDesign(id string, set *resolved, d *design) *Result {
 	names := set.curve.names()
 	r := &Result{Curve: id, Model: set.model, N: d.n, Levels: len(d.x), Confidence: set.confidence,
-		set: set, design: d}
+		Qualifier: "", Bound: math.NaN(), ActivityP: math.NaN(), Effect: math.NaN(),
+		PlateauZero: math.NaN(), PlateauHigh: math.NaN(), set: set, design: d}
 	p := set.freeCount()
 	if d.n <= p || len(d.x) < p {
 		r.Status = StatusNotFitted
@@ -45,20 +46,49 @@ func fitDesign(id string, set *resolved, d *design) *Result {
 		r.RSS, r.Sigma, r.R2, r.AICc = math.NaN(), math.NaN(), math.NaN(), math.NaN()
 		r.addFlag(FlagTooFewPoints)
 		r.addFlag(FlagFitFailed)
+		r.callActivity()
+		r.checkPlausible()
 		return r
 	}
-	sv := newSolver(set, d, false)
+	// A model with a twin (Hill) has one optimum up to the twin: its first
+	// start usually suffices. A model without one searches (search.go).
 	var best lm.Result
+	var iters, evals int
+	var nested *Result
+	if set.curve.twin {
+		iters, evals = localFit(set, d, &best)
+	} else {
+		iters, evals, nested = searchFit(set, d, &best)
+	}
+	r.Iterations, r.evaluations = iters, evals
+	if nested != nil {
+		r.evaluations += nested.evaluations
+	}
+	// The twin is mapped only when the map keeps every fixed parameter
+	// at its value: with hill fixed, (top, bottom, −hill) would report a
+	// slope that was not the one given.
+	if ro := set.curve.roles; set.curve.twin && !set.fixed[ro.Bottom] && !set.fixed[ro.Top] && !set.fixed[ro.Hill] {
+		canonicalTwin(&best, ro)
+	}
+	r.fill(&best)
+	if nested != nil {
+		r.Comparison = compareNested(nested, r)
+	}
+	return r
+}
+
+// localFit fits from the model's starts in turn, stopping at the first
+// that converges off the bounds, and leaves the best solution in best: the
+// converged one with the smallest RSS.
+func localFit(set *resolved, d *design, best *lm.Result) (iters, evals int) {
+	sv := newSolver(set, d, false)
 	haveBest := false
-	iters := 0
 	for i, st := range startValues(set, d) {
 		status := sv.solve(d.ybar, d.w, st)
 		iters += sv.res.Iterations
-		better := !haveBest ||
-			(status.Converged() && !best.Status.Converged()) ||
-			(status.Converged() == best.Status.Converged() && sv.res.RSS < best.RSS)
-		if better {
-			copyLMResult(&best, &sv.res)
+		evals += sv.res.Evaluations
+		if !haveBest || better(&sv.res, best) {
+			copyLMResult(best, &sv.res)
 			haveBest = true
 		}
 		// The first start usually suffices; try more only when it fails or
@@ -67,12 +97,18 @@ func fitDesign(id string, set *resolved, d *design) *Result {
 			break
 		}
 	}
-	r.Iterations = iters
-	if ro := set.curve.roles; set.curve.twin && !set.fixed[ro.Bottom] && !set.fixed[ro.Top] {
-		canonicalTwin(&best, ro)
+	return iters, evals
+}
+
+// better reports whether a solution beats the best so far: a converged one
+// beats one that is not, and otherwise the RSS decides. A later solution
+// replaces the best only when clearly better: two forms of one step (a
+// slope on its bound) tie to rounding, and the earlier start's is kept.
+func better(a, best *lm.Result) bool {
+	if a.Status.Converged() != best.Status.Converged() {
+		return a.Status.Converged()
 	}
-	r.fill(&best)
-	return r
+	return a.RSS < best.RSS*(1-tieRSS)
 }
 
 // canonicalTwin resolves the symmetry of a model with a twin (Hill's):
@@ -147,6 +183,10 @@ func (r *Result) fill(lr *lm.Result) {
 	r.Sigma = math.Sqrt(sigma2)
 	r.R2 = 1 - r.RSS/d.tss
 	r.AICc = AICc(d.n, r.RSS, k)
+	if math.IsNaN(r.AICc) {
+		r.addFlag(FlagAICcUndefined)
+		r.addNote("AICc is undefined: %d points leave n − K − 1 = %d ≤ 0 for K = %d (the %d estimated parameters and σ²), so model comparisons by AICc cannot decide", d.n, d.n-k-2, k+1, k)
+	}
 	r.Cov = make([]float64, np*np)
 	for i, v := range lr.Unscaled {
 		r.Cov[i] = sigma2 * v
@@ -169,18 +209,38 @@ func (r *Result) fill(lr *lm.Result) {
 		}
 		r.Params[j] = p
 	}
+	r.fitted = append([]float64(nil), lr.X...)
+	if !set.curve.admits(lr.X) {
+		r.addFlag(FlagShapeNotAdmitted)
+		r.addNote("the best %s fit is not the shape the model stands for (for bell: a peak, activation before block), so its plateaus and potencies do not mean what their names say; see the comparison with hill", set.model)
+	}
+	r.PlateauZero, r.PlateauHigh, r.Direction = plateausOf(set.curve, lr.X)
 	r.flagShape()
+	r.callActivity()
+	r.checkPlausible()
 }
 
 // flagShape adds the flags that read the fitted curve against the design.
 func (r *Result) flagShape() {
 	set, d := r.set, r.design
 	ro := set.curve.roles
+	lower := make([]float64, len(r.Params))
+	upper := make([]float64, len(r.Params))
+	set.bounds(d, lower, upper)
 	for j, p := range r.Params {
 		if p.AtBound {
 			r.addFlag(FlagParameterAtBound)
 			if set.curve.isSlope(j) {
 				r.addFlag(FlagHillAtBound)
+			}
+		}
+		// A potency on its search box is not located by the data, whether
+		// or not the solver marked it at the bound (a flat direction ends
+		// there with a zero gradient).
+		if set.curve.params[j].bound == boundPotency && !p.Fixed && atEdge(p.Estimate, lower[j], upper[j]) {
+			r.addFlag(FlagParameterAtBound)
+			if j == ro.LogEC50 {
+				r.addFlag(FlagEC50AtLimit)
 			}
 		}
 	}
@@ -192,38 +252,71 @@ func (r *Result) flagShape() {
 	if L < lo || L > hi {
 		r.addFlag(FlagEC50OutsideRange)
 	}
-	// Far plateau: at the highest tested concentration a monotone curve
-	// should have covered at least 80 % of its window (common practice).
 	if set.curve.monotone {
-		h := r.Params[ro.Hill].Estimate
-		th := r.Estimates()
-		b, t := th[ro.Bottom], th[ro.Top]
-		if t != b {
-			q := (set.curve.value(th, hi, nil) - b) / (t - b)
-			if h < 0 {
-				q = 1 - q
-			}
-			if q < farPlateauFraction {
-				if h >= 0 {
-					r.addFlag(FlagTopNotReached)
-				} else {
-					r.addFlag(FlagBottomNotReached)
-				}
-			}
-		}
-	}
-	// No response: the curve explains no more than a horizontal line, by the
-	// extra-sum-of-squares F test against the weighted mean (FACTS §1).
-	if k := r.N - r.DOF; k > 1 && r.DOF > 0 && r.Converged() {
-		if p := FTest(d.tss, r.N-1, r.RSS, r.DOF).P; !(p < noResponseAlpha) {
-			r.addFlag(FlagNoResponse)
-		}
+		r.flagPlateaus(hi)
 	}
 }
 
-// farPlateauFraction and noResponseAlpha are the thresholds of the
-// top_not_reached/bottom_not_reached and no_response flags.
-const (
-	farPlateauFraction = 0.8
-	noResponseAlpha    = 0.05
-)
+// flagPlateaus checks that a monotone curve's data reach both plateaus.
+// With q the fraction of the fitted window, measured from the
+// zero-concentration plateau towards the high one,
+//
+//	q(y) = (y − PlateauZero)/(PlateauHigh − PlateauZero),
+//
+// the far plateau is reached when both the fitted curve and the data's own
+// plateau (the level mean) at the highest tested concentration have
+// q ≥ 0.8, and the near plateau when both at the lowest level (the vehicle
+// when there is one) have q ≤ 0.2 (common practice: 80 % of the window
+// covered). Reading the data as well as the curve catches a fit whose
+// plateau is extrapolated beyond what was measured. The flags name the
+// plateau by its place, upper or lower: top_not_reached for the upper one,
+// bottom_not_reached for the lower.
+func (r *Result) flagPlateaus(hi float64) {
+	set, d := r.set, r.design
+	z, h := r.PlateauZero, r.PlateauHigh
+	if !(h != z) || math.IsNaN(h-z) {
+		return
+	}
+	q := func(y float64) float64 { return (y - z) / (h - z) }
+	th := r.theta()
+	last := len(d.x) - 1
+	farFit, farData := q(set.curve.value(th, hi, nil)), q(d.ybar[last])
+	nearFit, nearData := q(set.curve.value(th, d.x[0], nil)), q(d.ybar[0])
+	// Rising: the far (high-concentration) plateau is the upper one.
+	far, near := FlagTopNotReached, FlagBottomNotReached
+	if h < z {
+		far, near = near, far
+	}
+	if math.Min(farFit, farData) < farPlateauFraction {
+		r.addFlag(far)
+	}
+	if math.Max(nearFit, nearData) > 1-farPlateauFraction {
+		r.addFlag(near)
+	}
+}
+
+// atEdge reports whether v lies on lo or hi, to 1e-9 of the box's width.
+func atEdge(v, lo, hi float64) bool {
+	tol := 1e-9 * math.Max(1, hi-lo)
+	return math.Abs(v-lo) <= tol || math.Abs(v-hi) <= tol
+}
+
+// theta returns the estimates as fitted, before an inactive curve's potency
+// is withdrawn: the parameters of the curve the solver found.
+func (r *Result) theta() []float64 {
+	if r.fitted != nil {
+		return append([]float64(nil), r.fitted...)
+	}
+	return r.Estimates()
+}
+
+// tieRSS is the relative RSS difference below which two solutions of a
+// search tie: far below any difference that matters (search_test.go holds
+// the search to 1e-8 of a many-start reference) and above rounding, which
+// reaches 1e-12 of the RSS when the curve fits to a few digits below
+// the data's own (a noise-free step: RSS ≈ 1e-8·TSS).
+const tieRSS = 1e-10
+
+// farPlateauFraction is the share of the window the data must cover at
+// either end for the plateau flags (top_not_reached, bottom_not_reached).
+const farPlateauFraction = 0.8

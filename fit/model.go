@@ -110,6 +110,24 @@ type Spec struct {
 	starts func(set *resolved, d *design) [][]float64
 	// logECF is log10 EC_F, nil when the model has none (see Spec.LogECF).
 	logECF func(theta []float64, F float64) float64
+	// admissible, when not nil, says whether a parameter vector inside
+	// the box is a curve of the family as the model means it (Bell: a
+	// peak, activation before block). The box cannot say it; the
+	// search (search.go) prefers any admissible solution to one that is
+	// not, and a result the model does not admit (when nothing else was
+	// found) is flagged FlagShapeNotAdmitted.
+	admissible func(theta []float64) bool
+}
+
+// admits reports whether theta is a curve of the family as the model
+// means it (every finite vector when the model sets no admissible).
+func (s *Spec) admits(theta []float64) bool {
+	for _, v := range theta {
+		if math.IsNaN(v) {
+			return false
+		}
+	}
+	return s.admissible == nil || s.admissible(theta)
 }
 
 // Name returns the model's name.

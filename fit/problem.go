@@ -95,6 +95,13 @@ func (s *solver) anyAtBound() bool {
 // checks the intervals against refits at full precision.
 const refitFuncTol = 1e-10
 
+// refitMaxIterations bounds a bootstrap refit when the caller sets no
+// limit. A refit starts at the estimate and needs a few dozen steps (the
+// cost model measures ~7 evaluations on average); a resample that has not
+// converged in 200 is retried from the self-start values rather than
+// given the solver's default of 1000, which is sized for the NIST problems.
+const refitMaxIterations = 200
+
 func refitSettings(base *lm.Settings) *lm.Settings {
 	var s lm.Settings
 	if base != nil {
@@ -103,6 +110,9 @@ func refitSettings(base *lm.Settings) *lm.Settings {
 	s.EstimateOnly = true
 	if s.FuncTol == 0 {
 		s.FuncTol = refitFuncTol
+	}
+	if s.MaxIterations == 0 {
+		s.MaxIterations = refitMaxIterations
 	}
 	return &s
 }

@@ -1,6 +1,7 @@
 package fit
 
 import (
+	"fmt"
 	"math"
 
 	"sluice/fit/lm"
@@ -54,8 +55,50 @@ type Result struct {
 	// Boot is the bootstrap summary, nil without resampling.
 	Boot *BootSummary
 
+	// Activity is the call on the curve (activity.go): active, inactive or
+	// inconclusive; Reason says why in words. An inactive curve reports no
+	// potency: the potency parameters (log_ec50, and Bell's log_ic50) are
+	// NaN with their intervals, so EC50 and pEC50 are NaN too, while Status
+	// stays the solver's.
+	Activity Activity
+	Reason   string
+	// ActivityP is the P value of the F test of the model against a flat
+	// line, NaN when it could not be run.
+	ActivityP float64
+	// Effect is the response change the data show: the level mean at the
+	// highest concentration minus that at the lowest (for Bell, the level
+	// mean farthest from the lowest); NaN with fewer than two levels.
+	Effect float64
+	// Qualifier reads the EC50 of an active curve: "=" inside the tested
+	// range, ">" above the highest tested concentration, "<" below the
+	// lowest, with Bound that concentration (molar; NaN for "=").
+	// Qualifier is "" and Bound NaN when no EC50 is reported.
+	Qualifier string
+	Bound     float64
+	// PlateauZero is the fitted response at zero concentration and
+	// PlateauHigh its limit at high concentration; Direction says whether
+	// the curve rises or falls between them (for Bell, whether it rises or
+	// falls towards its peak). They cannot be misread the way bottom and
+	// top can: bottom and top are the model's parameters (kept for
+	// pipelines) and for Hill5 with hill < 0 bottom is the plateau at high
+	// concentration, whichever is larger.
+	PlateauZero, PlateauHigh float64
+	Direction                Direction
+	// Comparison is the test of the model against the Hill equation it
+	// nests, for models other than Hill (nil for Hill).
+	Comparison *Comparison
+	// Notes explain in sentences the flags that need more than a word
+	// (FlagImplausibleConc, FlagAICcUndefined).
+	Notes []string
+
 	set    *resolved
 	design *design
+	// evaluations counts the solver's evaluations over every start,
+	// the nested Hill fit's included (the cost model's measure).
+	evaluations int
+	// fitted is the solver's estimate, kept whole when an inactive
+	// curve's potency is withdrawn from Params.
+	fitted []float64
 }
 
 // Flags a Result may carry.
@@ -70,6 +113,18 @@ const (
 	FlagNoResponse        = "no_response"
 	FlagBootstrapFailures = "bootstrap_refits_failed"
 	FlagBootstrapAtBound  = "bootstrap_resamples_at_bound"
+	// FlagEC50AtLimit: log_ec50 ended on its search box (the tested range
+	// widened by Settings.PotencyMargin): the data do not locate it.
+	FlagEC50AtLimit = "ec50_at_search_limit"
+	// FlagImplausibleConc: a concentration or the EC50 lies outside the
+	// plausible range of drug concentrations (plausible.go); see Notes.
+	FlagImplausibleConc = "implausible_concentration"
+	// FlagAICcUndefined: n − K − 1 ≤ 0, so AICc is NaN (see Notes).
+	FlagAICcUndefined = "aicc_undefined"
+	// FlagShapeNotAdmitted: the best solution lies where the model's
+	// parameters do not mean what their names say (Bell: a dip, or the
+	// block before the activation; see Notes and Comparison).
+	FlagShapeNotAdmitted = "shape_not_admitted"
 )
 
 // Converged reports whether the fit found a least-squares solution.
@@ -118,6 +173,12 @@ func (r *Result) Top() Param { return r.Params[r.spec().roles.Top] }
 // that rises with concentration.
 func (r *Result) HillSlope() Param { return r.Params[r.spec().roles.Hill] }
 
+// HasPotency reports whether the result reports an EC50: a converged fit
+// of a curve that is not inactive.
+func (r *Result) HasPotency() bool {
+	return r.Converged() && r.Activity != ActivityInactive && !math.IsNaN(r.LogEC50().Estimate)
+}
+
 // EC50 returns the EC50 in molar with its interval: the bootstrap interval
 // of log_ec50 when there is one, else the Wald interval, back-transformed
 // (FACTS §8: a log interval back-transforms asymmetrically).
@@ -138,6 +199,10 @@ func (r *Result) EC50() (est, lo, hi float64) {
 // returns NaN for F outside (0, 100).
 func (r *Result) LogECF(F float64) float64 {
 	return r.spec().LogECF(r.Estimates(), F)
+}
+
+func (r *Result) addNote(format string, args ...any) {
+	r.Notes = append(r.Notes, fmt.Sprintf(format, args...))
 }
 
 func (r *Result) addFlag(f string) {

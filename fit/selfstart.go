@@ -8,17 +8,7 @@ import "math"
 // start fails. Fixed parameters are set to their values in every start.
 func startValues(set *resolved, d *design) [][]float64 {
 	starts := set.curve.starts(set, d)
-	lower := make([]float64, len(set.fixed))
-	upper := make([]float64, len(set.fixed))
-	set.bounds(d, lower, upper)
-	for _, st := range starts {
-		for j := range st {
-			if set.fixed[j] {
-				st[j] = set.fixedValue[j]
-			}
-			st[j] = math.Min(math.Max(st[j], lower[j]), upper[j])
-		}
-	}
+	clampStarts(set, d, starts)
 	return starts
 }
 

@@ -31,6 +31,22 @@ type Settings struct {
 	// widened by this many decades on each side, so that a curve with no
 	// response cannot send its potency to infinity. Zero means 3; range (0, 20].
 	PotencyMargin float64
+	// ActivityAlpha is the level of the extra-sum-of-squares F test of the
+	// model against a flat line that calls a curve active (activity.go):
+	// a curve whose P is not below it is inactive. Zero means 0.01; range
+	// (0, 0.5].
+	ActivityAlpha float64
+	// Window is the assay window in response units: the span between the
+	// assay's zero-effect and full-effect controls (100 for data
+	// normalised to percent of control). Zero means unknown, and then no
+	// minimum effect applies; range [0, +Inf).
+	Window float64
+	// MinEffect is the smallest effect, as a fraction of Window, that an
+	// active curve must show in its own data (Result.Effect): a curve
+	// that passes the F test with a smaller effect is inactive. It applies
+	// only when Window is set. Zero means 0.2 (a 20 % effect, a common
+	// screening threshold); range (0, 1].
+	MinEffect float64
 	// Solver tunes the least-squares solver; nil means fit/lm's defaults.
 	Solver *lm.Settings
 }
@@ -40,6 +56,8 @@ const (
 	DefaultConfidence    = 0.95
 	DefaultMaxHill       = 10
 	DefaultPotencyMargin = 3
+	DefaultActivityAlpha = 0.01
+	DefaultMinEffect     = 0.2
 )
 
 // resolved is Settings with defaults applied and names mapped to indices.
@@ -51,6 +69,9 @@ type resolved struct {
 	confidence float64
 	maxHill    float64
 	margin     float64
+	alpha      float64 // ActivityAlpha
+	window     float64 // Window, 0 when unknown
+	minEffect  float64 // MinEffect
 	solver     *lm.Settings
 }
 
@@ -69,7 +90,7 @@ func (s *Settings) resolve() (*resolved, error) {
 	}
 	spec, _ := reg.Lookup(m)
 	r := &resolved{model: m, curve: spec, confidence: in.Confidence, maxHill: in.MaxHill,
-		margin: in.PotencyMargin, solver: in.Solver}
+		margin: in.PotencyMargin, alpha: in.ActivityAlpha, window: in.Window, minEffect: in.MinEffect, solver: in.Solver}
 	if r.confidence == 0 {
 		r.confidence = DefaultConfidence
 	}
@@ -87,6 +108,21 @@ func (s *Settings) resolve() (*resolved, error) {
 	}
 	if !(r.margin > 0 && r.margin <= 20) {
 		return nil, &SettingError{"potency_margin", invalid("%g is outside (0, 20]", in.PotencyMargin)}
+	}
+	if r.alpha == 0 {
+		r.alpha = DefaultActivityAlpha
+	}
+	if !(r.alpha > 0 && r.alpha <= 0.5) {
+		return nil, &SettingError{"activity_alpha", invalid("%g is outside (0, 0.5]", in.ActivityAlpha)}
+	}
+	if !(r.window >= 0) || math.IsInf(r.window, 1) {
+		return nil, &SettingError{"window", invalid("%g is not a finite number ≥ 0", in.Window)}
+	}
+	if r.minEffect == 0 {
+		r.minEffect = DefaultMinEffect
+	}
+	if !(r.minEffect > 0 && r.minEffect <= 1) {
+		return nil, &SettingError{"min_effect", invalid("%g is outside (0, 1]", in.MinEffect)}
 	}
 	names := r.curve.names()
 	r.fixed = make([]bool, len(names))

@@ -36,7 +36,22 @@ var (
 	ErrNotNumber     = errors.New("not a number")
 	ErrBadValue      = errors.New("invalid value")
 	ErrNoData        = errors.New("no data rows")
+	// ErrSyntax: the text is not CSV (RFC 4180 quoting), as
+	// encoding/csv reports it.
+	ErrSyntax = errors.New("malformed CSV")
 )
+
+// IsInputError reports whether err is one of the sentinels above: the
+// client's fault, which the API answers with a 4xx (a test there checks
+// each). Every error a reader returns for any input must be one.
+func IsInputError(err error) bool {
+	for _, s := range []error{ErrMissingColumn, ErrNotNumber, ErrBadValue, ErrNoData, ErrSyntax} {
+		if errors.Is(err, s) {
+			return true
+		}
+	}
+	return false
+}
 
 // MaxCurveRows bounds the rows of one curve file.
 const MaxCurveRows = 1_000_000
@@ -59,13 +74,19 @@ func ReadCurves(r io.Reader, unit Unit) ([]fit.Curve, error) {
 		if err != nil {
 			return err
 		}
-		w, _, err := row.number("weight", false)
+		w, given, err := row.number("weight", false)
 		if err != nil {
 			return err
 		}
 		if w < 0 {
 			_, c, _ := row.text("weight")
 			return &ParseError{Line: row.line, Column: c, Name: "weight", Err: fmt.Errorf("%w: weight %g is negative", ErrBadValue, w)}
+		}
+		// An empty cell means no weight (1); an explicit 0 would count as
+		// 1 too (fit.Point's zero value), so it is refused.
+		if given && w == 0 {
+			_, c, _ := row.text("weight")
+			return &ParseError{Line: row.line, Column: c, Name: "weight", Err: fmt.Errorf("%w: weight 0 does not leave a point out; remove the row, or give a weight > 0", ErrBadValue)}
 		}
 		id := "1"
 		if s, _, ok := row.text("curve"); ok {

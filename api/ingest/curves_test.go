@@ -45,6 +45,10 @@ func TestReadCurvesErrors(t *testing.T) {
 		{"conc,response\n1,Inf\n", 2, 2, ErrNotNumber, "Inf"},
 		{"conc,response\n,2\n", 2, 1, ErrBadValue, "empty"},
 		{"conc,response,weight\n1,2,-3\n", 2, 3, ErrBadValue, "negative"},
+		// An explicit weight of 0 would count as 1 (the zero value of
+		// fit.Point.Weight): refused, pointing at the cell.
+		{"conc,response,weight\n1,2,1\n2,3,0\n", 3, 3, ErrBadValue, "weight 0"},
+		{"weight,conc,response\n0.0,1,2\n", 2, 1, ErrBadValue, "remove the row"},
 		{"conc,response\n1\n", 2, 2, ErrBadValue, "empty"},
 		{"dose,response\n1,2\n", 1, 0, ErrMissingColumn, `"conc"`},
 		{"conc,response,conc\n1,2,3\n", 1, 3, ErrBadValue, "twice"},
@@ -99,6 +103,9 @@ func FuzzReadCurves(f *testing.F) {
 			if !errors.As(err, &pe) {
 				t.Fatalf("error %v (%T) is not a *ParseError", err, err)
 			}
+			if !IsInputError(err) { // the API's status < 500
+				t.Fatalf("error %v is not an input error: the API would answer 500", err)
+			}
 			return
 		}
 		var buf bytes.Buffer
@@ -110,8 +117,14 @@ func FuzzReadCurves(f *testing.F) {
 					math.IsInf(p.Response, 0) || p.Weight < 0 || math.IsNaN(p.Weight) || math.IsInf(p.Weight, 0) {
 					t.Fatalf("bad point %+v from %q", p, in)
 				}
+				// No weight (fit.Point's zero) is an empty cell: an
+				// explicit 0 is refused.
+				weight := ""
+				if p.Weight != 0 {
+					weight = strconv.FormatFloat(p.Weight, 'g', -1, 64)
+				}
 				w.Write([]string{c.ID, strconv.FormatFloat(p.Conc, 'g', -1, 64),
-					strconv.FormatFloat(p.Response, 'g', -1, 64), strconv.FormatFloat(p.Weight, 'g', -1, 64)})
+					strconv.FormatFloat(p.Response, 'g', -1, 64), weight})
 			}
 		}
 		w.Flush()

@@ -64,7 +64,7 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 		pt := fit.Point{Conc: unit.ToMolar(*p.Conc), Response: *p.Response}
 		if p.Weight != nil {
 			if *p.Weight <= 0 {
-				return nil, Invalid(fmt.Sprintf("/points/%d/weight", i), "weight must be > 0")
+				return nil, Invalid(fmt.Sprintf("/points/%d/weight", i), "weight must be > 0; a weight of 0 does not leave a point out (remove the point instead), and is refused rather than counted as 1")
 			}
 			pt.Weight = *p.Weight
 		}
@@ -107,7 +107,8 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 		in.measured = t.UTC().Truncate(time.Microsecond)
 	}
 	in.free = free
-	in.settings = fit.Settings{Model: model, Fixed: req.Fixed, Confidence: req.Confidence, MaxHill: req.MaxHill}
+	in.settings = fit.Settings{Model: model, Fixed: req.Fixed, Confidence: req.Confidence, MaxHill: req.MaxHill,
+		ActivityAlpha: req.ActivityAlpha, Window: req.Window, MinEffect: req.MinEffect}
 	if b := req.Bootstrap; b != nil {
 		in.boot = &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval),
 			Workers: s.fitWorkers}
@@ -266,12 +267,12 @@ func (s *Service) newFitRun(who Caller, req *wire.FitRequest, inputSHA string, r
 	run := &db.FitRun{ID: out.ID, CreatedAt: now, MeasuredAt: measured, SubmittedBy: who.Name, AssayID: req.AssayID,
 		CompoundID: req.CompoundID, RefitOf: req.RefitOf, Model: string(res.Model), Status: res.Status,
 		EngineVersion: fit.EngineVersion, InputSHA256: out.InputSHA256}
-	if l := res.LogEC50().Estimate; res.Converged() {
+	if l := res.LogEC50().Estimate; res.HasPotency() {
 		run.LogEC50 = &l
 	}
 	var err error
 	run.Settings, err = json.Marshal(wire.FitSettings{Model: string(res.Model), Fixed: req.Fixed, Confidence: res.Confidence,
-		MaxHill: req.MaxHill, Bootstrap: req.Bootstrap})
+		MaxHill: req.MaxHill, Bootstrap: req.Bootstrap, ActivityAlpha: req.ActivityAlpha, Window: req.Window, MinEffect: req.MinEffect})
 	if err != nil {
 		return nil, fmt.Errorf("encode fit settings: %w", err)
 	}

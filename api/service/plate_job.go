@@ -72,7 +72,8 @@ func (s *Service) RunPlateJob(ctx context.Context, plateID string) error {
 		curves[i] = cs.Curve
 	}
 	s.setProgress(ctx, plateID, 0, len(curves))
-	fs := &fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill}
+	fs := &fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill,
+		ActivityAlpha: set.Fit.ActivityAlpha, Window: set.Fit.PlateWindow(), MinEffect: set.Fit.MinEffect}
 	var bs *fit.BootSettings
 	if b := set.Fit.Bootstrap; b != nil {
 		bs = &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval), Seed: *b.Seed}
@@ -109,7 +110,7 @@ func (s *Service) RunPlateJob(ctx context.Context, plateID string) error {
 		if r.Boot != nil {
 			out[i].BootCols, out[i].BootDraws = len(r.Params), r.Boot.Draws
 		}
-		if r.Converged() {
+		if r.HasPotency() {
 			l := r.LogEC50().Estimate
 			out[i].LogEC50 = &l
 		}

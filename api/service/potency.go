@@ -142,37 +142,37 @@ func record(r db.PotencyRow, reviews map[string]db.Review) (wire.PotencyRecord, 
 	return rec, run, nil
 }
 
-// callOf reads a curve's activity call, qualifier and flags.
-//
-// INTERIM, until the activity call lands in the result object (fit.Result
-// and wire.FitResult gain activity, qualifier and direction): a result
-// document without "activity" counts as active, one without "qualifier"
-// as "=", and a curve with no log EC50 (not converged) as inconclusive.
-// Replace this function's body with the stored call once it lands.
+// callOf reads a curve's activity call, qualifier and flags from its
+// stored result object (wire.FitResult: "activity", "qualifier", "flags").
+// A result stored before the engine made activity calls (no "activity")
+// has no call, and so does an active curve without a qualifier or a log
+// EC50: both count as inconclusive, so that a run nobody called never
+// enters a summary.
 func callOf(r db.PotencyRow) (potency.Activity, potency.Qualifier, []string, error) {
 	var doc struct {
 		Activity  string   `json:"activity"`
-		Qualifier string   `json:"qualifier"`
+		Qualifier *string  `json:"qualifier"`
 		Flags     []string `json:"flags"`
 	}
 	if err := json.Unmarshal(r.Result, &doc); err != nil {
 		return "", "", nil, fmt.Errorf("result document: %w", err)
 	}
-	act, qual := potency.Activity(doc.Activity), potency.Qualifier(doc.Qualifier)
-	if act == "" {
-		act = potency.Active
-		if r.LogEC50.Value == nil {
-			act = potency.Inconclusive
-		}
-	}
-	if qual == "" {
-		qual = potency.Equal
-	}
-	if act == potency.Active && qual == potency.Equal && r.LogEC50.Value == nil {
-		act = potency.Inconclusive
-	}
 	if doc.Flags == nil {
 		doc.Flags = []string{}
+	}
+	act := potency.Activity(doc.Activity)
+	var qual potency.Qualifier
+	if doc.Qualifier != nil {
+		qual = potency.Qualifier(*doc.Qualifier)
+	}
+	switch act {
+	case potency.Active:
+		if qual == "" || r.LogEC50.Value == nil {
+			return potency.Inconclusive, qual, doc.Flags, nil
+		}
+	case potency.Inactive, potency.Inconclusive:
+	default:
+		return potency.Inconclusive, qual, doc.Flags, nil
 	}
 	return act, qual, doc.Flags, nil
 }

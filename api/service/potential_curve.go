@@ -48,6 +48,9 @@ func (s *Service) loadCurve(ctx context.Context, id string) (*loadedCurve, error
 	if res.Status != fit.StatusConverged {
 		return nil, Invalid("/curve_id", "fit %s did not converge (%s)", id, res.Status)
 	}
+	if res.Activity == string(fit.ActivityInactive) {
+		return nil, Invalid("/curve_id", "fit %s is inactive (%s): it has no potency to predict from", id, res.Reason)
+	}
 	theta := res.Params.Estimates()
 	model := fit.Model(res.Model)
 	if model.Top(theta) <= model.Bottom(theta) || (model.Monotone() && model.HillSlope(theta) <= 0) {

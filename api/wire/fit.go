@@ -28,6 +28,49 @@ type FitResult struct {
 	Flags         []string       `json:"flags"`
 	EngineVersion string         `json:"engine_version"`
 	Caution       string         `json:"caution"`
+
+	// The activity call (fit.Result.Activity): "active", "inactive" or
+	// "inconclusive", why, and the P of the F test against a flat line.
+	// An inactive curve has null ec50, pec50 and params.log_ec50.
+	Activity  string `json:"activity"`
+	Reason    string `json:"reason"`
+	ActivityP Num    `json:"activity_p"`
+	// Effect is the response change the data show (fit.Result.Effect).
+	Effect Num `json:"effect"`
+	// Qualifier is "=", ">" or "<" for a reported EC50 (null when none);
+	// Bound is the tested concentration it refers to, molar (null for "=").
+	Qualifier *string `json:"qualifier"`
+	Bound     Num     `json:"bound"`
+	// Direction is "rising" or "falling" (null when the fit has no
+	// window); PlateauZero and PlateauHigh are the fitted responses at
+	// zero and at high concentration. bottom and top in params are the
+	// model's parameters, kept for pipelines.
+	Direction   *string `json:"direction"`
+	PlateauZero Num     `json:"plateau_zero"`
+	PlateauHigh Num     `json:"plateau_high"`
+	// IC50 and PIC50 repeat ec50 and pec50 under the inhibitor's names
+	// for a falling curve, and are null otherwise; ec50 and pec50 are
+	// always there, whatever the direction.
+	IC50  *Potency `json:"ic50"`
+	PIC50 Num      `json:"pic50"`
+	// Comparison tests the model against the Hill equation it nests (null
+	// for hill).
+	Comparison *Comparison `json:"comparison"`
+	// Notes explain flags in sentences.
+	Notes []string `json:"notes"`
+}
+
+// Comparison is fit.Comparison on the wire.
+type Comparison struct {
+	Simpler        string `json:"simpler"`
+	SimplerRSS     Num    `json:"simpler_rss"`
+	SimplerDOF     int    `json:"simpler_dof"`
+	F              Num    `json:"f"`
+	P              Num    `json:"p"`
+	DeltaAICc      Num    `json:"delta_aicc"`
+	Decided        bool   `json:"decided"`
+	PrefersSimpler bool   `json:"prefers_simpler"`
+	Verdict        string `json:"verdict"`
 }
 
 // Param is one parameter of a FitResult.
@@ -164,6 +207,29 @@ func FromFit(r *fit.Result) FitResult {
 	out.Confidence = Num(r.Confidence)
 	out.Stats = Stats{N: r.N, DOF: r.DOF, RSS: Num(r.RSS), Sigma: Num(r.Sigma), R2: Num(r.R2),
 		AICc: Num(r.AICc), Iterations: r.Iterations}
+	out.Activity, out.Reason, out.ActivityP, out.Effect = string(r.Activity), r.Reason, Num(r.ActivityP), Num(r.Effect)
+	if r.Qualifier != "" {
+		q := r.Qualifier
+		out.Qualifier = &q
+	}
+	out.Bound = Num(r.Bound)
+	if r.Direction != fit.Flat {
+		d := string(r.Direction)
+		out.Direction = &d
+	}
+	out.PlateauZero, out.PlateauHigh = Num(r.PlateauZero), Num(r.PlateauHigh)
+	if r.Direction == fit.Falling {
+		ic := out.EC50
+		out.IC50, out.PIC50 = &ic, out.PEC50
+	} else {
+		out.PIC50 = Num(math.NaN())
+	}
+	if c := r.Comparison; c != nil {
+		out.Comparison = &Comparison{Simpler: string(c.Simpler), SimplerRSS: Num(c.SimplerRSS), SimplerDOF: c.SimplerDOF,
+			F: Num(c.F.F), P: Num(c.F.P), DeltaAICc: Num(c.DeltaAICc), Decided: c.Decided, PrefersSimpler: c.PrefersSimpler,
+			Verdict: c.Verdict}
+	}
+	out.Notes = append([]string{}, r.Notes...)
 	if b := r.Boot; b != nil {
 		out.Bootstrap = &BootstrapInfo{Resamples: b.Resamples, Failed: b.Failed, AtBound: b.AtBound,
 			JackknifeFailed: b.JackknifeFailed, Scheme: string(b.Scheme), Interval: string(b.Interval), Seed: b.Seed}

@@ -38,6 +38,9 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	seed := fs.Uint64("seed", 1, "bootstrap seed; the same seed gives the same intervals")
 	confidence := fs.Float64("confidence", 0.95, "confidence level of every interval")
 	maxHill := fs.Float64("max-hill", fit.DefaultMaxHill, "bound on the magnitude of the Hill slope")
+	alpha := fs.Float64("alpha", fit.DefaultActivityAlpha, "level of the F test against a flat line that calls a curve active")
+	window := fs.Float64("window", 0, "assay window in response units (e.g. 100 for percent of control); 0 means unknown, no minimum effect")
+	minEffect := fs.Float64("min-effect", fit.DefaultMinEffect, "smallest effect an active curve must show, as a fraction of --window")
 	workers := fs.Int("workers", 0, "goroutines; 0 means one per CPU")
 	format := fs.String("format", "table", "output: table, json or csv")
 	pos, err := parseInterspersed(fs, args)
@@ -88,7 +91,8 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail("%s: %v", name, err)
 	}
-	settings := &fit.Settings{Model: m, Fixed: fixed, Confidence: *confidence, MaxHill: *maxHill}
+	settings := &fit.Settings{Model: m, Fixed: fixed, Confidence: *confidence, MaxHill: *maxHill,
+		ActivityAlpha: *alpha, Window: *window, MinEffect: *minEffect}
 	var bs *fit.BootSettings
 	if *resamples > 0 {
 		bs = &fit.BootSettings{Resamples: *resamples, Scheme: fit.Scheme(*scheme),
@@ -123,12 +127,12 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 // writeTable prints one line per curve and the research-use caution.
 func writeTable(w io.Writer, results []*fit.Result) error {
 	tw := tabwriter.NewWriter(w, 0, 4, 2, ' ', 0)
-	fmt.Fprintln(tw, "curve\tmodel\tstatus\tpEC50\tEC50 (M)\tCI\thill\tbottom\ttop\tr²\tflags")
+	fmt.Fprintln(tw, "curve\tmodel\tstatus\tactivity\tpEC50|pIC50\tEC50|IC50 (M)\tCI\thill\tbottom\ttop\tr²\tflags")
 	for _, r := range results {
 		est, lo, hi := r.EC50()
 		h, b, t := r.HillSlope(), r.Bottom(), r.Top()
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t[%s, %s]\t%s\t%s\t%s\t%s\t%s\n", r.Curve, r.Model, r.Status,
-			g4(-math.Log10(est)), g3(est), g3(lo), g3(hi), g3(h.Estimate), g3(b.Estimate), g3(t.Estimate),
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t[%s, %s]\t%s\t%s\t%s\t%s\t%s\n", r.Curve, r.Model, r.Status, r.Activity,
+			qualified(r, true, g4(-math.Log10(est))), qualified(r, false, g3(est)), g3(lo), g3(hi), g3(h.Estimate), g3(b.Estimate), g3(t.Estimate),
 			g4(r.R2), strings.Join(r.Flags, ","))
 	}
 	if err := tw.Flush(); err != nil {
@@ -136,6 +140,26 @@ func writeTable(w io.Writer, results []*fit.Result) error {
 	}
 	_, err := fmt.Fprintf(w, "\n%s\n", wire.Caution)
 	return err
+}
+
+// qualified writes a potency the way screening results read: "-" with no
+// potency, the label of the direction ("pIC50 6.2" reads from the header),
+// and for an EC50 beyond the tested range the bound with its qualifier
+// ("> 3.16e-05", or for the p-value "< 4.5").
+func qualified(r *fit.Result, pValue bool, v string) string {
+	if !r.HasPotency() {
+		return "-"
+	}
+	q := r.Qualifier
+	if q != ">" && q != "<" {
+		return v
+	}
+	b := r.Bound
+	if pValue {
+		q = map[string]string{">": "<", "<": ">"}[q]
+		return q + " " + g4(-math.Log10(b))
+	}
+	return q + " " + g3(b)
 }
 
 func g3(v float64) string { return strconv.FormatFloat(v, 'g', 3, 64) }
@@ -157,7 +181,8 @@ func writeCSV(w io.Writer, results []*fit.Result) error {
 			header = append(header, p.Name, p.Name+"_se", p.Name+"_ci_lo", p.Name+"_ci_hi")
 		}
 	}
-	header = append(header, "ec50", "ec50_ci_lo", "ec50_ci_hi", "pec50", "n", "dof", "rss", "r2", "aicc", "flags")
+	header = append(header, "ec50", "ec50_ci_lo", "ec50_ci_hi", "pec50", "n", "dof", "rss", "r2", "aicc", "flags",
+		"activity", "qualifier", "bound", "direction")
 	if err := cw.Write(header); err != nil {
 		return err
 	}
@@ -172,7 +197,8 @@ func writeCSV(w io.Writer, results []*fit.Result) error {
 		}
 		est, lo, hi := r.EC50()
 		row = append(row, f(est), f(lo), f(hi), f(-math.Log10(est)), strconv.Itoa(r.N), strconv.Itoa(r.DOF),
-			f(r.RSS), f(r.R2), f(r.AICc), strings.Join(r.Flags, ";"))
+			f(r.RSS), f(r.R2), f(r.AICc), strings.Join(r.Flags, ";"),
+			string(r.Activity), r.Qualifier, f(r.Bound), string(r.Direction))
 		if err := cw.Write(row); err != nil {
 			return err
 		}

@@ -872,3 +872,46 @@ func TestKubernetesOverlayBuilds(t *testing.T) {
 		}
 	}
 }
+
+// deploy/README.md's deploy steps fit the manifests: the Secret it tells
+// the operator to create has the keys the pods read, and its first
+// `kubectl apply -l SELECTOR` takes the migration Job and everything it
+// needs but no API or worker object.
+func TestKubernetesReadme(t *testing.T) {
+	raw, err := os.ReadFile("../../deploy/README.md")
+	if err != nil {
+		t.Fatal(err)
+	}
+	readme := string(raw)
+	if !strings.Contains(readme, "create secret generic sluice") {
+		t.Error("deploy/README.md does not show how to create the Secret sluice")
+	}
+	for k := range secretKeys {
+		if !strings.Contains(readme, "--from-literal="+k+"=") {
+			t.Errorf("deploy/README.md's Secret command lacks the key %s", k)
+		}
+	}
+	m := regexp.MustCompile(`kubectl apply -f \S+ -l '([^']+)'`).FindStringSubmatch(readme)
+	if m == nil {
+		t.Fatal("deploy/README.md has no `kubectl apply -f … -l '…'` step")
+	}
+	sel, err := labels.Parse(m[1])
+	if err != nil {
+		t.Fatalf("deploy/README.md's selector %q: %v", m[1], err)
+	}
+	base := loadKustomization(t, filepath.Join(k8sDir, "base"))
+	for _, o := range base.objects {
+		kind, name := kindName(o)
+		l := o.(metav1.Object).GetLabels()
+		c := l["app.kubernetes.io/component"]
+		want := c != "api" && c != "worker"
+		if got := sel.Matches(labels.Set(l)); got != want {
+			t.Errorf("deploy/README.md's first apply (%s) takes %s %s: %v, want %v", m[1], kind, name, got, want)
+		}
+	}
+	for _, name := range []string{"sluice_jobs_queued", "sluice_jobs_running"} {
+		if !strings.Contains(readme, "as: "+name) {
+			t.Errorf("deploy/README.md's adapter rules do not serve %s", name)
+		}
+	}
+}

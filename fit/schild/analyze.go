@@ -173,10 +173,10 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 		res.Curves = append(res.Curves, r)
 	}
 	ctl := res.Curves[control]
-	if !ctl.Converged() {
+	if !ctl.HasPotency() {
 		res.addFlag(FlagCurveFailed)
 		res.Competitive = false
-		res.Withheld = "the control curve did not fit"
+		res.Withheld = "the control curve did not fit, or shows no response"
 		return res, nil
 	}
 	// Dose ratios, shape checks.
@@ -186,7 +186,7 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 		if i == control {
 			continue
 		}
-		if !r.Converged() {
+		if !r.HasPotency() {
 			res.addFlag(FlagCurveFailed)
 			continue
 		}
@@ -429,7 +429,7 @@ func chengPrusoff(res *Result, curves []Curve) *CPEstimate {
 	base := fit.Hill.Value(th0, a) - bottom0
 	var inh fit.Curve
 	for i, r := range res.Curves {
-		if i == res.Control || !r.Converged() {
+		if i == res.Control || !r.HasPotency() {
 			continue
 		}
 		f := fit.Hill.Value(r.Estimates(), a) - bottom0
@@ -439,7 +439,7 @@ func chengPrusoff(res *Result, curves []Curve) *CPEstimate {
 		return nil
 	}
 	r, err := fit.Fit(inh, &fit.Settings{Model: fit.Hill, Fixed: map[string]float64{"bottom": 0, "top": 100}})
-	if err != nil || !r.Converged() {
+	if err != nil || !r.HasPotency() {
 		return nil
 	}
 	ic50 := math.Pow(10, r.LogEC50().Estimate)

@@ -140,8 +140,9 @@ func (s *Server) writeAssayCSV(c *gin.Context, out *wire.AssayPotency) {
 			csvNum(m.MSR), csvNum(m.MSROverall), strconv.Itoa(ex["superseded"]), strconv.Itoa(ex["rejected"]),
 			strconv.Itoa(ex["plate_qc_failed"]), strconv.Itoa(ex["inactive"]), strconv.Itoa(ex["inconclusive"]), strconv.Itoa(ex["qualified"])})
 	}
-	_ = w.Write([]string{"# " + wire.Caution})
 	w.Flush()
+	// The caution as a comment line (csv.Reader's Comment '#').
+	fmt.Fprintf(c.Writer, "# %s\n", wire.Caution)
 	if err := w.Error(); err != nil {
 		s.log.Warn("assay potency csv", "assay", out.AssayID, "err", err)
 	}

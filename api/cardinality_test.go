@@ -1,15 +1,19 @@
 package api
 
 import (
+	"context"
 	"fmt"
 	"net/http/httptest"
 	"regexp"
+	"slices"
 	"strings"
 	"testing"
 
+	"sluice/api/service"
 	"sluice/db"
 	"sluice/db/dbtest"
 	"sluice/fit"
+	"sluice/fit/drift"
 )
 
 // Made-up methods and paths, sent without a token, do not grow /metrics:
@@ -80,6 +84,11 @@ func TestMetricLabelsBounded(t *testing.T) {
 		"status": regexp.MustCompile(`^[a-z_]+$`).MatchString, // lm.Status strings
 		"engine": func(v string) bool { return v == "sqlite" || v == "postgres" },
 		"kind":   func(v string) bool { return v == db.JobPlateFit || v == db.JobAnalysis },
+		// Drift: assays are created by hand (tens), metrics and rules are
+		// fixed lists.
+		"assay_id": func(v string) bool { _, err := ts.store.Assay(context.Background(), v); return err == nil },
+		"metric":   func(v string) bool { return slices.Contains(service.DriftMetricNames(), v) },
+		"rule":     func(v string) bool { _, err := drift.ParseRule(v); return err == nil },
 	}
 	fams, err := ts.reg.Gather()
 	if err != nil {

@@ -23,6 +23,7 @@ type metrics struct {
 	resamples     prometheus.Counter
 	failedRefits  prometheus.Counter
 	plateDuration prometheus.Histogram
+	drift         driftMetrics
 }
 
 func newMetrics(reg prometheus.Registerer, store db.Store, log *slog.Logger) (*metrics, error) {
@@ -51,9 +52,11 @@ func newMetrics(reg prometheus.Registerer, store db.Store, log *slog.Logger) (*m
 			Name: "sluice_plate_fit_duration_seconds", Help: "Time to fit every curve of a plate.",
 			Buckets: prometheus.ExponentialBuckets(0.01, 2, 14),
 		}),
+		drift: newDriftMetrics(),
 	}
 	cs := []prometheus.Collector{m.requests, m.duration, m.fits, m.fitDuration, m.resamples, m.failedRefits, m.plateDuration,
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{})}
+	cs = append(cs, m.drift.collectors()...)
 	if store != nil {
 		cs = append(cs, poolCollector{store}, jobsCollector{jobs: store, log: log})
 	}

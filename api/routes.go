@@ -20,9 +20,10 @@ import (
 // 400 naming it (knownParams), so a misspelt filter never silently selects
 // everything.
 var queryParams = map[string][]string{
-	"GET /v1/fits":       {"assay_id", "compound_id", "from", "to", "limit", "cursor"},
-	"POST /v1/plates":    {"format", "barcode", "assay_id", "measured_at", "conc_unit", "mode", "layout_id", "model", "resamples", "seed", "scheme", "interval", "wait"},
-	"POST /v1/potential": {"format"},
+	"GET /v1/fits":             {"assay_id", "compound_id", "from", "to", "limit", "cursor"},
+	"POST /v1/plates":          {"format", "barcode", "assay_id", "measured_at", "conc_unit", "mode", "layout_id", "model", "resamples", "seed", "scheme", "interval", "wait"},
+	"POST /v1/potential":       {"format"},
+	"GET /v1/assays/:id/drift": {"metric", "from", "to"},
 	// Potency histories.
 	"GET /v1/compounds/:id/potency":     {"assay_id", "from", "to", "include", "msr_window"},
 	"GET /v1/compounds/:id/potency.svg": {"assay_id", "from", "to", "msr_window"},
@@ -72,6 +73,8 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/msr-studies/:id", s.getMSRStudy)
 	read.GET("/plates", s.listPlates)
 	read.GET("/plates/:id/wells", s.plateWells)
+	read.GET("/assays/:id/drift", s.getDrift)
+	read.GET("/drift", s.listDrift)
 
 	// Writes: each handler builds the request's service.Idem from its
 	// Idempotency-Key (idemOf) and the use case does the rest.
@@ -90,6 +93,10 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	calc := r.Group("/v1", s.authenticate(ScopeRead))
 	calc.POST("/potential", s.postPotential)
 	calc.POST("/operational", s.postOperational)
+	calc.POST("/qc/rules", s.postQCRules)
+
+	admin := r.Group("/v1", s.authenticate(ScopeAdmin))
+	admin.PUT("/assays/:id/baselines/:metric", s.putBaseline)
 	return r
 }
 

@@ -2,6 +2,7 @@ package service
 
 import (
 	"context"
+	"time"
 
 	"sluice/db"
 )
@@ -70,6 +71,13 @@ type Potency interface {
 	PlateList(ctx context.Context, f db.PlateFilter) ([]db.Plate, string, error)
 }
 
+// Drift reads assays' drift series and charts.
+type Drift interface {
+	DriftPlates(ctx context.Context, assayID string, from, to time.Time) ([]db.DriftPlate, error)
+	AssayDriftCharts(ctx context.Context, assayID string) ([]db.DriftChart, error)
+	DriftCharts(ctx context.Context) ([]db.DriftChart, error)
+}
+
 // Store is everything the service reads and writes.
 type Store interface {
 	Writes
@@ -80,6 +88,7 @@ type Store interface {
 	Analyses
 	Plates
 	Potency
+	Drift
 }
 
 var _ Store = db.Store(nil)

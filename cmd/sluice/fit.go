@@ -131,8 +131,12 @@ func writeTable(w io.Writer, results []*fit.Result) error {
 	for _, r := range results {
 		est, lo, hi := r.EC50()
 		h, b, t := r.HillSlope(), r.Bottom(), r.Top()
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t[%s, %s]\t%s\t%s\t%s\t%s\t%s\n", r.Curve, r.Model, r.Status, r.Activity,
-			qualified(r, true, g4(-math.Log10(est))), qualified(r, false, g3(est)), g3(lo), g3(hi), g3(h.Estimate), g3(b.Estimate), g3(t.Estimate),
+		ci := "-"
+		if r.HasPotency() {
+			ci = "[" + g3(lo) + ", " + g3(hi) + "]"
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", r.Curve, r.Model, r.Status, r.Activity,
+			qualified(r, true, g4(-math.Log10(est))), qualified(r, false, g3(est)), ci, g3(h.Estimate), g3(b.Estimate), g3(t.Estimate),
 			g4(r.R2), strings.Join(r.Flags, ","))
 	}
 	if err := tw.Flush(); err != nil {

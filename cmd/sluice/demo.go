@@ -122,7 +122,10 @@ func loadDemo(ctx context.Context, store db.Store) (int, error) {
 			return n, fmt.Errorf("demo plate %s: %w", req.Barcode, err)
 		}
 	}
-	return n, nil
+	if err := loadDemoHistory(ctx, svc, store, who, rng); err != nil {
+		return n, err
+	}
+	return n + demoHistoryRuns, nil
 }
 
 // demoPlate is an invented 384-well plate: max controls in columns 1–2, min

@@ -245,6 +245,24 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 			t.Fatalf("%d runs, want 3 plate curves and 3 fits", len(h.Runs))
 		}
 		checkSummary(t, "all usable", &h, nil)
+		// Every plate curve carries its potency record's id.
+		var pv struct {
+			Curves []struct {
+				ID            string `json:"id"`
+				CompoundID    string `json:"compound_id"`
+				PlateQCFailed bool   `json:"plate_qc_failed"`
+			} `json:"curves"`
+		}
+		getJSON(t, ts, "/v1/plates/"+plates[0], &pv)
+		for _, c := range pv.Curves {
+			if c.CompoundID == "LX-205" && c.ID != h.Runs[0].ID {
+				t.Errorf("plate view curve id %q, history %q", c.ID, h.Runs[0].ID)
+			}
+		}
+		if csv := ts.do("GET", "/v1/plates/"+plates[0]+"/curves.csv", ScopeRead, "").Body.String(); !strings.Contains(csv, h.Runs[0].ID) ||
+			!strings.Contains(csv, "log_ec50_ci_lo,log_ec50_ci_hi,plate_qc,curve_id") {
+			t.Errorf("curves.csv has no curve id or log interval:\n%.300s", csv)
+		}
 		for i, r := range h.Runs[:3] {
 			if r.Kind != "plate_curve" || r.PlateID != plates[i] || r.Barcode != fmt.Sprintf("H-%d", i) {
 				t.Errorf("run %d: %s %s %s, want the plate curve of %s", i, r.Kind, r.PlateID, r.Barcode, plates[i])

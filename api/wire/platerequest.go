@@ -82,6 +82,18 @@ type LayoutCreated struct {
 	ConcUnit string `json:"conc_unit"`
 }
 
+// LayoutView is GET /v1/layouts/{id} (with its wells, concentrations
+// molar) and an item of GET /v1/layouts (without).
+type LayoutView struct {
+	ID        string `json:"id"`
+	Name      string `json:"name"`
+	Format    int    `json:"format"`
+	ConcUnit  string `json:"conc_unit"`
+	Wells     []Well `json:"wells,omitempty"`
+	CreatedAt string `json:"created_at"`
+	CreatedBy string `json:"created_by"`
+}
+
 // PlateView is GET /v1/plates/{id}: the plate, its job's progress, its QC
 // (PlateQC, null until assessed) and, once done, its curves (PlateCurve)
 // and Schild analyses.
@@ -124,6 +136,12 @@ type JobView struct {
 // PlateCurve is one curve of a plate: the result object with the compound
 // (and antagonist) it belongs to.
 type PlateCurve struct {
+	// ID is the curve's potency record (GET /v1/curves/{id}); set when
+	// read back, not stored in the document.
+	ID string `json:"id,omitempty"`
+	// PlateQCFailed: the plate failed QC, so the curve is not usable in
+	// potency histories by default. Set when read back.
+	PlateQCFailed  bool    `json:"plate_qc_failed,omitempty"`
 	Key            string  `json:"key"`
 	CompoundID     string  `json:"compound_id"`
 	AntagonistID   string  `json:"antagonist_id,omitempty"`

@@ -23,7 +23,7 @@ func hillFitBody(logEC50 float64, extra string) string {
 		c := math.Pow(10, logEC50-2.75+0.5*float64(k))
 		pts = append(pts, fmt.Sprintf(`{"conc":%.17g,"response":%.17g}`, c, fit.Hill.Value([]float64{0, 100, logEC50, 1}, c)))
 	}
-	return `{"model":"hill","points":[` + strings.Join(pts, ",") + `]` + extra + `}`
+	return `{"model":"hill","conc_unit":"M","points":[` + strings.Join(pts, ",") + `]` + extra + `}`
 }
 
 // postJSON posts and decodes the answer, failing unless the status is want.
@@ -209,12 +209,12 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 	dbtest.Engines(t, func(t *testing.T, store db.Store) {
 		ts := newTestServer(t, store)
 		startWorkers(t, ts)
-		catalogue(t, ts, "H-A", "LX-205")
+		catalogue(t, ts, "H-A", "demo-cpd-205")
 		var plates []string
 		for k := range 3 {
 			wells, _ := invented384(uint64(10 + k))
 			body, err := json.Marshal(map[string]any{"barcode": fmt.Sprintf("H-%d", k), "format": 384, "wells": wells,
-				"assay_id": "H-A", "measured_at": fmt.Sprintf("2026-03-0%dT08:00:00Z", k+1)})
+				"assay_id": "H-A", "conc_unit": "M", "measured_at": fmt.Sprintf("2026-03-0%dT08:00:00Z", k+1)})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -229,18 +229,21 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 			if err := json.Unmarshal(w.Body.Bytes(), &acc); err != nil {
 				t.Fatal(err)
 			}
+			if acc.Status != "done" {
+				t.Fatalf("plate: %.600s", w.Body)
+			}
 			plates = append(plates, acc.PlateID)
 		}
 		var fits []string
 		for k, l := range []float64{-7.4, -7.1, -7.3} {
 			var f struct{ ID string }
-			postJSON(t, ts, "/v1/fits", hillFitBody(l, fmt.Sprintf(`,"assay_id":"H-A","compound_id":"LX-205","measured_at":"2026-04-0%dT08:00:00Z"`, k+1)), 201, &f)
+			postJSON(t, ts, "/v1/fits", hillFitBody(l, fmt.Sprintf(`,"assay_id":"H-A","compound_id":"demo-cpd-205","measured_at":"2026-04-0%dT08:00:00Z"`, k+1)), 201, &f)
 			fits = append(fits, f.ID)
 		}
 		before := ts.do("GET", "/v1/fits/"+fits[0], ScopeRead, "").Body.String()
 
 		var h historyOut
-		getJSON(t, ts, "/v1/compounds/LX-205/potency?assay_id=H-A", &h)
+		getJSON(t, ts, "/v1/compounds/demo-cpd-205/potency?assay_id=H-A", &h)
 		if len(h.Runs) != 6 {
 			t.Fatalf("%d runs, want 3 plate curves and 3 fits", len(h.Runs))
 		}
@@ -255,7 +258,7 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 		}
 		getJSON(t, ts, "/v1/plates/"+plates[0], &pv)
 		for _, c := range pv.Curves {
-			if c.CompoundID == "LX-205" && c.ID != h.Runs[0].ID {
+			if c.CompoundID == "demo-cpd-205" && c.ID != h.Runs[0].ID {
 				t.Errorf("plate view curve id %q, history %q", c.ID, h.Runs[0].ID)
 			}
 		}
@@ -272,7 +275,7 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 		// Reject the second fit: it leaves the summary.
 		postJSON(t, ts, "/v1/curves/"+fits[1]+"/review", `{"decision":"rejected","reason":"tip clog"}`, 201, nil)
 		h = historyOut{}
-		getJSON(t, ts, "/v1/compounds/LX-205/potency?assay_id=H-A", &h)
+		getJSON(t, ts, "/v1/compounds/demo-cpd-205/potency?assay_id=H-A", &h)
 		checkSummary(t, "one rejected", &h, map[string]string{fits[1]: "rejected"})
 		if h.Summary.Excluded["rejected"] != 1 {
 			t.Errorf("excluded %v, want rejected 1", h.Summary.Excluded)
@@ -280,7 +283,7 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 		// Accepting it again makes it usable: the latest event is the state.
 		postJSON(t, ts, "/v1/curves/"+fits[1]+"/review", `{"decision":"accepted"}`, 201, nil)
 		h = historyOut{}
-		getJSON(t, ts, "/v1/compounds/LX-205/potency?assay_id=H-A&include=usable", &h)
+		getJSON(t, ts, "/v1/compounds/demo-cpd-205/potency?assay_id=H-A&include=usable", &h)
 		checkSummary(t, "accepted again", &h, nil)
 
 		// Refit the first plate curve without one well: the original is
@@ -298,7 +301,7 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 		}
 		first := h.Runs[0].ID
 		h = historyOut{}
-		getJSON(t, ts, "/v1/compounds/LX-205/potency?assay_id=H-A", &h)
+		getJSON(t, ts, "/v1/compounds/demo-cpd-205/potency?assay_id=H-A", &h)
 		checkSummary(t, "refitted", &h, map[string]string{first: "superseded"})
 		if len(h.Runs) != 7 || h.Summary.Excluded["superseded"] != 1 {
 			t.Errorf("%d runs, excluded %v: want 7 and superseded 1", len(h.Runs), h.Summary.Excluded)
@@ -310,7 +313,7 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 		var all struct {
 			Assays []historyOut `json:"assays"`
 		}
-		getJSON(t, ts, "/v1/compounds/LX-205/potency", &all)
+		getJSON(t, ts, "/v1/compounds/demo-cpd-205/potency", &all)
 		if len(all.Assays) != 1 || all.Assays[0].Summary.N != h.Summary.N {
 			t.Errorf("per assay: %+v", all.Assays)
 		}
@@ -327,7 +330,7 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 		getJSON(t, ts, "/v1/assays/H-A/potency", &tab)
 		found := false
 		for _, c := range tab.Compounds {
-			if c.CompoundID == "LX-205" {
+			if c.CompoundID == "demo-cpd-205" {
 				found = true
 				if c.Summary.N != h.Summary.N || !eqPtr(c.Summary.MSR, h.Summary.MSR) {
 					t.Errorf("table row %+v, history n %d msr %v", c.Summary, h.Summary.N, h.Summary.MSR)
@@ -335,14 +338,14 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 			}
 		}
 		if !found || len(tab.Compounds) != 16 {
-			t.Errorf("%d compounds in the table, LX-205 found %v; want the 16 of the plates", len(tab.Compounds), found)
+			t.Errorf("%d compounds in the table, demo-cpd-205 found %v; want the 16 of the plates", len(tab.Compounds), found)
 		}
 		csvw := ts.do("GET", "/v1/assays/H-A/potency?limit=2", ScopeRead, "", "Accept", "text/csv")
 		if csvw.Code != 200 || !strings.HasPrefix(csvw.Header().Get("Content-Type"), "text/csv") || csvw.Header().Get("Sluice-Next-Cursor") == "" {
 			t.Errorf("csv: %d %s %q", csvw.Code, csvw.Header().Get("Content-Type"), csvw.Header().Get("Sluice-Next-Cursor"))
 		}
 		// The plot draws every run, the excluded hollow with the reason.
-		svg := ts.do("GET", "/v1/compounds/LX-205/potency.svg?assay_id=H-A", ScopeRead, "")
+		svg := ts.do("GET", "/v1/compounds/demo-cpd-205/potency.svg?assay_id=H-A", ScopeRead, "")
 		if svg.Code != 200 || strings.Count(svg.Body.String(), `class="run`) != 7 || !strings.Contains(svg.Body.String(), "excluded: superseded") {
 			t.Errorf("svg: %d, %d runs drawn", svg.Code, strings.Count(svg.Body.String(), `class="run`))
 		}

@@ -57,7 +57,7 @@ func TestHistory(t *testing.T) {
 			c := math.Pow(10, l-2.75+0.5*float64(k))
 			pts = append(pts, fmt.Sprintf(`{"conc":%.17g,"response":%.17g}`, c, fit.Hill.Value([]float64{0, 100, l, 1}, c)))
 		}
-		post("/v1/fits", fmt.Sprintf(`{"points":[%s],"assay_id":"A1","compound_id":"C1","measured_at":"2026-05-0%dT10:00:00Z"}`,
+		post("/v1/fits", fmt.Sprintf(`{"conc_unit":"M","points":[%s],"assay_id":"A1","compound_id":"C1","measured_at":"2026-05-0%dT10:00:00Z"}`,
 			strings.Join(pts, ","), i+1))
 	}
 	args := []string{"history", "C1", "--assay", "A1", "--server", hs.URL, "--token", secret}

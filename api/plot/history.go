@@ -67,7 +67,7 @@ func (h *History) Write(w io.Writer) error {
 	tmin, tmax = tmin-0.04*span, tmax+0.04*span
 	ymin, ymax = math.Floor(ymin*2)/2-0.25, math.Ceil(ymax*2)/2+0.25
 	px := func(t float64) float64 { return left + (t-tmin)/(tmax-tmin)*(width-left-right) }
-	py := func(y float64) float64 { return height - bott - (y-ymin)/(ymax-ymin)*(height-top-bott) }
+	py := func(y float64) float64 { return height - bott - (y-ymin)/(ymax-ymin)*(height-topMin-bott) }
 
 	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" width="%d" height="%d" viewBox="0 0 %d %d" font-family="sans-serif" font-size="12">`+"\n", width, height, width, height)
 	fmt.Fprintf(&b, `<rect width="100%%" height="100%%" fill="white"/>`+"\n")
@@ -87,7 +87,7 @@ func (h *History) Write(w io.Writer) error {
 	}
 	// Axes and ticks.
 	fmt.Fprintf(&b, `<line x1="%d" y1="%d" x2="%d" y2="%d" stroke="black"/>`+"\n", left, height-bott, width-right, height-bott)
-	fmt.Fprintf(&b, `<line x1="%d" y1="%d" x2="%d" y2="%d" stroke="black"/>`+"\n", left, top, left, height-bott)
+	fmt.Fprintf(&b, `<line x1="%d" y1="%d" x2="%d" y2="%d" stroke="black"/>`+"\n", left, topMin, left, height-bott)
 	for _, y := range ticks(ymin, ymax) {
 		fmt.Fprintf(&b, `<line x1="%d" y1="%.1f" x2="%d" y2="%.1f" stroke="black"/><text x="%d" y="%.1f" text-anchor="end">%s</text>`+"\n",
 			left-4, py(y), left, py(y), left-7, py(y)+4, trimNum(y))
@@ -97,7 +97,7 @@ func (h *History) Write(w io.Writer) error {
 			px(float64(t.Unix())), height-bott, px(float64(t.Unix())), height-bott+4, px(float64(t.Unix())), height-bott+18, t.Format("2006-01-02"))
 	}
 	fmt.Fprintf(&b, `<text x="%d" y="%d" text-anchor="middle">experiment date (UTC)</text>`+"\n", (left+width-right)/2, height-bott+38)
-	fmt.Fprintf(&b, `<text x="18" y="%d" text-anchor="middle" transform="rotate(-90 18 %d)">pEC50</text>`+"\n", (top+height-bott)/2, (top+height-bott)/2)
+	fmt.Fprintf(&b, `<text x="18" y="%d" text-anchor="middle" transform="rotate(-90 18 %d)">pEC50</text>`+"\n", (topMin+height-bott)/2, (topMin+height-bott)/2)
 	// Runs: interval, then the point; hollow when excluded.
 	for _, r := range h.Runs {
 		if !finiteF(r.PEC50) {

@@ -203,6 +203,7 @@ func TestFitBadInput(t *testing.T) {
 		{"bad confidence", `{"confidence":1.5,"points":[` + six + `]}`, 422, "/confidence"},
 		{"bad resamples", `{"bootstrap":{"resamples":200000},"points":[` + six + `]}`, 422, "/bootstrap/resamples"},
 		{"bad scheme", `{"bootstrap":{"scheme":"wild"},"points":[` + six + `]}`, 422, "/bootstrap/scheme"},
+		{"case scheme on single points", `{"bootstrap":{"scheme":"case"},"points":[` + six + `]}`, 422, "/bootstrap/scheme"},
 		{"unknown field", `{"pionts":[]}`, 422, "/pionts"},
 		{"malformed JSON", `{"points":[`, 400, ""},
 		{"unknown assay", `{"assay_id":"nope","points":[` + six + `]}`, 422, "/assay_id"},

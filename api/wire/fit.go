@@ -79,8 +79,11 @@ type Param struct {
 	SE       Num     `json:"se"`
 	WaldCI   [2]Num  `json:"wald_ci"`
 	BootCI   *[2]Num `json:"boot_ci,omitempty"`
-	Fixed    bool    `json:"fixed"`
-	AtBound  bool    `json:"at_bound"`
+	// BootInterval is the method behind BootCI (bca or percentile): an
+	// estimate on a bound gets percentile even when bca was asked for.
+	BootInterval string `json:"boot_interval,omitempty"`
+	Fixed        bool   `json:"fixed"`
+	AtBound      bool   `json:"at_bound"`
 }
 
 // NamedParam is a parameter with its name.
@@ -186,6 +189,7 @@ func FromFit(r *fit.Result) FitResult {
 			WaldCI: [2]Num{Num(p.WaldLo), Num(p.WaldHi)}, Fixed: p.Fixed, AtBound: p.AtBound}}
 		if r.Boot != nil {
 			np.BootCI = &[2]Num{Num(p.BootLo), Num(p.BootHi)}
+			np.BootInterval = string(p.BootInterval)
 		}
 		out.Params = append(out.Params, np)
 	}

@@ -29,7 +29,7 @@ type Param struct {
 	// BootInterval is the method behind BootLo and BootHi: the one asked
 	// for, except that an estimate on a bound gets the percentile interval
 	// instead of BCa (bootstrap.go); "" without bootstrap or when fixed.
-	BootInterval Interval
+	BootInterval   Interval
 	Fixed, AtBound bool
 }
 

@@ -72,6 +72,10 @@ type BootSummary struct {
 	// JackknifeFailed counts leave-one-out refits that did not converge
 	// (BCa only); they are left out of the acceleration.
 	JackknifeFailed int
+	// Calibration is the factor by which each interval was widened about
+	// the estimate: t(ν, (1 + c)/2)/z((1 + c)/2), ν = N − p, for the
+	// residual scheme (calibration.go), 1 for the case scheme.
+	Calibration float64
 }
 
 func (b *BootSettings) resolve() (BootSettings, error) {
@@ -195,7 +199,10 @@ func (r *Result) bootstrap(ctx context.Context, s BootSettings, prog *Progress) 
 	if err != nil {
 		return fmt.Errorf("bootstrap of curve %q: %w", r.Curve, err)
 	}
-	sum := &BootSummary{Resamples: B, Scheme: s.Scheme, Interval: s.Interval, Seed: s.Seed, Draws: draws}
+	sum := &BootSummary{Resamples: B, Scheme: s.Scheme, Interval: s.Interval, Seed: s.Seed, Draws: draws, Calibration: 1}
+	if s.Scheme == SchemeResidual {
+		sum.Calibration = tCalibration(r.DOF, r.Confidence)
+	}
 	for b := range failed {
 		if failed[b] {
 			sum.Failed++
@@ -257,16 +264,17 @@ func (r *Result) bootstrap(ctx context.Context, s BootSettings, prog *Progress) 
 			if s.Interval == IntervalBCa {
 				fellBack = append(fellBack, p.Name)
 			}
-			continue
-		}
-		p.BootInterval = IntervalBCa
-		jcol = jcol[:0]
-		for i := 0; i < d.n; i++ {
-			if jackOK[i] {
-				jcol = append(jcol, jack[i*np+j])
+		} else {
+			jcol = jcol[:0]
+			for i := 0; i < d.n; i++ {
+				if jackOK[i] {
+					jcol = append(jcol, jack[i*np+j])
+				}
 			}
+			p.BootLo, p.BootHi = boot.BCa(col, p.Estimate, jcol, r.Confidence)
+			p.BootInterval = IntervalBCa
 		}
-		p.BootLo, p.BootHi = boot.BCa(col, p.Estimate, jcol, r.Confidence)
+		p.calibrate(sum.Calibration)
 	}
 	r.Boot = sum
 	if len(fellBack) > 0 {

@@ -256,7 +256,7 @@ func steepCurve() Curve {
 }
 
 // BCa is not used for an estimate on a bound: that parameter gets the
-// percentile interval of the same draws, says so in BootInterval and in a
+// (t-calibrated) percentile interval of the same draws, says so in BootInterval and in a
 // note; the others keep BCa.
 func TestBCaFallsBackToPercentileOnABound(t *testing.T) {
 	r, err := Fit(steepCurve(), nil)
@@ -286,7 +286,10 @@ func TestBCaFallsBackToPercentileOnABound(t *testing.T) {
 			}
 		}
 		slices.Sort(col)
-		lo, hi := boot.Percentile(col, r.Confidence)
+		want := Param{Estimate: p.Estimate}
+		want.BootLo, want.BootHi = boot.Percentile(col, r.Confidence)
+		want.calibrate(r.Boot.Calibration)
+		lo, hi := want.BootLo, want.BootHi
 		if p.BootLo != lo || p.BootHi != hi {
 			t.Errorf("%s: interval [%g, %g], want the percentile interval [%g, %g]", p.Name, p.BootLo, p.BootHi, lo, hi)
 		}

@@ -171,13 +171,17 @@ type Stats struct {
 
 // BootstrapInfo describes the resampling behind boot_ci.
 type BootstrapInfo struct {
-	Resamples       int    `json:"resamples"`
-	Failed          int    `json:"failed"`
-	AtBound         int    `json:"at_bound"`
-	JackknifeFailed int    `json:"jackknife_failed"`
-	Scheme          string `json:"scheme"`
-	Interval        string `json:"interval"`
-	Seed            uint64 `json:"seed"`
+	Resamples       int `json:"resamples"`
+	Failed          int `json:"failed"`
+	AtBound         int `json:"at_bound"`
+	JackknifeFailed int `json:"jackknife_failed"`
+	// Calibration is the factor t(N − p)/z by which each interval was
+	// widened about the estimate (residual scheme; 1 for case); absent
+	// from results of engines before 0.3.1, which did not widen.
+	Calibration *Num   `json:"calibration,omitempty"`
+	Scheme      string `json:"scheme"`
+	Interval    string `json:"interval"`
+	Seed        uint64 `json:"seed"`
 }
 
 // FromFit converts a fit.Result.
@@ -237,6 +241,8 @@ func FromFit(r *fit.Result) FitResult {
 	if b := r.Boot; b != nil {
 		out.Bootstrap = &BootstrapInfo{Resamples: b.Resamples, Failed: b.Failed, AtBound: b.AtBound,
 			JackknifeFailed: b.JackknifeFailed, Scheme: string(b.Scheme), Interval: string(b.Interval), Seed: b.Seed}
+		k := Num(b.Calibration)
+		out.Bootstrap.Calibration = &k
 	}
 	return out
 }

@@ -6,6 +6,7 @@ import (
 	"embed"
 	"fmt"
 	"io/fs"
+	"log/slog"
 	"strings"
 
 	"github.com/pressly/goose/v3"
@@ -23,6 +24,11 @@ type Options struct {
 	// the latest version already, or OpenWith fails saying to run `sluice
 	// migrate`. The zero value migrates, as Open does.
 	SkipMigrations bool
+
+	// Logger receives the job queue's (River's) logs, so that they join
+	// the service's own (JSON in `sluice serve`). Nil means River's
+	// default: text on standard output.
+	Logger *slog.Logger
 
 	// to is the version Migrate migrates to; 0 means the latest.
 	to int64

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"log/slog"
 	"strconv"
 	"sync"
 	"sync/atomic"
@@ -109,6 +110,7 @@ type riverQueue[TTx any] struct {
 	insert *river.Client[TTx]
 	txOf   func(querier) (TTx, bool)
 	poll   time.Duration
+	log    *slog.Logger // nil: River's default
 
 	mu     sync.Mutex
 	worker *river.Client[TTx]
@@ -145,12 +147,12 @@ func (q *riverQueue[TTx]) attempt(ctx context.Context, row *rivertype.JobRow, ta
 	return work(ctx)
 }
 
-func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(querier) (TTx, bool), poll time.Duration) (*riverQueue[TTx], error) {
-	insert, err := river.NewClient(driver, &river.Config{})
+func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(querier) (TTx, bool), poll time.Duration, log *slog.Logger) (*riverQueue[TTx], error) {
+	insert, err := river.NewClient(driver, &river.Config{Logger: log})
 	if err != nil {
 		return nil, fmt.Errorf("job queue: %w", err)
 	}
-	return &riverQueue[TTx]{driver: driver, insert: insert, txOf: txOf, poll: poll}, nil
+	return &riverQueue[TTx]{driver: driver, insert: insert, txOf: txOf, poll: poll, log: log}, nil
 }
 
 func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args river.JobArgs) (int64, error) {
@@ -235,6 +237,7 @@ func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 		RescueStuckJobsAfter: rescueAfter,
 		FetchPollInterval:    q.poll,
 		FetchCooldown:        q.poll / 2,
+		Logger:               q.log,
 	})
 	if err != nil {
 		return fmt.Errorf("job queue: %w", err)

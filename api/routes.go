@@ -53,6 +53,8 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/assays/:id", s.getAssay)
 	read.GET("/compounds", s.listCompounds)
 	read.GET("/compounds/:id", s.getCompound)
+	read.GET("/layouts", s.listLayouts)
+	read.GET("/layouts/:id", s.getLayout)
 	read.GET("/plates/:id", s.getPlate)
 	read.GET("/plates/:id/curves.csv", s.plateCurvesCSV)
 	read.GET("/plates/:id/heatmap.svg", s.plateHeatmap)

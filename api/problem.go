@@ -62,6 +62,7 @@ var statusTable = []struct {
 	{ingest.ErrMissingColumn, http.StatusUnprocessableEntity},
 	{ingest.ErrNoData, http.StatusUnprocessableEntity},
 	{ingest.ErrSyntax, http.StatusBadRequest},
+	{ingest.ErrNoUnit, http.StatusUnprocessableEntity},
 	{db.ErrReference, http.StatusUnprocessableEntity},
 	{db.ErrInvalid, http.StatusUnprocessableEntity},
 	{errUnauthenticated, http.StatusUnauthorized},

@@ -205,6 +205,7 @@ func TestFitBadInput(t *testing.T) {
 		{"bad confidence", `{"conc_unit":"M","confidence":1.5,"points":[` + six + `]}`, 422, "/confidence"},
 		{"bad resamples", `{"conc_unit":"M","bootstrap":{"resamples":200000},"points":[` + six + `]}`, 422, "/bootstrap/resamples"},
 		{"bad scheme", `{"conc_unit":"M","bootstrap":{"scheme":"wild"},"points":[` + six + `]}`, 422, "/bootstrap/scheme"},
+		{"case scheme on single points", `{"conc_unit":"M","bootstrap":{"scheme":"case"},"points":[` + six + `]}`, 422, "/bootstrap/scheme"},
 		{"unknown field", `{"pionts":[]}`, 422, "/pionts"},
 		{"malformed JSON", `{"conc_unit":"M","points":[`, 400, ""},
 		{"unknown assay", `{"conc_unit":"M","assay_id":"nope","points":[` + six + `]}`, 422, "/assay_id"},

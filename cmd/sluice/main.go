@@ -22,6 +22,8 @@ Usage:
                                    print a new API token (read, submit or admin)
   sluice token list                list the API tokens (never their secrets)
   sluice token revoke NAME         revoke an API token
+  sluice history COMPOUND --assay A --server URL --token T [--format table|json|csv]
+                                   a compound's potency history and its summary
   sluice demo                      load the invented demo scenario into the store
   sluice potential REQUEST.json|-  predict the membrane-potential shift of an agonist (offline)
   sluice schild FILE|- [flags]     Schild analysis of shifted agonist curves (offline)
@@ -57,6 +59,8 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return runSchild(args[1:], stdin, stdout, stderr)
 	case "potential":
 		return runPotential(args[1:], stdin, stdout, stderr)
+	case "history":
+		return runHistory(args[1:], os.Getenv, stdout, stderr)
 	case "demo":
 		return runDemo(args[1:], os.Getenv, stdout, stderr)
 	case "-h", "--help", "help":

@@ -12,6 +12,7 @@ import (
 	"net/http"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"github.com/gin-gonic/gin"
 )
@@ -68,6 +69,11 @@ func decodeJSON(body []byte, dst any) error {
 	if len(bytes.TrimSpace(body)) == 0 {
 		return &service.Error{Kind: errBadRequest, Detail: "the body is empty; want a JSON object"}
 	}
+	if !utf8.Valid(body) {
+		// encoding/json would read invalid bytes as U+FFFD and store
+		// text the client never sent; RFC 8259 §8.1 requires UTF-8.
+		return &service.Error{Kind: errBadRequest, Detail: fmt.Sprintf("the body is not valid UTF-8 (at byte %d)", invalidUTF8At(body))}
+	}
 	dec := json.NewDecoder(bytes.NewReader(body))
 	dec.DisallowUnknownFields()
 	err := dec.Decode(dst)
@@ -102,6 +108,18 @@ func decodeJSON(body []byte, dst any) error {
 		return &service.Error{Kind: errBadRequest, Detail: "the JSON body ends early"}
 	}
 	return &service.Error{Kind: errBadRequest, Detail: err.Error()}
+}
+
+// invalidUTF8At is the offset of the first byte that is not valid UTF-8.
+func invalidUTF8At(b []byte) int {
+	for i := 0; i < len(b); {
+		r, n := utf8.DecodeRune(b[i:])
+		if r == utf8.RuneError && n <= 1 {
+			return i
+		}
+		i += n
+	}
+	return len(b)
 }
 
 // pointerAt returns the JSON Pointer of the value that ends at byte offset

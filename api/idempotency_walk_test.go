@@ -100,6 +100,9 @@ func walkRoutes(t *testing.T) []walkRoute {
 		{"/v1/operational", ScopeRead, func(i int) string {
 			return `{"reference":[` + strings.Join(ref, ",") + `],"partial":[` + strings.Join(part, ",") + `],"confidence":0.9` + fmt.Sprint(i) + `}`
 		}, nil},
+		{"/v1/qc/rules", ScopeRead, func(i int) string {
+			return fmt.Sprintf(`{"baseline":{"mean":100,"sd":2},"points":[{"value":101},{"value":10%d,"group":"p2"}]}`, i)
+		}, nil},
 	}
 }
 

@@ -31,11 +31,17 @@ var (
 		"Jobs waiting for a worker (available, scheduled or retryable), by kind.", []string{"kind"}, nil)
 	jobsRunningDesc = prometheus.NewDesc("sluice_jobs_running",
 		"Jobs a worker has taken and not finished, by kind.", []string{"kind"}, nil)
+	jobsRetryableDesc = prometheus.NewDesc("sluice_jobs_retryable",
+		"Queued jobs that failed an attempt and wait for the next one, by kind.", []string{"kind"}, nil)
+	jobsDiscardedDesc = prometheus.NewDesc("sluice_jobs_discarded",
+		"Jobs whose last attempt failed (their plate or analysis is marked failed), still kept by the queue, by kind.", []string{"kind"}, nil)
 )
 
 func (j jobsCollector) Describe(ch chan<- *prometheus.Desc) {
 	ch <- jobsQueuedDesc
 	ch <- jobsRunningDesc
+	ch <- jobsRetryableDesc
+	ch <- jobsDiscardedDesc
 }
 
 func (j jobsCollector) Collect(ch chan<- prometheus.Metric) {
@@ -49,5 +55,7 @@ func (j jobsCollector) Collect(ch chan<- prometheus.Metric) {
 	for _, c := range counts {
 		ch <- prometheus.MustNewConstMetric(jobsQueuedDesc, prometheus.GaugeValue, float64(c.Queued), c.Kind)
 		ch <- prometheus.MustNewConstMetric(jobsRunningDesc, prometheus.GaugeValue, float64(c.Running), c.Kind)
+		ch <- prometheus.MustNewConstMetric(jobsRetryableDesc, prometheus.GaugeValue, float64(c.Retryable), c.Kind)
+		ch <- prometheus.MustNewConstMetric(jobsDiscardedDesc, prometheus.GaugeValue, float64(c.Discarded), c.Kind)
 	}
 }

@@ -23,6 +23,7 @@ type metrics struct {
 	resamples     prometheus.Counter
 	failedRefits  prometheus.Counter
 	plateDuration prometheus.Histogram
+	drift         driftMetrics
 }
 
 func newMetrics(reg prometheus.Registerer, store db.Store, log *slog.Logger) (*metrics, error) {
@@ -51,9 +52,11 @@ func newMetrics(reg prometheus.Registerer, store db.Store, log *slog.Logger) (*m
 			Name: "sluice_plate_fit_duration_seconds", Help: "Time to fit every curve of a plate.",
 			Buckets: prometheus.ExponentialBuckets(0.01, 2, 14),
 		}),
+		drift: newDriftMetrics(),
 	}
 	cs := []prometheus.Collector{m.requests, m.duration, m.fits, m.fitDuration, m.resamples, m.failedRefits, m.plateDuration,
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{})}
+	cs = append(cs, m.drift.collectors()...)
 	if store != nil {
 		cs = append(cs, poolCollector{store}, jobsCollector{jobs: store, log: log})
 	}
@@ -73,8 +76,21 @@ func (m *metrics) middleware(c *gin.Context) {
 	if route == "" {
 		route = "unmatched"
 	}
-	m.requests.WithLabelValues(route, c.Request.Method, strconv.Itoa(c.Writer.Status())).Inc()
-	m.duration.WithLabelValues(route, c.Request.Method).Observe(time.Since(start).Seconds())
+	method := methodLabel(c.Request.Method)
+	m.requests.WithLabelValues(route, method, strconv.Itoa(c.Writer.Status())).Inc()
+	m.duration.WithLabelValues(route, method).Observe(time.Since(start).Seconds())
+}
+
+// methodLabel maps a request's method to a fixed set of label values, so
+// that a client cannot grow the series without bound by sending made-up
+// methods (net/http accepts any token as a method): the methods of RFC 9110
+// §9 and PATCH, and "other" for the rest.
+func methodLabel(m string) string {
+	switch m {
+	case "GET", "HEAD", "POST", "PUT", "PATCH", "DELETE", "OPTIONS", "CONNECT", "TRACE":
+		return m
+	}
+	return "other"
 }
 
 // poolCollector reports the store's connection pool.

@@ -40,7 +40,7 @@ func (s *Server) plateCurvesCSV(c *gin.Context) {
 			for _, pr := range pc.Params {
 				header = append(header, pr.Name, pr.Name+"_se")
 			}
-			header = append(header, "ec50", "ec50_ci_lo", "ec50_ci_hi", "pec50", "n", "r2", "flags")
+			header = append(header, "ec50", "ec50_ci_lo", "ec50_ci_hi", "pec50", "n", "r2", "flags", "activity", "qualifier", "bound", "direction")
 			// A write error is the client's connection; Flush reports it.
 			_ = w.Write(header)
 		}
@@ -49,7 +49,7 @@ func (s *Server) plateCurvesCSV(c *gin.Context) {
 			row = append(row, num(pr.Estimate), num(pr.SE))
 		}
 		row = append(row, num(pc.EC50.Estimate), num(pc.EC50.CI[0]), num(pc.EC50.CI[1]), num(pc.PEC50), strconv.Itoa(pc.Stats.N),
-			num(pc.Stats.R2), strings.Join(pc.Flags, ";"))
+			num(pc.Stats.R2), strings.Join(pc.Flags, ";"), pc.Activity, deref(pc.Qualifier), num(pc.Bound), deref(pc.Direction))
 		_ = w.Write(row)
 	}
 	w.Flush()
@@ -81,4 +81,12 @@ func (s *Server) plateHeatmap(c *gin.Context) {
 		return
 	}
 	c.Data(http.StatusOK, "image/svg+xml", b.Bytes())
+}
+
+// deref is the string behind p, "" for nil (a JSON null).
+func deref(p *string) string {
+	if p == nil {
+		return ""
+	}
+	return *p
 }

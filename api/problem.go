@@ -61,6 +61,7 @@ var statusTable = []struct {
 	{ingest.ErrNotNumber, http.StatusUnprocessableEntity},
 	{ingest.ErrMissingColumn, http.StatusUnprocessableEntity},
 	{ingest.ErrNoData, http.StatusUnprocessableEntity},
+	{ingest.ErrSyntax, http.StatusBadRequest},
 	{db.ErrReference, http.StatusUnprocessableEntity},
 	{db.ErrInvalid, http.StatusUnprocessableEntity},
 	{errUnauthenticated, http.StatusUnauthorized},

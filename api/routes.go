@@ -2,6 +2,7 @@ package api
 
 import (
 	"errors"
+	"fmt"
 	"net/http"
 	"slices"
 	"strconv"
@@ -19,9 +20,10 @@ import (
 // 400 naming it (knownParams), so a misspelt filter never silently selects
 // everything.
 var queryParams = map[string][]string{
-	"GET /v1/fits":       {"assay_id", "compound_id", "from", "to", "limit", "cursor"},
-	"POST /v1/plates":    {"format", "barcode", "assay_id", "measured_at", "conc_unit", "mode", "layout_id", "model", "resamples", "seed", "scheme", "interval", "wait"},
-	"POST /v1/potential": {"format"},
+	"GET /v1/fits":             {"assay_id", "compound_id", "from", "to", "limit", "cursor"},
+	"POST /v1/plates":          {"format", "barcode", "assay_id", "measured_at", "conc_unit", "mode", "layout_id", "model", "resamples", "seed", "scheme", "interval", "wait"},
+	"POST /v1/potential":       {"format"},
+	"GET /v1/assays/:id/drift": {"metric", "from", "to"},
 }
 
 // routes is the whole API surface; the OpenAPI document lists the same
@@ -29,7 +31,7 @@ var queryParams = map[string][]string{
 func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	r := gin.New()
 	r.HandleMethodNotAllowed = true
-	r.Use(s.recoverer, s.metrics.middleware, s.limitBody, s.knownParams)
+	r.Use(s.recoverer, s.metrics.middleware, s.limitBody, s.knownParams, s.textParams)
 	r.NoRoute(func(c *gin.Context) {
 		s.writeProblem(c, &service.Error{Kind: errNotFoundRoute, Detail: "no such endpoint: " + c.Request.URL.Path})
 	})
@@ -58,6 +60,8 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/schild/:id/plot.svg", s.schildPlot)
 	read.GET("/analyses/:id", s.getAnalysis)
 	read.GET("/analyses/:id/result", s.getAnalysisResult)
+	read.GET("/assays/:id/drift", s.getDrift)
+	read.GET("/drift", s.listDrift)
 
 	// Writes: each handler builds the request's service.Idem from its
 	// Idempotency-Key (idemOf) and the use case does the rest.
@@ -73,6 +77,10 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	calc := r.Group("/v1", s.authenticate(ScopeRead))
 	calc.POST("/potential", s.postPotential)
 	calc.POST("/operational", s.postOperational)
+	calc.POST("/qc/rules", s.postQCRules)
+
+	admin := r.Group("/v1", s.authenticate(ScopeAdmin))
+	admin.PUT("/assays/:id/baselines/:metric", s.putBaseline)
 	return r
 }
 
@@ -132,4 +140,42 @@ func (s *Server) knownParams(c *gin.Context) {
 	}
 	e.Detail = "unknown query parameter " + strconv.Quote(unknown[0]) + ": " + e.Detail
 	s.writeProblem(c, e)
+}
+
+// MaxParamLen bounds a path or query parameter in bytes: IDs are at most a
+// few hundred bytes and a cursor less.
+const MaxParamLen = 1024
+
+// textParams refuses a path or query parameter that is not valid text
+// (service.ValidText: UTF-8 without control characters) or longer than
+// MaxParamLen, with a 400 naming it, before any store sees it: PostgreSQL
+// refuses such text where SQLite would look it up and find nothing, and
+// the answer must not depend on the engine.
+func (s *Server) textParams(c *gin.Context) {
+	check := func(name, v string) bool {
+		var d string
+		switch {
+		case len(v) > MaxParamLen:
+			d = fmt.Sprintf("%s is longer than %d bytes", name, MaxParamLen)
+		case !service.ValidText(v):
+			d = name + " must be valid UTF-8 without control characters"
+		default:
+			return true
+		}
+		s.writeProblem(c, &service.Error{Kind: errBadRequest, Detail: d, Fields: []FieldError{{Parameter: name, Detail: d}}})
+		return false
+	}
+	for _, p := range c.Params {
+		if !check(p.Key, p.Value) {
+			return
+		}
+	}
+	for name, vs := range c.Request.URL.Query() {
+		for _, v := range vs {
+			if !check(name, v) {
+				return
+			}
+		}
+	}
+	c.Next()
 }

@@ -4,9 +4,13 @@ import "context"
 
 const catalogueCols = "id, name, target, readout, units, created_at, created_by"
 
+// assayCols are an assay's columns: the catalogue's and its reference
+// compound.
+const assayCols = catalogueCols + ", reference_compound_id"
+
 func (w *sqlWriter) InsertAssay(ctx context.Context, a *Assay) error {
-	return w.insert(ctx, "InsertAssay", a.ID, "INSERT INTO assays ("+catalogueCols+") VALUES ($1, $2, $3, $4, $5, $6, $7)",
-		a.ID, a.Name, a.Target, a.Readout, a.Units, w.e.timeArg(a.CreatedAt), a.CreatedBy)
+	return w.insert(ctx, "InsertAssay", a.ID, "INSERT INTO assays ("+assayCols+") VALUES ($1, $2, $3, $4, $5, $6, $7, $8)",
+		a.ID, a.Name, a.Target, a.Readout, a.Units, w.e.timeArg(a.CreatedAt), a.CreatedBy, nullString(a.ReferenceCompoundID))
 }
 
 func (w *sqlWriter) InsertCompound(ctx context.Context, c *Compound) error {
@@ -17,12 +21,13 @@ func (w *sqlWriter) InsertCompound(ctx context.Context, c *Compound) error {
 func (s *sqlStore) Assay(ctx context.Context, id string) (*Assay, error) {
 	var a Assay
 	var t dbTime
-	err := s.e.queryRow(ctx, "SELECT "+catalogueCols+" FROM assays WHERE id = $1", id).
-		Scan(&a.ID, &a.Name, &a.Target, &a.Readout, &a.Units, &t, &a.CreatedBy)
+	var ref *string
+	err := s.e.queryRow(ctx, "SELECT "+assayCols+" FROM assays WHERE id = $1", id).
+		Scan(&a.ID, &a.Name, &a.Target, &a.Readout, &a.Units, &t, &a.CreatedBy, &ref)
 	if err != nil {
 		return nil, s.read("Assay", id, err)
 	}
-	a.CreatedAt = t.t
+	a.CreatedAt, a.ReferenceCompoundID = t.t, deref(ref)
 	return &a, nil
 }
 
@@ -39,7 +44,7 @@ func (s *sqlStore) Compound(ctx context.Context, id string) (*Compound, error) {
 }
 
 func (s *sqlStore) Assays(ctx context.Context) ([]Assay, error) {
-	rows, err := s.e.query(ctx, "SELECT "+catalogueCols+" FROM assays ORDER BY id")
+	rows, err := s.e.query(ctx, "SELECT "+assayCols+" FROM assays ORDER BY id")
 	if err != nil {
 		return nil, s.read("Assays", "", err)
 	}
@@ -48,10 +53,11 @@ func (s *sqlStore) Assays(ctx context.Context) ([]Assay, error) {
 	for rows.Next() {
 		var a Assay
 		var t dbTime
-		if err := rows.Scan(&a.ID, &a.Name, &a.Target, &a.Readout, &a.Units, &t, &a.CreatedBy); err != nil {
+		var ref *string
+		if err := rows.Scan(&a.ID, &a.Name, &a.Target, &a.Readout, &a.Units, &t, &a.CreatedBy, &ref); err != nil {
 			return nil, s.read("Assays", "", err)
 		}
-		a.CreatedAt = t.t
+		a.CreatedAt, a.ReferenceCompoundID = t.t, deref(ref)
 		out = append(out, a)
 	}
 	return out, s.read("Assays", "", rows.Err())

@@ -11,6 +11,13 @@ type JobCount struct {
 	Queued int64
 	// Running counts jobs a worker has taken and not finished.
 	Running int64
+	// Retryable counts the queued jobs that failed an attempt and wait
+	// for their next one (part of Queued).
+	Retryable int64
+	// Discarded counts jobs whose last attempt failed and that River keeps
+	// (it prunes them after a retention: 7 days by default); a rise means
+	// plates or analyses marked failed.
+	Discarded int64
 }
 
 // jobKinds are the kinds JobCounts always reports, in this order.
@@ -20,8 +27,8 @@ var jobKinds = [...]string{JobPlateFit, JobAnalysis}
 // Sluice's kinds (zero when there are none), in one query of River's job
 // table, the same SQL on both engines.
 func (s *sqlStore) JobCounts(ctx context.Context) ([]JobCount, error) {
-	rows, err := s.e.query(ctx, "SELECT kind, state = 'running', count(*) FROM river_job "+
-		"WHERE state IN ('available', 'scheduled', 'retryable', 'running') GROUP BY kind, state = 'running'")
+	rows, err := s.e.query(ctx, "SELECT kind, state, count(*) FROM river_job "+
+		"WHERE state IN ('available', 'scheduled', 'retryable', 'running', 'discarded') GROUP BY kind, state")
 	if err != nil {
 		return nil, s.read("JobCounts", "", err)
 	}
@@ -31,19 +38,24 @@ func (s *sqlStore) JobCounts(ctx context.Context) ([]JobCount, error) {
 		out[i].Kind = k
 	}
 	for rows.Next() {
-		var kind string
-		var running bool
+		var kind, state string
 		var n int64
-		if err := rows.Scan(&kind, &running, &n); err != nil {
+		if err := rows.Scan(&kind, &state, &n); err != nil {
 			return nil, s.read("JobCounts", "", err)
 		}
 		for i := range out {
 			if out[i].Kind != kind {
 				continue
 			}
-			if running {
+			switch state {
+			case "running":
 				out[i].Running += n
-			} else {
+			case "discarded":
+				out[i].Discarded += n
+			case "retryable":
+				out[i].Retryable += n
+				out[i].Queued += n
+			default:
 				out[i].Queued += n
 			}
 		}

@@ -22,6 +22,10 @@ type PlateQC struct {
 	MinMean, MinCV     float64
 	Pass               bool
 	Reasons            []string
+	// ReferencePEC50 is the pEC50 of the assay's reference compound on
+	// the plate (assay drift's reference_pec50); nil (NULL) for none, so
+	// the zero PlateQC claims no reference.
+	ReferencePEC50 *float64
 }
 
 // nullNaN binds NaN (and, for columns that cannot hold them, ±Inf) as NULL.
@@ -54,9 +58,9 @@ func (w *sqlWriter) SetPlateQC(ctx context.Context, plateID string, qc *PlateQC)
 	sb := nullNaN(qc.SignalToBackground)
 	unbounded := math.IsInf(qc.SignalToBackground, 1)
 	n, err := w.exec(ctx, op, plateID, "UPDATE plates SET z_prime = $2, signal_window = $3, signal_to_background = $4, "+
-		"sb_unbounded = $5, max_mean = $6, max_cv = $7, min_mean = $8, min_cv = $9, qc_pass = $10, qc_reasons = $11 WHERE id = $1",
+		"sb_unbounded = $5, max_mean = $6, max_cv = $7, min_mean = $8, min_cv = $9, qc_pass = $10, qc_reasons = $11, reference_pec50 = $12 WHERE id = $1",
 		plateID, nullNaN(qc.ZPrime), nullNaN(qc.SignalWindow), sb, unbounded, nullNaN(qc.MaxMean), nullNaN(qc.MaxCV),
-		nullNaN(qc.MinMean), nullNaN(qc.MinCV), qc.Pass, string(rj))
+		nullNaN(qc.MinMean), nullNaN(qc.MinCV), qc.Pass, string(rj), qc.ReferencePEC50)
 	if err != nil {
 		return err
 	}

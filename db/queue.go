@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"strconv"
 	"sync"
+	"sync/atomic"
 	"time"
 
 	"github.com/riverqueue/river"
@@ -65,6 +66,13 @@ type AnalysisFunc func(ctx context.Context, analysis, id string) error
 type Handlers struct {
 	Plate    WorkFunc
 	Analysis AnalysisFunc
+	// Failed, if set, is told when a job's last attempt fails (River
+	// discards the job next), with the job's kind, its target (plate or
+	// analysis ID) and the error, so that what waits on the job can be
+	// marked failed instead of waiting forever. It runs on a context of
+	// its own, bounded by failedTimeout; its error is logged by River
+	// with the job's.
+	Failed func(ctx context.Context, kind, target string, err error) error
 }
 
 // Queue settings.
@@ -77,6 +85,8 @@ const (
 	rescueAfter = 11 * time.Minute
 	// maxAttempts is how often a failing job is tried.
 	maxAttempts = 5
+	// failedTimeout bounds Handlers.Failed.
+	failedTimeout = 30 * time.Second
 	// hardStopWait bounds the wait for cancelled jobs to return after the
 	// caller's grace period (StopWorkers) or on Close.
 	hardStopWait = 10 * time.Second
@@ -105,6 +115,37 @@ type riverQueue[TTx any] struct {
 
 	mu     sync.Mutex
 	worker *river.Client[TTx]
+	// cancelling is set while stop cancels running jobs, so that their
+	// attempts are given back (attempt).
+	cancelling atomic.Bool
+}
+
+// attempt runs one attempt at a job. A panic is an error like any other.
+// An attempt cancelled by stop is snoozed (River's JobSnooze(0): the job is
+// available again at once and the attempt does not count), so that
+// shutdowns never use up a job's retries. River does the same by itself
+// only when the error wraps context.Canceled; a store error of a cancelled
+// query, or a handler's own wording, need not. When the last attempt fails,
+// failed is told before River discards the job.
+func (q *riverQueue[TTx]) attempt(ctx context.Context, row *rivertype.JobRow, target string,
+	failed func(ctx context.Context, kind, target string, err error) error, work func(context.Context) error) (err error) {
+	defer func() {
+		if v := recover(); v != nil {
+			err = fmt.Errorf("job %d (%s) panicked: %v", row.ID, row.Kind, v)
+		}
+		switch {
+		case err == nil:
+		case ctx.Err() != nil && q.cancelling.Load():
+			err = river.JobSnooze(0)
+		case row.Attempt >= row.MaxAttempts && failed != nil:
+			fctx, cancel := context.WithTimeout(context.WithoutCancel(ctx), failedTimeout)
+			defer cancel()
+			if ferr := failed(fctx, row.Kind, target, err); ferr != nil {
+				err = errors.Join(err, fmt.Errorf("record the failure: %w", ferr))
+			}
+		}
+	}()
+	return work(ctx)
 }
 
 func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(querier) (TTx, bool), poll time.Duration, o Options) (*riverQueue[TTx], error) {
@@ -176,16 +217,21 @@ func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 	ws := river.NewWorkers()
 	if h.Plate != nil {
 		river.AddWorker(ws, river.WorkFunc(func(ctx context.Context, job *river.Job[PlateFitArgs]) error {
-			return h.Plate(ctx, job.Args.PlateID)
+			return q.attempt(ctx, job.JobRow, job.Args.PlateID, h.Failed, func(ctx context.Context) error {
+				return h.Plate(ctx, job.Args.PlateID)
+			})
 		}))
 	}
 	if h.Analysis != nil {
 		river.AddWorker(ws, river.WorkFunc(func(ctx context.Context, job *river.Job[AnalysisArgs]) error {
-			return h.Analysis(ctx, job.Args.Analysis, job.Args.ID)
+			return q.attempt(ctx, job.JobRow, job.Args.ID, h.Failed, func(ctx context.Context) error {
+				return h.Analysis(ctx, job.Args.Analysis, job.Args.ID)
+			})
 		}))
 	}
 	q.mu.Lock()
 	defer q.mu.Unlock()
+	q.cancelling.Store(false)
 	if q.worker != nil {
 		return errors.New("job queue: workers already started")
 	}
@@ -223,6 +269,7 @@ func (q *riverQueue[TTx]) stop(ctx context.Context) error {
 	if soft == nil {
 		return nil
 	}
+	q.cancelling.Store(true)
 	hardCtx, cancel := context.WithTimeout(context.WithoutCancel(ctx), hardStopWait)
 	defer cancel()
 	if err := c.StopAndCancel(hardCtx); err != nil {

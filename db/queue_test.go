@@ -138,8 +138,14 @@ func TestStopWorkers(t *testing.T) {
 		if err == nil || cancelled.Load() != 1 || time.Since(t0) > 15*time.Second {
 			t.Fatalf("hard stop: %v after %v, cancelled %d", err, time.Since(t0), cancelled.Load())
 		}
-		if j, _ := s.Job(ctx, slow); j.State == "completed" || j.State == "running" {
+		j, _ := s.Job(ctx, slow)
+		if j.State == "completed" || j.State == "running" {
 			t.Errorf("slow job after a hard stop: %s, want it handed back", j.State)
+		}
+		// The cancelled attempt does not count (River's JobSnooze): five
+		// shutdowns during one long job must not discard it.
+		if j.Attempt != 0 || len(j.Errors) != 0 {
+			t.Errorf("slow job after a hard stop: attempt %d, errors %q; want the attempt given back", j.Attempt, j.Errors)
 		}
 	})
 }

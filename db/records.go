@@ -11,6 +11,10 @@ type Assay struct {
 	Units     string // response units, e.g. "% of max", "pA"
 	CreatedAt time.Time
 	CreatedBy string
+	// ReferenceCompoundID names the assay's reference compound, charted
+	// as reference_pec50; "" for none (then a plate's reference wells
+	// name it).
+	ReferenceCompoundID string
 }
 
 // Compound is a compound tested in assays.

@@ -80,6 +80,17 @@ type Plates interface {
 	// PlateQCSeries returns one QC metric over an assay's assessed plates,
 	// oldest experiment first.
 	PlateQCSeries(ctx context.Context, assayID, metric string, from, to time.Time) ([]QCPoint, error)
+	// DriftPlates returns an assay's assessed plates with every figure
+	// assay drift charts, oldest experiment first.
+	DriftPlates(ctx context.Context, assayID string, from, to time.Time) ([]DriftPlate, error)
+	// AssayDriftCharts returns an assay's stored drift charts by metric.
+	AssayDriftCharts(ctx context.Context, assayID string) ([]DriftChart, error)
+	// DriftCharts returns every stored drift chart with its latest
+	// recorded violation.
+	DriftCharts(ctx context.Context) ([]DriftChart, error)
+	// DriftViolations returns the recorded violations of an assay's
+	// metric, oldest experiment first.
+	DriftViolations(ctx context.Context, assayID, metric string) ([]DriftViolation, error)
 }
 
 // Tokens reads API tokens.
@@ -168,4 +179,9 @@ type Writer interface {
 	// SetPlateQC stores a plate's QC figures as columns.
 	SetPlateQC(ctx context.Context, plateID string, qc *PlateQC) error
 	InsertSchildRun(ctx context.Context, r *SchildRun) error
+	// UpsertDriftChart stores a drift chart's baseline and status.
+	UpsertDriftChart(ctx context.Context, c *DriftChart) error
+	// InsertDriftViolation records a rule violation once: ErrExists when
+	// that plate's rule on that chart is recorded already.
+	InsertDriftViolation(ctx context.Context, v *DriftViolation) error
 }

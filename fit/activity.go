@@ -15,12 +15,14 @@ const (
 	// (F test P < Settings.ActivityAlpha) and, when the assay window is
 	// known, the data show at least the minimum effect.
 	ActivityActive Activity = "active"
-	// ActivityInactive: a flat line explains the data as well (or the
-	// responses are identical, or the effect is below the minimum). No
-	// potency is reported.
+	// ActivityInactive: a flat line explains the data as well (also when
+	// the solver stopped without converging, singular or at its limit,
+	// on a curve no better than the line), or the responses are
+	// identical, or the effect is below the minimum. No potency is
+	// reported.
 	ActivityInactive Activity = "inactive"
-	// ActivityInconclusive: the test could not be run (too few points, or
-	// the fit did not converge on data that are not flat).
+	// ActivityInconclusive: the test could not be run (too few points), or
+	// the data differ from a flat line but the fit did not converge.
 	ActivityInconclusive Activity = "inconclusive"
 )
 
@@ -41,7 +43,9 @@ const (
 // P < α (Settings.ActivityAlpha, default 0.01) and, when Settings.Window is
 // set, the data's own effect (Result.Effect: level means at the lowest and
 // highest concentrations, not the fitted plateaus, which may be
-// extrapolated) is at least Settings.MinEffect·Window.
+// extrapolated) is at least Settings.MinEffect·Window. A fit that did not
+// converge is tested on the best RSS it reached: no better than a flat
+// line is inactive, better is inconclusive (the curve cannot be read).
 func (r *Result) callActivity() {
 	set, d := r.set, r.design
 	r.ActivityP, r.Effect = math.NaN(), d.effect(set.curve.monotone)
@@ -58,9 +62,22 @@ func (r *Result) callActivity() {
 	ft := FTest(d.tss, d.n-1, r.RSS, d.n-p)
 	r.ActivityP = ft.P
 	switch {
+	case !r.Converged() && !math.IsNaN(ft.P) && !(ft.P < set.alpha):
+		// The solver stopped without converging (on flat data typically
+		// singular, top ≈ bottom leaving potency and slope unidentified,
+		// or at its iteration limit wandering along that flat valley),
+		// and even the best curve it reached does no better than a flat
+		// line: there is no evidence of activity, and its potency means
+		// nothing.
+		r.addFlag(FlagNoResponse)
+		r.inactive(fmt.Sprintf("no response: the best curve found fits no better than a flat line (F test P = %.3g ≥ α = %g; the solver stopped %s)", ft.P, set.alpha, r.Status))
+		return
 	case !r.Converged():
 		r.Activity = ActivityInconclusive
-		r.Reason = fmt.Sprintf("the fit did not converge (%s), so activity cannot be tested", r.Status)
+		r.Reason = fmt.Sprintf("the data differ from a flat line (F test P = %.3g) but the fit did not converge (%s), so the curve cannot be read", ft.P, r.Status)
+		if math.IsNaN(ft.P) {
+			r.Reason = fmt.Sprintf("the fit did not converge (%s), so activity cannot be tested", r.Status)
+		}
 		return
 	case math.IsNaN(ft.P):
 		r.Activity = ActivityInconclusive

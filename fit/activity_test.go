@@ -40,6 +40,7 @@ func TestActivitySimulation(t *testing.T) {
 			falseActive++
 		case ActivityInconclusive:
 			inconclusive++
+			t.Logf("flat curve called inconclusive: %s", r.Reason)
 		}
 	}
 	lo, hi := binomialBand(flat, DefaultActivityAlpha, 0.99) // bootstrap_test.go, checked against FACTS §6

@@ -84,3 +84,25 @@ func BenchmarkCostUnit(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/units, "ns/unit")
 }
+
+// BenchmarkFitModels is one 30-point fit of each model on the same Hill
+// data (hill5 and bell search for their global optimum), and of Hill on a
+// flat curve (every start is tried, each to the iteration limit at worst).
+func BenchmarkFitModels(b *testing.B) {
+	c := benchCurves(1)[0]
+	flat := simulatedCurve(rand.New(rand.NewPCG(3, 5)), []float64{40, 40, -7, 1}, 5)
+	for _, bc := range []struct {
+		name string
+		c    Curve
+		m    Model
+	}{{"hill", c, Hill}, {"hill5", c, Hill5}, {"bell", c, Bell}, {"hill-flat", flat, Hill}} {
+		b.Run(bc.name, func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := Fit(bc.c, &Settings{Model: bc.m}); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

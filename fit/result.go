@@ -163,10 +163,14 @@ func (r *Result) spec() *Spec {
 // rising term).
 func (r *Result) LogEC50() Param { return r.Params[r.spec().roles.LogEC50] }
 
-// Bottom returns the lower plateau parameter, bottom.
+// Bottom returns the parameter bottom: the lower plateau of a Hill fit
+// (reported with bottom < top), but for a model without a twin it is only
+// the model's parameter (Hill5 with hill < 0 has bottom at high
+// concentration, whichever is larger); PlateauZero, PlateauHigh and
+// Direction name the plateaus by place.
 func (r *Result) Bottom() Param { return r.Params[r.spec().roles.Bottom] }
 
-// Top returns the upper plateau parameter, top.
+// Top returns the parameter top (see Bottom).
 func (r *Result) Top() Param { return r.Params[r.spec().roles.Top] }
 
 // HillSlope returns the slope parameter of the rise, hill: > 0 for a curve

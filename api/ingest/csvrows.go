@@ -121,7 +121,7 @@ func columns(header []string, required ...string) (map[string]int, error) {
 func csvError(err error) error {
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
-		return &ParseError{Line: pe.Line, Column: pe.Column, Err: pe.Err}
+		return &ParseError{Line: pe.Line, Column: pe.Column, Err: fmt.Errorf("%w: %w", ErrSyntax, pe.Err)}
 	}
 	return err
 }

@@ -36,7 +36,22 @@ var (
 	ErrNotNumber     = errors.New("not a number")
 	ErrBadValue      = errors.New("invalid value")
 	ErrNoData        = errors.New("no data rows")
+	// ErrSyntax: the text is not CSV (RFC 4180 quoting), as
+	// encoding/csv reports it.
+	ErrSyntax = errors.New("malformed CSV")
 )
+
+// IsInputError reports whether err is one of the sentinels above: the
+// client's fault, which the API answers with a 4xx (a test there checks
+// each). Every error a reader returns for any input must be one.
+func IsInputError(err error) bool {
+	for _, s := range []error{ErrMissingColumn, ErrNotNumber, ErrBadValue, ErrNoData, ErrSyntax} {
+		if errors.Is(err, s) {
+			return true
+		}
+	}
+	return false
+}
 
 // MaxCurveRows bounds the rows of one curve file.
 const MaxCurveRows = 1_000_000

@@ -103,6 +103,9 @@ func FuzzReadCurves(f *testing.F) {
 			if !errors.As(err, &pe) {
 				t.Fatalf("error %v (%T) is not a *ParseError", err, err)
 			}
+			if !IsInputError(err) { // the API's status < 500
+				t.Fatalf("error %v is not an input error: the API would answer 500", err)
+			}
 			return
 		}
 		var buf bytes.Buffer

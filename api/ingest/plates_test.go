@@ -52,6 +52,9 @@ func FuzzReadPlateCSV(f *testing.F) {
 			if !errors.As(err, &pe) {
 				t.Fatalf("%T %v", err, err)
 			}
+			if !IsInputError(err) { // the API's status < 500
+				t.Fatalf("error %v is not an input error: the API would answer 500", err)
+			}
 			return
 		}
 		for _, w := range ws {
@@ -71,6 +74,9 @@ func FuzzReadGrid(f *testing.F) {
 			var pe *ParseError
 			if !errors.As(err, &pe) {
 				t.Fatalf("%T %v", err, err)
+			}
+			if !IsInputError(err) { // the API's status < 500
+				t.Fatalf("error %v is not an input error: the API would answer 500", err)
 			}
 			return
 		}

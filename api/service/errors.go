@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"unicode"
+	"unicode/utf8"
 
 	"sluice/api/ingest"
 	"sluice/api/wire"
@@ -83,11 +85,34 @@ func EscapePointer(s string) string {
 	return strings.ReplaceAll(strings.ReplaceAll(s, "~", "~0"), "/", "~1")
 }
 
-// checkText refuses text the store cannot hold on either engine: a NUL
-// character (JSON's \u0000), which PostgreSQL refuses in text and jsonb.
+// MaxText bounds a free-text field (a name, a label, an ID naming another
+// record) in bytes; the store indexes some of them.
+const MaxText = 500
+
+// checkText refuses text the store must not hold, identically on both
+// engines: invalid UTF-8, control characters (Unicode category Cc: C0,
+// DEL and C1, NUL included, which PostgreSQL refuses in text and jsonb)
+// and more than MaxText bytes.
 func checkText(pointer, s string) error {
-	if strings.IndexByte(s, 0) >= 0 {
-		return Invalid(pointer, "text must not contain the NUL character (\\u0000)")
+	if len(s) > MaxText {
+		return Invalid(pointer, "text must be at most %d bytes", MaxText)
+	}
+	if !ValidText(s) {
+		return Invalid(pointer, "text must be valid UTF-8 without control characters")
 	}
 	return nil
+}
+
+// ValidText reports whether s is valid UTF-8 without control characters
+// (Unicode category Cc).
+func ValidText(s string) bool {
+	if !utf8.ValidString(s) {
+		return false
+	}
+	for _, r := range s {
+		if unicode.IsControl(r) {
+			return false
+		}
+	}
+	return true
 }

@@ -99,7 +99,8 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 		}
 	}
 	in.free = free
-	in.settings = fit.Settings{Model: model, Fixed: req.Fixed, Confidence: req.Confidence, MaxHill: req.MaxHill}
+	in.settings = fit.Settings{Model: model, Fixed: req.Fixed, Confidence: req.Confidence, MaxHill: req.MaxHill,
+		ActivityAlpha: req.ActivityAlpha, Window: req.Window, MinEffect: req.MinEffect}
 	if b := req.Bootstrap; b != nil {
 		in.boot = &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval),
 			Workers: s.fitWorkers}
@@ -259,7 +260,7 @@ func (s *Service) newFitRun(who Caller, req *wire.FitRequest, inputSHA string, r
 	}
 	var err error
 	run.Settings, err = json.Marshal(wire.FitSettings{Model: string(res.Model), Fixed: req.Fixed, Confidence: res.Confidence,
-		MaxHill: req.MaxHill, Bootstrap: req.Bootstrap})
+		MaxHill: req.MaxHill, Bootstrap: req.Bootstrap, ActivityAlpha: req.ActivityAlpha, Window: req.Window, MinEffect: req.MinEffect})
 	if err != nil {
 		return nil, fmt.Errorf("encode fit settings: %w", err)
 	}

@@ -35,9 +35,11 @@ func NewIdem(key, route string, params map[string]string, body []byte) (*Idem, e
 	if len(key) > MaxIdempotencyKey {
 		return nil, &Error{Kind: ErrBadRequest, Detail: fmt.Sprintf("Idempotency-Key is longer than %d bytes", MaxIdempotencyKey)}
 	}
-	for _, r := range key {
-		if r < 0x20 || r == 0x7f {
-			return nil, &Error{Kind: ErrBadRequest, Detail: "Idempotency-Key holds a control character"}
+	// Printable ASCII only: a header value's other bytes are obs-text
+	// (RFC 9110 §5.5) whose meaning proxies and clients disagree on.
+	for i := 0; i < len(key); i++ {
+		if key[i] < 0x20 || key[i] > 0x7e {
+			return nil, &Error{Kind: ErrBadRequest, Detail: "Idempotency-Key must be printable ASCII (0x20–0x7E)"}
 		}
 	}
 	h := sha256.New()

@@ -12,6 +12,12 @@ type Observer interface {
 	PlateCurveFitted(model, status string, resamples, failedRefits int)
 	// PlateFitted: every curve of a plate fitted in d.
 	PlateFitted(d time.Duration)
+	// DriftViolation: one rule violation recorded on an assay's chart
+	// (once per violation, never for a replay).
+	DriftViolation(assayID, metric, rule string)
+	// AssayDrift: an assay's charts were evaluated; outOfControl when any
+	// chart is out of control.
+	AssayDrift(assayID string, outOfControl bool)
 }
 
 // noObserver observes nothing.
@@ -20,3 +26,5 @@ type noObserver struct{}
 func (noObserver) CurveFitted(string, string, time.Duration, int, int) {}
 func (noObserver) PlateCurveFitted(string, string, int, int)           {}
 func (noObserver) PlateFitted(time.Duration)                           {}
+func (noObserver) DriftViolation(string, string, string)               {}
+func (noObserver) AssayDrift(string, bool)                             {}

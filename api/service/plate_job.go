@@ -72,7 +72,8 @@ func (s *Service) RunPlateJob(ctx context.Context, plateID string) error {
 		curves[i] = cs.Curve
 	}
 	s.setProgress(ctx, plateID, 0, len(curves))
-	fs := &fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill}
+	fs := &fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill,
+		ActivityAlpha: set.Fit.ActivityAlpha, Window: set.Fit.PlateWindow(), MinEffect: set.Fit.MinEffect}
 	var bs *fit.BootSettings
 	if b := set.Fit.Bootstrap; b != nil {
 		bs = &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval), Seed: *b.Seed}
@@ -122,13 +123,30 @@ func (s *Service) RunPlateJob(ctx context.Context, plateID string) error {
 	if err := ctx.Err(); err != nil {
 		return err
 	}
-	return s.store.Write(ctx, func(w db.Writer) error {
+	figures := &db.PlateQC{ZPrime: qc.ZPrime, SignalWindow: qc.SignalWindow,
+		SignalToBackground: qc.SignalBackground, MaxMean: qc.MeanMax, MaxCV: qc.CV["max_control"], MinMean: qc.MeanMin,
+		MinCV: qc.CV["min_control"], Pass: qc.Pass, Reasons: qc.Reasons}
+	var assayRef string
+	if p.AssayID != "" {
+		a, err := s.store.Assay(ctx, p.AssayID)
+		if err != nil {
+			return fmt.Errorf("plate %s assay: %w", plateID, err)
+		}
+		assayRef = a.ReferenceCompoundID
+	}
+	figures.ReferencePEC50 = referencePEC50(assayRef, wells, out)
+	// The plate joins its assay's drift charts in the transaction that
+	// stores its results (planned from the stored series beforehand).
+	drift, err := s.planDrift(ctx, p.AssayID, driftFigures(p, figures))
+	if err != nil {
+		return err
+	}
+	var news *driftNews
+	err = s.store.Write(ctx, func(w db.Writer) error {
 		if err := w.FinishPlate(ctx, plateID, db.PlateDone, qcJSON, out, ""); err != nil {
 			return err
 		}
-		if err := w.SetPlateQC(ctx, plateID, &db.PlateQC{ZPrime: qc.ZPrime, SignalWindow: qc.SignalWindow,
-			SignalToBackground: qc.SignalBackground, MaxMean: qc.MeanMax, MaxCV: qc.CV["max_control"], MinMean: qc.MeanMin,
-			MinCV: qc.CV["min_control"], Pass: qc.Pass, Reasons: qc.Reasons}); err != nil {
+		if err := w.SetPlateQC(ctx, plateID, figures); err != nil {
 			return err
 		}
 		for _, r := range runs {
@@ -137,8 +155,14 @@ func (s *Service) RunPlateJob(ctx context.Context, plateID string) error {
 				return err
 			}
 		}
-		return nil
+		news, err = drift.record(ctx, w)
+		return err
 	})
+	if err != nil {
+		return err
+	}
+	s.observeDrift(news)
+	return nil
 }
 
 // failPlate marks a plate that cannot be fitted whatever the retries.

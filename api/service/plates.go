@@ -176,10 +176,16 @@ func (s *Service) validatePlate(req *wire.PlateRequest, wells []ingest.WellIn, l
 	}
 	// Fit settings, checked by the engine itself.
 	set := wire.PlateSettings{QC: req.QC}
+	if req.QC != nil {
+		if field, err := req.QC.Check(); err != nil {
+			return nil, Invalid("/qc/"+field, "%v", err)
+		}
+	}
 	if req.Fit != nil {
 		set.Fit = *req.Fit
 	}
-	fs := fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill}
+	fs := fit.Settings{Model: fit.Model(set.Fit.Model), Fixed: set.Fit.Fixed, Confidence: set.Fit.Confidence, MaxHill: set.Fit.MaxHill,
+		ActivityAlpha: set.Fit.ActivityAlpha, Window: set.Fit.PlateWindow(), MinEffect: set.Fit.MinEffect}
 	if err := fs.Validate(); err != nil {
 		return nil, prefixPointer(err, "/fit")
 	}

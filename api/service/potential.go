@@ -25,6 +25,7 @@ type potentialModel struct {
 	nernst   map[string]float64
 	po       func(float64) float64
 	draws    []func(float64) float64
+	concs    []float64 // agonist_conc, molar
 	conf     float64
 	cautions []string
 }
@@ -142,15 +143,19 @@ func validatePotential(req *wire.PotentialRequest) (*potentialModel, error) {
 		return nil, Invalid("/agonist_conc", "give 1–%d concentrations (molar)", MaxAgonistConcs)
 	}
 	for i, c := range req.AgonistConc {
-		if !finiteNum(c) || c < 0 {
+		if c == nil || !finiteNum(*c) || *c < 0 {
 			return nil, Invalid(fmt.Sprintf("/agonist_conc/%d", i), "concentration must be a finite number ≥ 0 M")
 		}
+		m.concs = append(m.concs, *c)
 	}
 	switch {
 	case req.CurveID != "" && req.Hill != nil:
 		return nil, Invalid("/hill", "give curve_id or hill, not both")
 	case req.Hill != nil:
 		h := req.Hill
+		if req.PoMax != nil {
+			return nil, Invalid("/po_max", "po_max is for curve_id; hill carries its own (hill.po_max)")
+		}
 		if h.LogEC50 == nil || !finiteNum(*h.LogEC50) || *h.LogEC50 < -15 || *h.LogEC50 > 1 {
 			return nil, Invalid("/hill/log_ec50", "log_ec50 (log10 molar) is required, −15 to 1")
 		}
@@ -204,7 +209,7 @@ func potentialWork(req *wire.PotentialRequest, draws int) cost.Work {
 // at each concentration, their band over the bootstrap draws, and the
 // threshold concentration.
 func predictPotential(ctx context.Context, req *wire.PotentialRequest, m *potentialModel, workers int) (*wire.PotentialResponse, error) {
-	pred, err := membrane.Predict(ctx, m.rest, m.ch, m.po, req.AgonistConc)
+	pred, err := membrane.Predict(ctx, m.rest, m.ch, m.po, m.concs)
 	if err != nil {
 		return nil, err
 	}
@@ -221,7 +226,7 @@ func predictPotential(ctx context.Context, req *wire.PotentialRequest, m *potent
 	if len(m.draws) > 0 {
 		// The percentile interval of V(c) over the bootstrap parameter
 		// draws of the stored fit.
-		los, his, err := membrane.Band(ctx, m.rest, m.ch, m.draws, req.AgonistConc, m.conf, workers)
+		los, his, err := membrane.Band(ctx, m.rest, m.ch, m.draws, m.concs, m.conf, workers)
 		if err != nil {
 			return nil, err
 		}

@@ -78,7 +78,7 @@ func TestPotentialBandFromStoredDraws(t *testing.T) {
 	potential := func(id string) *Reply {
 		t.Helper()
 		pm := 0.7
-		req := &wire.PotentialRequest{CurveID: id, PoMax: &pm, AgonistConc: []float64{1, 4.5, 20},
+		req := &wire.PotentialRequest{CurveID: id, PoMax: &pm, AgonistConc: floats(1, 4.5, 20),
 			Channel: wire.ChannelIn{Count: 200, ConductancePS: 50, ReversalMV: new(float64)}, Cell: wire.CellIn{Preset: "neuron"}}
 		r, err := s.Potential(ctx, who, nil, req, false)
 		if err != nil {
@@ -132,4 +132,13 @@ func TestHardLimit(t *testing.T) {
 	if runs, _, err := store.FitRuns(ctx, db.FitFilter{}); err != nil || len(runs) != 1 {
 		t.Errorf("%d runs stored (%v), want the one under the limit", len(runs), err)
 	}
+}
+
+// floats gives pointers to vs, as agonist_conc holds them.
+func floats(vs ...float64) []*float64 {
+	ps := make([]*float64, len(vs))
+	for i := range vs {
+		ps[i] = &vs[i]
+	}
+	return ps
 }

@@ -2,6 +2,7 @@ package service
 
 import (
 	"context"
+	"time"
 
 	"sluice/db"
 )
@@ -56,6 +57,13 @@ type Plates interface {
 	Job(ctx context.Context, id int64) (*db.Job, error)
 }
 
+// Drift reads assays' drift series and charts.
+type Drift interface {
+	DriftPlates(ctx context.Context, assayID string, from, to time.Time) ([]db.DriftPlate, error)
+	AssayDriftCharts(ctx context.Context, assayID string) ([]db.DriftChart, error)
+	DriftCharts(ctx context.Context) ([]db.DriftChart, error)
+}
+
 // Store is everything the service reads and writes.
 type Store interface {
 	Writes
@@ -65,6 +73,7 @@ type Store interface {
 	SchildRuns
 	Analyses
 	Plates
+	Drift
 }
 
 var _ Store = db.Store(nil)

@@ -11,6 +11,13 @@ type FitRequest struct {
 	Confidence float64            `json:"confidence,omitempty"`
 	MaxHill    float64            `json:"max_hill,omitempty"`
 	Bootstrap  *BootstrapIn       `json:"bootstrap,omitempty"`
+	// The activity call (fit.Settings): the F test's α (0 means 0.01),
+	// the assay window in response units (0 means unknown: no minimum
+	// effect; plates default to 100, their data being percent of
+	// control) and the minimum effect as a fraction of it (0 means 0.2).
+	ActivityAlpha float64 `json:"activity_alpha,omitempty"`
+	Window        float64 `json:"window,omitempty"`
+	MinEffect     float64 `json:"min_effect,omitempty"`
 	// Store defaults to true.
 	Store      *bool             `json:"store,omitempty"`
 	AssayID    string            `json:"assay_id,omitempty"`
@@ -44,6 +51,13 @@ type FitSettings struct {
 	Confidence float64            `json:"confidence"`
 	MaxHill    float64            `json:"max_hill,omitempty"`
 	Bootstrap  *BootstrapIn       `json:"bootstrap,omitempty"`
+	// The activity call (fit.Settings): the F test's α (0 means 0.01),
+	// the assay window in response units (0 means unknown: no minimum
+	// effect; plates default to 100, their data being percent of
+	// control) and the minimum effect as a fraction of it (0 means 0.2).
+	ActivityAlpha float64 `json:"activity_alpha,omitempty"`
+	Window        float64 `json:"window,omitempty"`
+	MinEffect     float64 `json:"min_effect,omitempty"`
 }
 
 // FitInput is a stored fit's input document: the points as submitted, in

@@ -40,6 +40,13 @@ type PlateFit struct {
 	Confidence float64            `json:"confidence,omitempty"`
 	MaxHill    float64            `json:"max_hill,omitempty"`
 	Bootstrap  *BootstrapIn       `json:"bootstrap,omitempty"`
+	// The activity call (fit.Settings): the F test's α (0 means 0.01),
+	// the assay window in response units (0 means unknown: no minimum
+	// effect; plates default to 100, their data being percent of
+	// control) and the minimum effect as a fraction of it (0 means 0.2).
+	ActivityAlpha float64 `json:"activity_alpha,omitempty"`
+	Window        float64 `json:"window,omitempty"`
+	MinEffect     float64 `json:"min_effect,omitempty"`
 }
 
 // PlateSettings is a stored plate's settings document: what its job needs
@@ -122,4 +129,13 @@ type PlateCurve struct {
 	AntagonistID   string  `json:"antagonist_id,omitempty"`
 	AntagonistConc float64 `json:"antagonist_conc,omitempty"`
 	FitResult
+}
+
+// PlateWindow is the assay window of a plate's curves: Window when set,
+// else 100, since plate curves are normalised to percent of control.
+func (f PlateFit) PlateWindow() float64 {
+	if f.Window == 0 {
+		return 100
+	}
+	return f.Window
 }

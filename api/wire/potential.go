@@ -8,11 +8,13 @@ type PotentialRequest struct {
 	Hill    *HillIn `json:"hill,omitempty"`
 	// PoMax is the open probability at the fitted maximum, for CurveID
 	// (Hill carries its own); default 1.
-	PoMax       *float64  `json:"po_max,omitempty"`
-	AgonistConc []float64 `json:"agonist_conc"`
-	Channel     ChannelIn `json:"channel"`
-	Cell        CellIn    `json:"cell"`
-	ThresholdMV *float64  `json:"threshold_mv,omitempty"`
+	PoMax *float64 `json:"po_max,omitempty"`
+	// AgonistConc holds pointers so that a null element is seen (and
+	// refused) instead of read as 0 M.
+	AgonistConc []*float64 `json:"agonist_conc"`
+	Channel     ChannelIn  `json:"channel"`
+	Cell        CellIn     `json:"cell"`
+	ThresholdMV *float64   `json:"threshold_mv,omitempty"`
 }
 
 // HillIn is a Hill curve for the open fraction.

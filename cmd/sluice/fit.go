@@ -38,6 +38,9 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	seed := fs.Uint64("seed", 1, "bootstrap seed; the same seed gives the same intervals")
 	confidence := fs.Float64("confidence", 0.95, "confidence level of every interval")
 	maxHill := fs.Float64("max-hill", fit.DefaultMaxHill, "bound on the magnitude of the Hill slope")
+	alpha := fs.Float64("alpha", fit.DefaultActivityAlpha, "level of the F test against a flat line that calls a curve active")
+	window := fs.Float64("window", 0, "assay window in response units (e.g. 100 for percent of control); 0 means unknown, no minimum effect")
+	minEffect := fs.Float64("min-effect", fit.DefaultMinEffect, "smallest effect an active curve must show, as a fraction of --window")
 	workers := fs.Int("workers", 0, "goroutines; 0 means one per CPU")
 	format := fs.String("format", "table", "output: table, json or csv")
 	pos, err := parseInterspersed(fs, args)
@@ -88,7 +91,8 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail("%s: %v", name, err)
 	}
-	settings := &fit.Settings{Model: m, Fixed: fixed, Confidence: *confidence, MaxHill: *maxHill}
+	settings := &fit.Settings{Model: m, Fixed: fixed, Confidence: *confidence, MaxHill: *maxHill,
+		ActivityAlpha: *alpha, Window: *window, MinEffect: *minEffect}
 	var bs *fit.BootSettings
 	if *resamples > 0 {
 		bs = &fit.BootSettings{Resamples: *resamples, Scheme: fit.Scheme(*scheme),
@@ -127,8 +131,12 @@ func writeTable(w io.Writer, results []*fit.Result) error {
 	for _, r := range results {
 		est, lo, hi := r.EC50()
 		h, b, t := r.HillSlope(), r.Bottom(), r.Top()
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t[%s, %s]\t%s\t%s\t%s\t%s\t%s\n", r.Curve, r.Model, r.Status, r.Activity,
-			qualified(r, true, g4(-math.Log10(est))), qualified(r, false, g3(est)), g3(lo), g3(hi), g3(h.Estimate), g3(b.Estimate), g3(t.Estimate),
+		ci := "-"
+		if r.HasPotency() {
+			ci = "[" + g3(lo) + ", " + g3(hi) + "]"
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", r.Curve, r.Model, r.Status, r.Activity,
+			qualified(r, true, g4(-math.Log10(est))), qualified(r, false, g3(est)), ci, g3(h.Estimate), g3(b.Estimate), g3(t.Estimate),
 			g4(r.R2), strings.Join(r.Flags, ","))
 	}
 	if err := tw.Flush(); err != nil {

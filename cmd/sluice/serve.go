@@ -99,7 +99,7 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		// Two jobs at a time: each already fits its curves on every core.
 		// Plates, and single analyses over the synchronous budget.
 		svc := srv.Service()
-		if err := store.StartHandlers(context.WithoutCancel(ctx), db.Handlers{Plate: svc.RunPlateJob, Analysis: svc.RunAnalysis}, 2); err != nil {
+		if err := store.StartHandlers(context.WithoutCancel(ctx), db.Handlers{Plate: svc.RunPlateJob, Analysis: svc.RunAnalysis, Failed: svc.JobFailed}, 2); err != nil {
 			log.Error("start workers", "err", err)
 			return 1
 		}

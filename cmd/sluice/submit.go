@@ -9,6 +9,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"net/http"
 	"net/url"
 	"os"
@@ -276,13 +277,23 @@ func printSummary(w io.Writer, v *wire.PlateView) {
 		fmt.Fprintf(w, "  error: %s\n", v.Error)
 	}
 	tw := tabwriter.NewWriter(w, 0, 4, 2, ' ', 0)
-	fmt.Fprintln(tw, "  curve\tstatus\tpEC50\tEC50 (M)\t95% CI\tflags")
+	fmt.Fprintln(tw, "  curve\tstatus\tactivity\tpEC50|pIC50\tEC50|IC50 (M)\t95% CI\tflags")
 	for _, raw := range v.Curves {
 		var pc wire.PlateCurve
 		if json.Unmarshal(raw, &pc) != nil {
 			continue
 		}
-		fmt.Fprintf(tw, "  %s\t%s\t%.2f\t%.3g\t[%.3g, %.3g]\t%s\n", pc.Key, pc.Status, float64(pc.PEC50), float64(pc.EC50.Estimate),
+		// An inactive curve has no potency (null, shown as -); one
+		// beyond the tested range reads as the bound with its qualifier.
+		pe, ec := "-", "-"
+		if !math.IsNaN(float64(pc.PEC50)) {
+			pe, ec = fmt.Sprintf("%.2f", float64(pc.PEC50)), fmt.Sprintf("%.3g", float64(pc.EC50.Estimate))
+			if q := pc.Qualifier; q != nil && (*q == ">" || *q == "<") && !math.IsNaN(float64(pc.Bound)) {
+				pq := map[string]string{">": "<", "<": ">"}[*q]
+				pe, ec = fmt.Sprintf("%s %.2f", pq, -math.Log10(float64(pc.Bound))), fmt.Sprintf("%s %.3g", *q, float64(pc.Bound))
+			}
+		}
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t[%.3g, %.3g]\t%s\n", pc.Key, pc.Status, pc.Activity, pe, ec,
 			float64(pc.EC50.CI[0]), float64(pc.EC50.CI[1]), strings.Join(pc.Flags, ","))
 	}
 	tw.Flush()

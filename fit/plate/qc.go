@@ -182,3 +182,28 @@ func Assess(f Format, wells []Measured, th Thresholds) (*QC, error) {
 }
 
 func maxAbs(a, b float64) float64 { return math.Max(a, math.Abs(b)) }
+
+// Check reports the first threshold outside its range, naming its JSON
+// field: z_prime_min in (−∞, 1) (Z′ ≤ 1 always, so 1 or more fails every
+// plate), signal_window_min ≥ 0, cv_max ≥ 0, edge_max and pattern_max in
+// [0, 1] (fractions of the control window); every one finite. Zero is the
+// default, as in Thresholds.
+func (t Thresholds) Check() (field string, err error) {
+	for _, c := range []struct {
+		field  string
+		v      float64
+		ok     bool
+		wanted string
+	}{
+		{"z_prime_min", t.ZPrimeMin, t.ZPrimeMin < 1, "below 1"},
+		{"signal_window_min", t.SignalWindowMin, t.SignalWindowMin >= 0, "≥ 0"},
+		{"cv_max", t.CVMax, t.CVMax >= 0, "≥ 0 (percent)"},
+		{"edge_max", t.EdgeMax, t.EdgeMax >= 0 && t.EdgeMax <= 1, "in [0, 1]"},
+		{"pattern_max", t.PatternMax, t.PatternMax >= 0 && t.PatternMax <= 1, "in [0, 1]"},
+	} {
+		if !c.ok || math.IsInf(c.v, 0) || math.IsNaN(c.v) {
+			return c.field, fmt.Errorf("%w: %s %g must be finite and %s", ErrInvalid, c.field, c.v, c.wanted)
+		}
+	}
+	return "", nil
+}

@@ -1,0 +1,62 @@
+package service
+
+import (
+	"context"
+	"fmt"
+	"time"
+
+	"sluice/api/wire"
+)
+
+// DriftChart is GET /v1/assays/{id}/drift: one metric of an assay over
+// its assessed plates, judged now against the chart's baseline (stored
+// violations are not rewritten: see DriftViolations in db). The whole
+// series is evaluated (EWMA and CUSUM carry the past), then points with
+// measured_at in [from, to) are returned (zero does not bound).
+func (s *Service) DriftChart(ctx context.Context, assayID, metric string, from, to time.Time) (*wire.DriftChart, error) {
+	ev, err := s.evaluateChart(ctx, assayID, metric)
+	if err != nil {
+		return nil, err
+	}
+	return ev.wireChart(assayID, from, to), nil
+}
+
+// evaluateChart reads an assay's series and charts one metric.
+func (s *Service) evaluateChart(ctx context.Context, assayID, metric string) (*evaluated, error) {
+	if !validMetric(metric) {
+		return nil, BadParameter("metric", "metric %q is not charted; want one of %s", metric, metricNames)
+	}
+	if _, err := s.store.Assay(ctx, assayID); err != nil {
+		return nil, err
+	}
+	var zero time.Time
+	plates, err := s.store.DriftPlates(ctx, assayID, zero, zero)
+	if err != nil {
+		return nil, fmt.Errorf("drift series of assay %s: %w", assayID, err)
+	}
+	stored, err := s.store.AssayDriftCharts(ctx, assayID)
+	if err != nil {
+		return nil, fmt.Errorf("drift charts of assay %s: %w", assayID, err)
+	}
+	return evaluateMetric(metric, plates, chartsByMetric(stored))
+}
+
+// DriftOverview is GET /v1/drift: every charted assay and metric with its
+// status after its latest evaluation and its latest recorded violation.
+func (s *Service) DriftOverview(ctx context.Context) (*wire.DriftOverview, error) {
+	cs, err := s.store.DriftCharts(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("drift charts: %w", err)
+	}
+	out := &wire.DriftOverview{Charts: make([]wire.DriftStatus, 0, len(cs))}
+	for _, c := range cs {
+		st := wire.DriftStatus{AssayID: c.AssayID, Metric: c.Metric, Status: c.Status, UpdatedAt: c.UpdatedAt.Format(time.RFC3339Nano)}
+		if v := c.Latest; v != nil {
+			st.LatestViolation = &wire.DriftViolation{PlateID: v.PlateID, Rule: v.Rule, MeasuredAt: v.MeasuredAt.Format(time.RFC3339Nano),
+				Value: wire.Num(v.Value), Z: wire.Num(v.Z), Baseline: wire.DriftBaseline{Mean: wire.Num(v.BaselineMean), SD: wire.Num(v.BaselineSD),
+					Source: v.BaselineSource}, RecordedAt: v.RecordedAt.Format(time.RFC3339Nano)}
+		}
+		out.Charts = append(out.Charts, st)
+	}
+	return out, nil
+}

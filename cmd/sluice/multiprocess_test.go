@@ -329,8 +329,8 @@ type jobWatch struct {
 	// released: (job, attempt) → first seen waiting again after that
 	// attempt (rescued, or handed back).
 	released map[[2]int64]time.Time
-	cancel  context.CancelFunc
-	done    chan struct{}
+	cancel   context.CancelFunc
+	done     chan struct{}
 }
 
 func newJobWatch(ctx context.Context, t *testing.T, dbURL string) *jobWatch {

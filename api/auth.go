@@ -68,14 +68,13 @@ func (s *Server) authenticate(scope string) gin.HandlerFunc {
 			c.Next()
 			return
 		}
-		h := c.GetHeader("Authorization")
-		secret, ok := strings.CutPrefix(h, "Bearer ")
-		if !ok || strings.TrimSpace(secret) == "" {
+		secret, ok := bearer(c.GetHeader("Authorization"))
+		if !ok {
 			c.Header("WWW-Authenticate", `Bearer realm="sluice"`)
 			s.writeProblem(c, &service.Error{Kind: errUnauthenticated, Detail: "send Authorization: Bearer <token>"})
 			return
 		}
-		tok, err := s.tokens.lookup(c.Request.Context(), HashToken(strings.TrimSpace(secret)))
+		tok, err := s.tokens.lookup(c.Request.Context(), HashToken(secret))
 		if errors.Is(err, db.ErrNotFound) {
 			c.Header("WWW-Authenticate", `Bearer realm="sluice", error="invalid_token"`)
 			s.writeProblem(c, &service.Error{Kind: errUnauthenticated, Detail: "the token is not valid"})
@@ -94,6 +93,17 @@ func (s *Server) authenticate(scope string) gin.HandlerFunc {
 		c.Set(scopeKey, tok.Scope)
 		c.Next()
 	}
+}
+
+// bearer returns the token of an Authorization header of the Bearer scheme,
+// whose name is case-insensitive (RFC 9110 §11.1; RFC 6750 §2.1).
+func bearer(h string) (string, bool) {
+	scheme, secret, ok := strings.Cut(h, " ")
+	secret = strings.TrimSpace(secret)
+	if !ok || !strings.EqualFold(scheme, "Bearer") || secret == "" {
+		return "", false
+	}
+	return secret, true
 }
 
 // tokenTTL is how long a looked-up token is trusted without asking the

@@ -6,6 +6,7 @@ import (
 	"embed"
 	"fmt"
 	"io/fs"
+	"log/slog"
 	"strings"
 	"time"
 
@@ -32,6 +33,11 @@ type Options struct {
 	// the defaults: 10 min and 11 min (jobTimeout, rescueAfter); range
 	// 1s–24h.
 	JobTimeout, RescueAfter time.Duration
+
+	// Logger receives the job queue's (River's) logs, so that they join
+	// the service's own (JSON in `sluice serve`). Nil means River's
+	// default: text on standard output.
+	Logger *slog.Logger
 
 	// to is the version Migrate migrates to; 0 means the latest.
 	to int64

@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"log/slog"
 	"strconv"
 	"sync"
 	"sync/atomic"
@@ -110,6 +111,7 @@ type riverQueue[TTx any] struct {
 	insert *river.Client[TTx]
 	txOf   func(querier) (TTx, bool)
 	poll   time.Duration
+	log    *slog.Logger // nil: River's default
 	// timeout and rescue are River's JobTimeout and RescueStuckJobsAfter.
 	timeout, rescue time.Duration
 
@@ -149,7 +151,7 @@ func (q *riverQueue[TTx]) attempt(ctx context.Context, row *rivertype.JobRow, ta
 }
 
 func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(querier) (TTx, bool), poll time.Duration, o Options) (*riverQueue[TTx], error) {
-	insert, err := river.NewClient(driver, &river.Config{})
+	insert, err := river.NewClient(driver, &river.Config{Logger: o.Logger})
 	if err != nil {
 		return nil, fmt.Errorf("job queue: %w", err)
 	}
@@ -157,7 +159,7 @@ func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx],
 	if rescue < timeout {
 		return nil, fmt.Errorf("job queue: rescue after %v is shorter than the job timeout %v", rescue, timeout)
 	}
-	return &riverQueue[TTx]{driver: driver, insert: insert, txOf: txOf, poll: poll, timeout: timeout, rescue: rescue}, nil
+	return &riverQueue[TTx]{driver: driver, insert: insert, txOf: txOf, poll: poll, log: o.Logger, timeout: timeout, rescue: rescue}, nil
 }
 
 func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args river.JobArgs) (int64, error) {
@@ -242,6 +244,7 @@ func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 		RescueStuckJobsAfter: q.rescue,
 		FetchPollInterval:    q.poll,
 		FetchCooldown:        q.poll / 2,
+		Logger:               q.log,
 	})
 	if err != nil {
 		return fmt.Errorf("job queue: %w", err)

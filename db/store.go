@@ -148,7 +148,9 @@ type Writer interface {
 	InsertFitRun(ctx context.Context, r *FitRun) error
 	InsertToken(ctx context.Context, t *Token) error
 	// UpsertToken inserts the token or, when one with that name exists,
-	// replaces its hash and scope (for the admin token seeded at start).
+	// replaces its hash and scope (for the admin token seeded at start);
+	// ErrExists, changing nothing, when that token is revoked: revoked
+	// stays revoked.
 	UpsertToken(ctx context.Context, t *Token) error
 	// RevokeToken revokes the unrevoked token whose name or ID is
 	// nameOrID, as of at; ErrNotFound when there is none.

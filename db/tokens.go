@@ -13,10 +13,18 @@ func (w *sqlWriter) InsertToken(ctx context.Context, t *Token) error {
 }
 
 func (w *sqlWriter) UpsertToken(ctx context.Context, t *Token) error {
-	_, err := w.exec(ctx, "UpsertToken", t.Name, "INSERT INTO api_tokens (id, name, scope, hash, created_at) VALUES ($1, $2, $3, $4, $5) "+
-		"ON CONFLICT (name) DO UPDATE SET hash = excluded.hash, scope = excluded.scope, revoked_at = NULL",
+	// A revoked token stays revoked: re-seeding its secret must not bring
+	// it back (the WHERE of the update leaves its row alone).
+	n, err := w.exec(ctx, "UpsertToken", t.Name, "INSERT INTO api_tokens (id, name, scope, hash, created_at) VALUES ($1, $2, $3, $4, $5) "+
+		"ON CONFLICT (name) DO UPDATE SET hash = excluded.hash, scope = excluded.scope WHERE api_tokens.revoked_at IS NULL",
 		t.ID, t.Name, t.Scope, t.Hash, w.e.timeArg(t.CreatedAt))
-	return err
+	if err != nil {
+		return err
+	}
+	if n == 0 {
+		return &Error{Op: "UpsertToken", Key: t.Name, Err: ErrExists}
+	}
+	return nil
 }
 
 // RevokeToken revokes the unrevoked token whose name or ID is nameOrID, as

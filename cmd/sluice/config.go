@@ -128,7 +128,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.StringVar(&c.Addr, "addr", envOr(getenv, "SLUICE_ADDR", "127.0.0.1:8080"), "listen address (SLUICE_ADDR)")
 	fs.StringVar(&c.DataDir, "data", envOr(getenv, "SLUICE_DATA", "./sluice-data"), "data directory of the embedded store (SLUICE_DATA)")
 	fs.Int64Var(&c.BodyLimit, "body-limit", limit, "largest request body in bytes (SLUICE_BODY_LIMIT)")
-	fs.BoolVar(&auth, "auth", auth, "require bearer tokens (SLUICE_AUTH=off to disable; loopback only)")
+	fs.Var(onOff{&auth}, "auth", "on or off: require bearer tokens (SLUICE_AUTH; off only on a loopback address)")
 	fs.BoolVar(&c.Demo, "demo", false, "load the invented demo scenario if the store has none")
 	fs.StringVar(&c.LogLevel, "log-level", envOr(getenv, "SLUICE_LOG_LEVEL", "info"), "debug, info, warn or error (SLUICE_LOG_LEVEL)")
 	fs.IntVar(&c.FitWorkers, "fit-workers", workers, "goroutines per bootstrap; 0 = one per CPU (SLUICE_FIT_WORKERS)")
@@ -295,6 +295,30 @@ func validateJobTiming(timeout, rescue time.Duration) error {
 	}
 	if r < t {
 		return fmt.Errorf("%s: a job is rescued after %v, before its attempt may time out (%v); want rescue ≥ timeout", names, r, t)
+	}
+	return nil
+}
+
+// onOff is a flag that takes on/off, true/false or 1/0 as its value, so
+// that "--auth off" works as the README writes it (a bool flag would read
+// "off" as an argument) and so does "--auth=false".
+type onOff struct{ v *bool }
+
+func (o onOff) String() string {
+	if o.v == nil || *o.v {
+		return "on"
+	}
+	return "off"
+}
+
+func (o onOff) Set(s string) error {
+	switch strings.ToLower(s) {
+	case "on", "true", "1":
+		*o.v = true
+	case "off", "false", "0":
+		*o.v = false
+	default:
+		return fmt.Errorf("%q is not on or off", s)
 	}
 	return nil
 }

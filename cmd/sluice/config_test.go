@@ -72,6 +72,18 @@ func TestServeConfigErrorsNameTheField(t *testing.T) {
 	if _, err := loadServeConfig([]string{"--auth=false"}, env(nil), fs); err != nil {
 		t.Errorf("loopback without auth: %v", err)
 	}
+	// As the README writes it, and the other spellings.
+	for _, args := range [][]string{{"--auth", "off"}, {"--auth=off"}, {"--auth", "false"}, {"-auth", "0"}} {
+		c, err := loadServeConfig(args, env(nil), flag.NewFlagSet("serve", flag.ContinueOnError))
+		if err != nil || !c.AuthDisabled {
+			t.Errorf("%q: %v, auth disabled %v", args, err, c != nil && c.AuthDisabled)
+		}
+	}
+	quiet := flag.NewFlagSet("serve", flag.ContinueOnError)
+	quiet.SetOutput(io.Discard)
+	if _, err := loadServeConfig([]string{"--auth", "maybe"}, env(nil), quiet); err == nil {
+		t.Error("--auth maybe accepted")
+	}
 }
 
 // token create prints a token once and stores only its hash; migrate and

@@ -60,7 +60,7 @@ func runServe(args []string, getenv func(string) string, stderr io.Writer) int {
 // /metrics.
 func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Logger) int {
 	defer ln.Close() // closed already by Shutdown, unless serving never began
-	store, err := db.OpenWith(ctx, cfg.DatabaseURL, cfg.DataDir, db.Options{SkipMigrations: cfg.SkipMigrations,
+	store, err := db.OpenWith(ctx, cfg.DatabaseURL, cfg.DataDir, db.Options{SkipMigrations: cfg.SkipMigrations, Logger: log,
 		JobTimeout: cfg.JobTimeout, RescueAfter: cfg.JobRescueAfter})
 	if err != nil {
 		log.Error("open store", "err", err)
@@ -68,7 +68,11 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 	}
 	defer store.Close()
 	if cfg.AdminToken != "" {
-		if err := seedAdminToken(ctx, store, cfg.AdminToken); err != nil {
+		err := seedAdminToken(ctx, store, cfg.AdminToken)
+		switch {
+		case errors.Is(err, db.ErrExists):
+			log.Warn("SLUICE_ADMIN_TOKEN: the token env-admin was revoked and stays revoked; create another with `sluice token create`")
+		case err != nil:
 			log.Error("seed admin token", "err", err)
 			return 1
 		}
@@ -152,7 +156,8 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 }
 
 // seedAdminToken makes SLUICE_ADMIN_TOKEN a valid admin token named
-// "env-admin", replacing the one seeded before.
+// "env-admin", replacing the one seeded before, unless that one was
+// revoked (db.ErrExists): a revoked token is never brought back.
 func seedAdminToken(ctx context.Context, store db.Store, secret string) error {
 	return store.Write(ctx, func(w db.Writer) error {
 		return w.UpsertToken(ctx, &db.Token{ID: "env-admin", Name: "env-admin", Scope: api.ScopeAdmin,

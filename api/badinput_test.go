@@ -163,7 +163,7 @@ func badCatalogue(t *testing.T) []badCase {
 	add(badCase{name: "header bearer control", method: "GET", path: "/v1/assays", hdr: []string{"Authorization", "Bearer a\x01b"}})
 	// Path parameters of every read route.
 	for _, p := range []string{"/v1/fits/%s", "/v1/fits/%s/plot.svg", "/v1/assays/%s", "/v1/compounds/%s", "/v1/plates/%s", "/v1/plates/%s/curves.csv",
-		"/v1/plates/%s/heatmap.svg", "/v1/jobs/%s", "/v1/schild/%s", "/v1/analyses/%s", "/v1/analyses/%s/result"} {
+		"/v1/plates/%s/heatmap.svg", "/v1/jobs/%s", "/v1/layouts/%s", "/v1/schild/%s", "/v1/analyses/%s", "/v1/analyses/%s/result"} {
 		for _, v := range badQuery {
 			add(badCase{name: fmt.Sprintf("path %s %s", p, v.name), method: "GET", path: fmt.Sprintf(p, v.esc), scope: ScopeRead})
 		}

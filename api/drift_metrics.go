@@ -1,6 +1,11 @@
 package api
 
-import "github.com/prometheus/client_golang/prometheus"
+import (
+	"github.com/prometheus/client_golang/prometheus"
+
+	"sluice/api/service"
+	"sluice/fit/drift"
+)
 
 // driftMetrics are assay drift's collectors. Their labels stay bounded:
 // assay_id counts assays (tens in a lab, not millions: they are created by
@@ -33,8 +38,15 @@ func (m *metrics) DriftViolation(assayID, metric, rule string) {
 	m.drift.violations.WithLabelValues(assayID, metric, rule).Inc()
 }
 
-// AssayDrift implements service.Observer.
+// AssayDrift implements service.Observer. It also creates the assay's
+// violation counters at 0, so that increase() in an alert sees an assay's
+// first violation (a series born at 1 has no increase to show).
 func (m *metrics) AssayDrift(assayID string, outOfControl bool) {
+	for _, metric := range service.DriftMetricNames() {
+		for _, rule := range drift.AllRules.Strings() {
+			m.drift.violations.WithLabelValues(assayID, metric, rule)
+		}
+	}
 	v := 0.0
 	if outOfControl {
 		v = 1

@@ -79,6 +79,15 @@ func TestDriftRoutes(t *testing.T) {
 		t.Errorf("reference_pec50: %d %s", w.Code, w.Body.String()[:min(300, w.Body.Len())])
 	}
 
+	w = ts.do("GET", "/v1/assays/A/drift.svg?metric=min_control_mean", ScopeRead, "")
+	if svg := w.Body.String(); w.Code != 200 || w.Header().Get("Content-Type") != "image/svg+xml" || !strings.Contains(svg, "D020 2026-03-21: 1-2s, 1-3s") ||
+		!strings.Contains(svg, "+3 SD") || !strings.Contains(svg, "EWMA") {
+		t.Errorf("drift.svg: %d %.300s", w.Code, svg)
+	}
+	if w := ts.do("GET", "/v1/assays/A/drift.svg", ScopeRead, ""); w.Code != 400 {
+		t.Errorf("drift.svg without a metric: %d", w.Code)
+	}
+
 	w = ts.do("GET", "/v1/drift", ScopeRead, "")
 	var o wire.DriftOverview
 	if w.Code != 200 || json.Unmarshal(w.Body.Bytes(), &o) != nil || len(o.Charts) != 8 {

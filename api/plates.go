@@ -163,6 +163,26 @@ func (s *Server) createLayout(c *gin.Context) {
 	writeReply(c, r)
 }
 
+// getLayout is GET /v1/layouts/{id}.
+func (s *Server) getLayout(c *gin.Context) {
+	v, err := s.svc.Layout(c.Request.Context(), c.Param("id"))
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	c.JSON(http.StatusOK, v)
+}
+
+// listLayouts is GET /v1/layouts.
+func (s *Server) listLayouts(c *gin.Context) {
+	ls, err := s.svc.Layouts(c.Request.Context())
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	c.JSON(http.StatusOK, gin.H{"layouts": ls})
+}
+
 // getPlate is GET /v1/plates/{id}.
 func (s *Server) getPlate(c *gin.Context) {
 	v, err := s.svc.Plate(c.Request.Context(), c.Param("id"))

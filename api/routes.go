@@ -20,10 +20,11 @@ import (
 // 400 naming it (knownParams), so a misspelt filter never silently selects
 // everything.
 var queryParams = map[string][]string{
-	"GET /v1/fits":             {"assay_id", "compound_id", "from", "to", "limit", "cursor"},
-	"POST /v1/plates":          {"format", "barcode", "assay_id", "measured_at", "conc_unit", "mode", "layout_id", "model", "resamples", "seed", "scheme", "interval", "wait"},
-	"POST /v1/potential":       {"format"},
-	"GET /v1/assays/:id/drift": {"metric", "from", "to"},
+	"GET /v1/fits":                 {"assay_id", "compound_id", "from", "to", "limit", "cursor"},
+	"POST /v1/plates":              {"format", "barcode", "assay_id", "measured_at", "conc_unit", "mode", "layout_id", "model", "resamples", "seed", "scheme", "interval", "wait"},
+	"POST /v1/potential":           {"format"},
+	"GET /v1/assays/:id/drift":     {"metric", "from", "to"},
+	"GET /v1/assays/:id/drift.svg": {"metric", "from", "to"},
 }
 
 // routes is the whole API surface; the OpenAPI document lists the same
@@ -52,6 +53,8 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/assays/:id", s.getAssay)
 	read.GET("/compounds", s.listCompounds)
 	read.GET("/compounds/:id", s.getCompound)
+	read.GET("/layouts", s.listLayouts)
+	read.GET("/layouts/:id", s.getLayout)
 	read.GET("/plates/:id", s.getPlate)
 	read.GET("/plates/:id/curves.csv", s.plateCurvesCSV)
 	read.GET("/plates/:id/heatmap.svg", s.plateHeatmap)
@@ -61,6 +64,7 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/analyses/:id", s.getAnalysis)
 	read.GET("/analyses/:id/result", s.getAnalysisResult)
 	read.GET("/assays/:id/drift", s.getDrift)
+	read.GET("/assays/:id/drift.svg", s.driftPlot)
 	read.GET("/drift", s.listDrift)
 
 	// Writes: each handler builds the request's service.Idem from its

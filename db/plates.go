@@ -323,3 +323,23 @@ func (s *sqlStore) Layout(ctx context.Context, id string) (*Layout, error) {
 	l.CreatedAt = t.t
 	return &l, nil
 }
+
+// Layouts lists every layout by ID, without its wells.
+func (s *sqlStore) Layouts(ctx context.Context) ([]Layout, error) {
+	rows, err := s.e.query(ctx, "SELECT id, name, format, created_at, created_by FROM layouts ORDER BY id")
+	if err != nil {
+		return nil, s.read("Layouts", "", err)
+	}
+	defer rows.Close()
+	var out []Layout
+	for rows.Next() {
+		var l Layout
+		var t dbTime
+		if err := rows.Scan(&l.ID, &l.Name, &l.Format, &t, &l.CreatedBy); err != nil {
+			return nil, s.read("Layouts", "", err)
+		}
+		l.CreatedAt = t.t
+		out = append(out, l)
+	}
+	return out, s.read("Layouts", "", rows.Err())
+}

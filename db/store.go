@@ -74,6 +74,8 @@ type Plates interface {
 	// PlateCurves lists a plate's curves by key.
 	PlateCurves(ctx context.Context, plateID string) ([]PlateCurve, error)
 	Layout(ctx context.Context, id string) (*Layout, error)
+	// Layouts lists every layout by ID, without its wells.
+	Layouts(ctx context.Context) ([]Layout, error)
 	// SetPlateProgress records a running job's progress (outside any
 	// transaction: it is advisory).
 	SetPlateProgress(ctx context.Context, plateID, status string, done, total int) error

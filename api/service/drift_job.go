@@ -140,10 +140,10 @@ func (s *Service) observeDrift(n *driftNews) {
 	if n == nil {
 		return
 	}
+	s.obs.AssayDrift(n.assayID, n.outOfControl)
 	for _, v := range n.recorded {
 		s.obs.DriftViolation(n.assayID, v.Metric, v.Rule)
 	}
-	s.obs.AssayDrift(n.assayID, n.outOfControl)
 }
 
 // driftFigures are a plate's charted figures from its QC.

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"net/http"
 	"strconv"
+	"time"
 
 	"sluice/api/ingest"
 	"sluice/api/wire"
@@ -65,4 +66,37 @@ func (s *Service) CreateLayout(ctx context.Context, who Caller, idem *Idem, req 
 			return reply, nil
 		}}, nil
 	})
+}
+
+// Layout is GET /v1/layouts/{id}: the layout as stored, wells and all
+// (concentrations molar), so that the Location of POST /v1/layouts
+// resolves.
+func (s *Service) Layout(ctx context.Context, id string) (*wire.LayoutView, error) {
+	l, err := s.store.Layout(ctx, id)
+	if err != nil {
+		return nil, err // db's error names the layout
+	}
+	v := layoutView(l)
+	if err := json.Unmarshal(l.Wells, &v.Wells); err != nil {
+		return nil, fmt.Errorf("stored layout %s: %w", id, err)
+	}
+	return &v, nil
+}
+
+// Layouts is GET /v1/layouts: every layout by ID, without wells.
+func (s *Service) Layouts(ctx context.Context) ([]wire.LayoutView, error) {
+	ls, err := s.store.Layouts(ctx)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]wire.LayoutView, len(ls))
+	for i := range ls {
+		out[i] = layoutView(&ls[i])
+	}
+	return out, nil
+}
+
+func layoutView(l *db.Layout) wire.LayoutView {
+	return wire.LayoutView{ID: l.ID, Name: l.Name, Format: l.Format, ConcUnit: "M",
+		CreatedAt: l.CreatedAt.UTC().Format(time.RFC3339Nano), CreatedBy: l.CreatedBy}
 }

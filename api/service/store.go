@@ -53,6 +53,7 @@ type Plates interface {
 	PlateCurves(ctx context.Context, plateID string) ([]db.PlateCurve, error)
 	PlateSchildRuns(ctx context.Context, plateID string) ([]db.SchildRun, error)
 	Layout(ctx context.Context, id string) (*db.Layout, error)
+	Layouts(ctx context.Context) ([]db.Layout, error)
 	SetPlateProgress(ctx context.Context, plateID, status string, done, total int) error
 	Job(ctx context.Context, id int64) (*db.Job, error)
 }

@@ -82,6 +82,18 @@ type LayoutCreated struct {
 	ConcUnit string `json:"conc_unit"`
 }
 
+// LayoutView is GET /v1/layouts/{id} (with its wells, concentrations
+// molar) and an item of GET /v1/layouts (without).
+type LayoutView struct {
+	ID        string `json:"id"`
+	Name      string `json:"name"`
+	Format    int    `json:"format"`
+	ConcUnit  string `json:"conc_unit"`
+	Wells     []Well `json:"wells,omitempty"`
+	CreatedAt string `json:"created_at"`
+	CreatedBy string `json:"created_by"`
+}
+
 // PlateView is GET /v1/plates/{id}: the plate, its job's progress, its QC
 // (PlateQC, null until assessed) and, once done, its curves (PlateCurve)
 // and Schild analyses.

@@ -122,6 +122,9 @@ func loadDemo(ctx context.Context, store db.Store) (int, error) {
 			return n, fmt.Errorf("demo plate %s: %w", req.Barcode, err)
 		}
 	}
+	if err := loadDemoDrift(ctx, svc, who, rng); err != nil {
+		return n, err
+	}
 	return n, nil
 }
 
@@ -193,6 +196,6 @@ func runDemo(args []string, getenv func(string) string, stdout, stderr io.Writer
 		fmt.Fprintln(stdout, "sluice demo: the store already holds the demo scenario")
 		return 0
 	}
-	fmt.Fprintf(stdout, "sluice demo: loaded the invented LGX-7 scenario: %d fits of %d compounds over six weeks and four 384-well plates (one fails QC)\n", n, len(demoCompounds))
+	fmt.Fprintf(stdout, "sluice demo: loaded the invented LGX-7 scenario: %d fits of %d compounds over six weeks, four 384-well plates (one fails QC) and %d daily control plates whose min control creeps late (GET /v1/drift)\n", n, len(demoCompounds), demoDriftPlates)
 	return 0
 }

@@ -99,7 +99,7 @@ func dnaseBody(t testing.TB, extra string) string {
 			pts = append(pts, fmt.Sprintf(`{"conc":%s,"response":%s}`, r[1], r[2]))
 		}
 	}
-	return `{"model":"hill","points":[` + strings.Join(pts, ",") + `]` + extra + `}`
+	return `{"model":"hill","conc_unit":"M","points":[` + strings.Join(pts, ",") + `]` + extra + `}`
 }
 
 // The whole path on both engines: fit DNase run 1 over HTTP, get back R's
@@ -190,22 +190,25 @@ func TestFitBadInput(t *testing.T) {
 		code       int
 		pointer    string
 	}{
-		{"NaN literal", `{"points":[{"conc":NaN,"response":1}]}`, 400, ""},
-		{"non-numeric conc", `{"points":[{"conc":"abc","response":1}]}`, 422, "/points/0/conc"},
-		{"infinite conc", `{"points":[` + six + `,{"conc":1e400,"response":1}]}`, 422, "/points/5/conc"},
-		{"negative conc", `{"points":[` + six + `,{"conc":-1e-6,"response":1}]}`, 422, "/points/5/conc"},
-		{"missing response", `{"points":[` + six + `,{"conc":1e-6}]}`, 422, "/points/5/response"},
-		{"zero weight", `{"points":[` + six + `,{"conc":1e-6,"response":3,"weight":0}]}`, 422, "/points/5/weight"},
-		{"too few points", `{"points":[{"conc":1,"response":1},{"conc":2,"response":2},{"conc":3,"response":3},{"conc":4,"response":4}]}`, 422, "/points"},
-		{"unknown model", `{"model":"hill7","points":[` + six + `]}`, 422, "/model"},
+		{"NaN literal", `{"conc_unit":"M","points":[{"conc":NaN,"response":1}]}`, 400, ""},
+		{"non-numeric conc", `{"conc_unit":"M","points":[{"conc":"abc","response":1}]}`, 422, "/points/0/conc"},
+		{"infinite conc", `{"conc_unit":"M","points":[` + six + `,{"conc":1e400,"response":1}]}`, 422, "/points/5/conc"},
+		{"negative conc", `{"conc_unit":"M","points":[` + six + `,{"conc":-1e-6,"response":1}]}`, 422, "/points/5/conc"},
+		{"missing response", `{"conc_unit":"M","points":[` + six + `,{"conc":1e-6}]}`, 422, "/points/5/response"},
+		{"zero weight", `{"conc_unit":"M","points":[` + six + `,{"conc":1e-6,"response":3,"weight":0}]}`, 422, "/points/5/weight"},
+		{"too few points", `{"conc_unit":"M","points":[{"conc":1,"response":1},{"conc":2,"response":2},{"conc":3,"response":3},{"conc":4,"response":4}]}`, 422, "/points"},
+		{"unknown model", `{"conc_unit":"M","model":"hill7","points":[` + six + `]}`, 422, "/model"},
 		{"unknown unit", `{"conc_unit":"mg","points":[` + six + `]}`, 422, "/conc_unit"},
-		{"unknown fixed parameter", `{"fixed":{"slope":1},"points":[` + six + `]}`, 422, "/fixed/slope"},
-		{"bad confidence", `{"confidence":1.5,"points":[` + six + `]}`, 422, "/confidence"},
-		{"bad resamples", `{"bootstrap":{"resamples":200000},"points":[` + six + `]}`, 422, "/bootstrap/resamples"},
-		{"bad scheme", `{"bootstrap":{"scheme":"wild"},"points":[` + six + `]}`, 422, "/bootstrap/scheme"},
+		// Nanomolar numbers read as molar once gave "EC50 = 2.8 M".
+		{"no unit", `{"points":[` + six + `]}`, 422, "/conc_unit"},
+		{"unknown fixed parameter", `{"conc_unit":"M","fixed":{"slope":1},"points":[` + six + `]}`, 422, "/fixed/slope"},
+		{"bad confidence", `{"conc_unit":"M","confidence":1.5,"points":[` + six + `]}`, 422, "/confidence"},
+		{"bad resamples", `{"conc_unit":"M","bootstrap":{"resamples":200000},"points":[` + six + `]}`, 422, "/bootstrap/resamples"},
+		{"bad scheme", `{"conc_unit":"M","bootstrap":{"scheme":"wild"},"points":[` + six + `]}`, 422, "/bootstrap/scheme"},
+		{"case scheme on single points", `{"conc_unit":"M","bootstrap":{"scheme":"case"},"points":[` + six + `]}`, 422, "/bootstrap/scheme"},
 		{"unknown field", `{"pionts":[]}`, 422, "/pionts"},
-		{"malformed JSON", `{"points":[`, 400, ""},
-		{"unknown assay", `{"assay_id":"nope","points":[` + six + `]}`, 422, "/assay_id"},
+		{"malformed JSON", `{"conc_unit":"M","points":[`, 400, ""},
+		{"unknown assay", `{"conc_unit":"M","assay_id":"nope","points":[` + six + `]}`, 422, "/assay_id"},
 		{"empty body", ``, 400, ""},
 	}
 	for _, c := range cases {
@@ -227,13 +230,13 @@ func TestFitBadInput(t *testing.T) {
 		})
 	}
 	// Oversized body: 413.
-	big := `{"points":[` + strings.Repeat(`{"conc":1,"response":1},`, 60000) + `{"conc":1,"response":1}]}`
+	big := `{"conc_unit":"M","points":[` + strings.Repeat(`{"conc":1,"response":1},`, 60000) + `{"conc":1,"response":1}]}`
 	if w := ts.do("POST", "/v1/fits", ScopeSubmit, big); w.Code != http.StatusRequestEntityTooLarge {
 		t.Errorf("oversized: %d", w.Code)
 	} else {
 		problemOf(t, w)
 	}
-	if w := ts.do("POST", "/v1/fits", ScopeSubmit, `{"points":[]}`, "Content-Type", "text/plain"); w.Code != http.StatusUnsupportedMediaType {
+	if w := ts.do("POST", "/v1/fits", ScopeSubmit, `{"conc_unit":"M","points":[]}`, "Content-Type", "text/plain"); w.Code != http.StatusUnsupportedMediaType {
 		t.Errorf("text/plain: %d", w.Code)
 	}
 	if n := ts.runs(); n != 0 {

@@ -181,7 +181,7 @@ func badCatalogue(t *testing.T) []badCase {
 	csvQuery := "format=96&barcode=CSV-1"
 	for _, q := range []string{"barcode", "assay_id", "measured_at", "conc_unit", "mode", "model", "scheme", "interval"} {
 		for _, v := range badQuery {
-			add(badCase{name: fmt.Sprintf("query /v1/plates %s %s", q, v.name), path: "/v1/plates?format=96&" + q + "=" + v.esc, scope: ScopeSubmit,
+			add(badCase{name: fmt.Sprintf("query /v1/plates %s %s", q, v.name), path: "/v1/plates?conc_unit=M&format=96&" + q + "=" + v.esc, scope: ScopeSubmit,
 				body: csvOK, hdr: []string{"Content-Type", "text/csv"}})
 		}
 	}
@@ -236,7 +236,7 @@ func badCatalogue(t *testing.T) []badCase {
 			hdr: []string{"Content-Type", "text/csv"}})
 	}
 	for _, v := range badQuery {
-		add(badCase{name: "grid layout_id " + v.name, path: "/v1/plates?format=96&barcode=G&layout_id=" + v.esc, scope: ScopeSubmit, body: full("1"),
+		add(badCase{name: "grid layout_id " + v.name, path: "/v1/plates?conc_unit=M&format=96&barcode=G&layout_id=" + v.esc, scope: ScopeSubmit, body: full("1"),
 			hdr: []string{"Content-Type", "text/csv"}})
 	}
 	sort.Slice(cs, func(i, j int) bool { return cs[i].name < cs[j].name })
@@ -260,7 +260,7 @@ func badLayout96() string {
 			}
 		}
 	}
-	return `{"id":"bad-96","name":"grid","format":96,"wells":[` + strings.Join(ws, ",") + `]}`
+	return `{"id":"bad-96","name":"grid","format":96,"conc_unit":"M","wells":[` + strings.Join(ws, ",") + `]}`
 }
 
 // TestBadInputCatalogue sends the same hostile requests to both engines:
@@ -372,7 +372,7 @@ func (ts *testServer) doRaw(method, path, scope, body string, hdr ...string) *ht
 // Every error the readers return for any input (ingest.IsInputError, the
 // fuzz targets' oracle) is a 4xx here, CSV quoting among them.
 func TestIngestErrorsAre4xx(t *testing.T) {
-	for _, e := range []error{ingest.ErrMissingColumn, ingest.ErrNotNumber, ingest.ErrBadValue, ingest.ErrNoData, ingest.ErrSyntax} {
+	for _, e := range []error{ingest.ErrMissingColumn, ingest.ErrNotNumber, ingest.ErrBadValue, ingest.ErrNoData, ingest.ErrSyntax, ingest.ErrNoUnit} {
 		if !ingest.IsInputError(e) {
 			t.Errorf("%v is not an input error", e)
 		}
@@ -380,7 +380,7 @@ func TestIngestErrorsAre4xx(t *testing.T) {
 			t.Errorf("%v: %d", e, s)
 		}
 	}
-	_, err := ingest.ReadPlateCSV(strings.NewReader("well,role,value\n\"A1,sample,1\n"))
+	_, _, err := ingest.ReadPlateCSV(strings.NewReader("well,role,conc,value\n\"A1,sample,1,1\n"), ingest.Molar, "conc_unit")
 	if s := statusOf(err); s != 400 {
 		t.Errorf("quote error %v: %d, want 400", err, s)
 	}

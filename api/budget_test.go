@@ -24,7 +24,7 @@ func TestTooMuchWork(t *testing.T) {
 	for i := range 2000 {
 		pts = append(pts, fmt.Sprintf(`{"conc":%d,"response":%d}`, i+1, i%7))
 	}
-	w := ts.do("POST", "/v1/fits", ScopeSubmit, `{"points":[`+strings.Join(pts, ",")+`],"bootstrap":{"resamples":100000}}`)
+	w := ts.do("POST", "/v1/fits", ScopeSubmit, `{"conc_unit":"M","points":[`+strings.Join(pts, ",")+`],"bootstrap":{"resamples":100000}}`)
 	p := problemOf(t, w)
 	if w.Code != 422 || len(p.Errors) != 1 || p.Errors[0].Pointer != "/bootstrap/resamples" {
 		t.Errorf("%d %+v", w.Code, p)

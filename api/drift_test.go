@@ -20,7 +20,7 @@ func driftPlateBody(day int, minMean float64) string {
 		c := 1e-9 * float64(int(1)<<k)
 		wells = append(wells, fmt.Sprintf(`{"well":"C%d","role":"reference","compound_id":"REF","conc":%g,"value":%g}`, k+2, c, 10+990*c/(c+1e-8)))
 	}
-	return fmt.Sprintf(`{"barcode":"D%03d","format":96,"assay_id":"A","measured_at":"2026-03-%02dT09:00:00Z","wells":[%s]}`,
+	return fmt.Sprintf(`{"conc_unit":"M","barcode":"D%03d","format":96,"assay_id":"A","measured_at":"2026-03-%02dT09:00:00Z","wells":[%s]}`,
 		day, 1+day%28, strings.Join(wells, ","))
 }
 

@@ -86,10 +86,10 @@ func walkRoutes(t *testing.T) []walkRoute {
 		{"/v1/assays", ScopeSubmit, func(i int) string { return fmt.Sprintf(`{"id":"A-%d","name":"assay %d"}`, i, i) }, audited("assay.create")},
 		{"/v1/compounds", ScopeSubmit, func(i int) string { return fmt.Sprintf(`{"id":"C-%d","name":"compound %d"}`, i, i) }, audited("compound.create")},
 		{"/v1/layouts", ScopeSubmit, func(i int) string {
-			return marshal(map[string]any{"id": fmt.Sprintf("walk-%d", i), "name": "walk", "format": 384, "wells": layout})
+			return marshal(map[string]any{"conc_unit": "M", "id": fmt.Sprintf("walk-%d", i), "name": "walk", "format": 384, "wells": layout})
 		}, layouts},
 		{"/v1/plates", ScopeSubmit, func(i int) string {
-			return marshal(map[string]any{"barcode": fmt.Sprintf("WALK-%d", i), "format": 384, "wells": wells})
+			return marshal(map[string]any{"conc_unit": "M", "barcode": fmt.Sprintf("WALK-%d", i), "format": 384, "wells": wells})
 		}, audited("plate.create")},
 		{"/v1/schild", ScopeSubmit, func(i int) string {
 			return schildBody(func(float64) float64 { return 1 }, fmt.Sprintf(`,"confidence":0.9%d`, i))
@@ -98,7 +98,7 @@ func walkRoutes(t *testing.T) []walkRoute {
 			return strings.Replace(factsPotential, `"threshold_mv": -60`, fmt.Sprintf(`"threshold_mv": -6%d`, i), 1)
 		}, nil},
 		{"/v1/operational", ScopeRead, func(i int) string {
-			return `{"reference":[` + strings.Join(ref, ",") + `],"partial":[` + strings.Join(part, ",") + `],"confidence":0.9` + fmt.Sprint(i) + `}`
+			return `{"conc_unit":"M","reference":[` + strings.Join(ref, ",") + `],"partial":[` + strings.Join(part, ",") + `],"confidence":0.9` + fmt.Sprint(i) + `}`
 		}, nil},
 		{"/v1/qc/rules", ScopeRead, func(i int) string {
 			return fmt.Sprintf(`{"baseline":{"mean":100,"sd":2},"points":[{"value":101},{"value":10%d,"group":"p2"}]}`, i)
@@ -176,7 +176,7 @@ func TestIdempotencyWalk(t *testing.T) {
 		// replayed, not refused or stored twice.
 		t.Run("plates?wait", func(t *testing.T) {
 			wells, _ := invented384(4)
-			body, err := json.Marshal(map[string]any{"barcode": "WALK-WAIT", "format": 384, "wells": wells})
+			body, err := json.Marshal(map[string]any{"conc_unit": "M", "barcode": "WALK-WAIT", "format": 384, "wells": wells})
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -20,7 +20,7 @@ func TestPlateOfDiscardedJobFails(t *testing.T) {
 	dbtest.Engines(t, func(t *testing.T, store db.Store) {
 		ts := newTestServer(t, store)
 		wells, _ := invented384(5)
-		body, _ := json.Marshal(wire.PlateRequest{Barcode: "GIVE-UP", Format: 384, Wells: wells})
+		body, _ := json.Marshal(wire.PlateRequest{ConcUnit: "M", Barcode: "GIVE-UP", Format: 384, Wells: wells})
 		w := ts.do("POST", "/v1/plates", ScopeSubmit, string(body))
 		if w.Code != 202 {
 			t.Fatalf("%d %s", w.Code, w.Body)

@@ -40,7 +40,7 @@ func BenchmarkPostFit(b *testing.B) {
 			pts = append(pts, fmt.Sprintf(`{"conc":%g,"response":%.3f}`, c, y))
 		}
 	}
-	body := `{"model":"hill","points":[` + strings.Join(pts, ",") + `]}`
+	body := `{"model":"hill","conc_unit":"M","points":[` + strings.Join(pts, ",") + `]}`
 	for _, eng := range engines {
 		for _, clients := range []int{1, 4, 16} {
 			b.Run(fmt.Sprintf("%s/clients=%d", eng.name, clients), func(b *testing.B) {

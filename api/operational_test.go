@@ -24,7 +24,7 @@ func TestOperationalEndpoint(t *testing.T) {
 		ref = append(ref, fmt.Sprintf(`{"conc":%g,"response":%.12g}`, a, fit.Hill.Value([]float64{0, 100, -7, 1}, a)))
 		part = append(part, fmt.Sprintf(`{"conc":%g,"response":%.12g}`, a, schild.Operational(100, 2e-6, 1.5, 1, a)))
 	}
-	w := ts.do("POST", "/v1/operational", ScopeRead, `{"reference":[`+strings.Join(ref, ",")+`],"partial":[`+strings.Join(part, ",")+`]}`)
+	w := ts.do("POST", "/v1/operational", ScopeRead, `{"conc_unit":"M","reference":[`+strings.Join(ref, ",")+`],"partial":[`+strings.Join(part, ",")+`]}`)
 	if w.Code != 200 {
 		t.Fatalf("%d %s", w.Code, w.Body)
 	}

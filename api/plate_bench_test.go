@@ -35,7 +35,7 @@ func plate1536CSV() string {
 		fmt.Fprintf(&b, "%s,min_control,,,%.2f\n", f.Name(plate.Well{Row: r, Col: 46}), 200+40*rng.NormFloat64())
 		fmt.Fprintf(&b, "%s,min_control,,,%.2f\n", f.Name(plate.Well{Row: r, Col: 47}), 200+40*rng.NormFloat64())
 		for blk := 0; blk < 4; blk++ { // 4 compounds per row, 11 columns each
-			cpd := fmt.Sprintf("LX-%04d", k)
+			cpd := fmt.Sprintf("demo-cpd-%04d", k)
 			theta := []float64{0, 1, -9 + 3*rng.Float64(), 0.7 + 1.5*rng.Float64()}
 			k++
 			for i := 0; i < 11; i++ {
@@ -75,7 +75,7 @@ func BenchmarkPlate1536(b *testing.B) {
 			fitBefore := 0.0
 			for i := 0; b.Loop(); i++ {
 				t0 := time.Now()
-				resp, err := http.Post(hs.URL+fmt.Sprintf("/v1/plates?format=1536&barcode=BENCH-%d&resamples=1000&seed=1", i), "text/csv", strings.NewReader(body))
+				resp, err := http.Post(hs.URL+fmt.Sprintf("/v1/plates?conc_unit=M&format=1536&barcode=BENCH-%d&resamples=1000&seed=1", i), "text/csv", strings.NewReader(body))
 				if err != nil || resp.StatusCode != http.StatusAccepted {
 					b.Fatalf("post: %v %v", err, resp.Status)
 				}

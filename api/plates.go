@@ -114,7 +114,12 @@ func plateSubmission(c *gin.Context, body []byte) (*service.PlateSubmission, err
 		return sub, nil
 	}
 	sub.Form = service.PlateCSV
-	sub.Wells, err = ingest.ReadPlateCSV(bytes.NewReader(body))
+	unit, err := ingest.ParseUnit(req.ConcUnit)
+	if err != nil {
+		return nil, badParameter("conc_unit", "%v", err)
+	}
+	sub.Wells, unit, err = ingest.ReadPlateCSV(bytes.NewReader(body), unit, "the conc_unit query parameter")
+	req.ConcUnit = unit.String()
 	return sub, err
 }
 

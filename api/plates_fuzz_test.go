@@ -21,9 +21,9 @@ import (
 // accepted as the same plate (as many wells and curves).
 func FuzzPlateJSON(f *testing.F) {
 	wells, _ := invented384(9)
-	good, _ := json.Marshal(wire.PlateRequest{Barcode: "F", Format: 384, Wells: wells[:80]})
+	good, _ := json.Marshal(wire.PlateRequest{ConcUnit: "M", Barcode: "F", Format: 384, Wells: wells[:80]})
 	f.Add(string(good))
-	ctrl, _ := json.Marshal(wire.PlateRequest{Barcode: "F\x00\x1b\"\\", Format: 384, Wells: wells[:80]})
+	ctrl, _ := json.Marshal(wire.PlateRequest{ConcUnit: "M", Barcode: "F\x00\x1b\"\\", Format: 384, Wells: wells[:80]})
 	f.Add(string(ctrl))
 	f.Add(`{"barcode":"x","format":96,"wells":[{"well":"A1","role":"max_control","value":1}]}`)
 	f.Add(`{"format":1536,"wells":[{"well":"AF48","role":"sample","compound_id":"c","conc":-1,"value":2}]}`)

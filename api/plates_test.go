@@ -30,7 +30,7 @@ func invented384(seed uint64) ([]wire.Well, map[string][2]float64) {
 	f := plate.Plate384
 	num := func(v float64) *float64 { return &v }
 	for r := 0; r < 16; r++ {
-		cpd := fmt.Sprintf("LX-%03d", 200+r)
+		cpd := fmt.Sprintf("demo-cpd-%03d", 200+r)
 		logEC := -8.5 + 2.5*float64(r)/15
 		h := 0.8 + 0.1*float64(r%6)
 		truth[cpd] = [2]float64{logEC, h}
@@ -68,7 +68,7 @@ func TestPlateJSONEndToEnd(t *testing.T) {
 		startWorkers(t, ts)
 		wells, truth := invented384(1)
 		seed := uint64(11) // fixed, so that the check below is deterministic
-		body, _ := json.Marshal(wire.PlateRequest{Barcode: "LK-0384-01", Format: 384, Mode: "agonist", Wells: wells,
+		body, _ := json.Marshal(wire.PlateRequest{ConcUnit: "M", Barcode: "LK-0384-01", Format: 384, Mode: "agonist", Wells: wells,
 			MeasuredAt: "2026-11-30T10:00:00Z", Fit: &wire.PlateFit{Bootstrap: &wire.BootstrapIn{Resamples: 300, Seed: &seed}}})
 		w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
 		if w.Code != 200 {
@@ -150,7 +150,7 @@ func TestPlateCSVAndGrid(t *testing.T) {
 	if a.Code != 200 {
 		t.Fatalf("long CSV: %d %s", a.Code, a.Body)
 	}
-	lb, _ := json.Marshal(wire.LayoutRequest{ID: "lx-384-a", Name: "16 × 10 × 2", Format: 384, Wells: layout})
+	lb, _ := json.Marshal(wire.LayoutRequest{ConcUnit: "M", ID: "lx-384-a", Name: "16 × 10 × 2", Format: 384, Wells: layout})
 	if w := ts.do("POST", "/v1/layouts", ScopeSubmit, string(lb)); w.Code != 201 {
 		t.Fatalf("layout: %d %s", w.Code, w.Body)
 	}
@@ -192,7 +192,7 @@ func TestPlateBadInput(t *testing.T) {
 	ts := newTestServer(t, dbtest.SQLite(t))
 	wells, _ := invented384(3)
 	mk := func(mod func(*wire.PlateRequest)) string {
-		req := wire.PlateRequest{Barcode: "B", Format: 384, Wells: append([]wire.Well(nil), wells...)}
+		req := wire.PlateRequest{ConcUnit: "M", Barcode: "B", Format: 384, Wells: append([]wire.Well(nil), wells...)}
 		mod(&req)
 		b, _ := json.Marshal(req)
 		return string(b)
@@ -229,7 +229,7 @@ func TestPlateBadInput(t *testing.T) {
 		}
 	}
 	csvBad := "well,role,compound_id,conc,value\nA1,max_control,,,100\nA2,sample,X,1e-9,abc\n"
-	w := ts.do("POST", "/v1/plates?format=384&barcode=B", ScopeSubmit, csvBad, "Content-Type", "text/csv")
+	w := ts.do("POST", "/v1/plates?conc_unit=M&format=384&barcode=B", ScopeSubmit, csvBad, "Content-Type", "text/csv")
 	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) == 0 || p.Errors[0].Row != 3 || p.Errors[0].Column != 5 {
 		t.Errorf("bad CSV: %d %+v", w.Code, p)
 	}
@@ -243,7 +243,7 @@ func TestPlateBadInput(t *testing.T) {
 func TestPlateJobInterrupted(t *testing.T) {
 	ts := newTestServer(t, dbtest.SQLite(t))
 	wells, _ := invented384(4)
-	body, _ := json.Marshal(wire.PlateRequest{Barcode: "LK-KILL", Format: 384, Wells: wells, Fit: &wire.PlateFit{Bootstrap: &wire.BootstrapIn{Resamples: 5000}}})
+	body, _ := json.Marshal(wire.PlateRequest{ConcUnit: "M", Barcode: "LK-KILL", Format: 384, Wells: wells, Fit: &wire.PlateFit{Bootstrap: &wire.BootstrapIn{Resamples: 5000}}})
 	w := ts.do("POST", "/v1/plates", ScopeSubmit, string(body))
 	if w.Code != 202 {
 		t.Fatalf("%d %s", w.Code, w.Body)
@@ -287,7 +287,7 @@ func TestLayoutAndPlateRules(t *testing.T) {
 			ws[i] = w
 		}
 		mod(ws)
-		b, _ := json.Marshal(wire.LayoutRequest{ID: "l1", Name: "l", Format: 384, Wells: ws})
+		b, _ := json.Marshal(wire.LayoutRequest{ConcUnit: "M", ID: "l1", Name: "l", Format: 384, Wells: ws})
 		return string(b)
 	}
 	one := 1.0
@@ -315,7 +315,7 @@ func TestLayoutAndPlateRules(t *testing.T) {
 		t.Error("an invalid layout was stored")
 	}
 	// Two broken wells: both listed, in order.
-	req := wire.PlateRequest{Barcode: "B", Format: 384, Wells: append([]wire.Well(nil), wells...)}
+	req := wire.PlateRequest{ConcUnit: "M", Barcode: "B", Format: 384, Wells: append([]wire.Well(nil), wells...)}
 	req.Wells[2].CompoundID, req.Wells[30].Role = "", "blank"
 	b, _ := json.Marshal(req)
 	w := ts.do("POST", "/v1/plates", ScopeSubmit, string(b))
@@ -324,7 +324,7 @@ func TestLayoutAndPlateRules(t *testing.T) {
 	}
 	// A CSV sample without a concentration points at its row.
 	csvBody := "well,role,compound_id,conc,value\nA1,max_control,,,100\nA2,max_control,,,100\nA3,min_control,,,0\nA4,min_control,,,0\nA5,sample,X,,50\n"
-	w = ts.do("POST", "/v1/plates?format=96&barcode=B", ScopeSubmit, csvBody, "Content-Type", "text/csv")
+	w = ts.do("POST", "/v1/plates?conc_unit=M&format=96&barcode=B", ScopeSubmit, csvBody, "Content-Type", "text/csv")
 	if p := problemOf(t, w); w.Code != 422 || len(p.Errors) != 1 || p.Errors[0].Row != 6 || p.Errors[0].Column != 4 ||
 		!strings.Contains(p.Errors[0].Detail, "concentration") {
 		t.Errorf("CSV without conc: %d %s", w.Code, w.Body)
@@ -352,7 +352,7 @@ func TestPlateZeroMinControls(t *testing.T) {
 			}
 		}
 		seed := uint64(3)
-		body, _ := json.Marshal(wire.PlateRequest{Barcode: "LK-BGSUB", Format: 384, Wells: wells,
+		body, _ := json.Marshal(wire.PlateRequest{ConcUnit: "M", Barcode: "LK-BGSUB", Format: 384, Wells: wells,
 			Fit: &wire.PlateFit{Bootstrap: &wire.BootstrapIn{Resamples: 50, Seed: &seed}}})
 		w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
 		if w.Code != 200 {
@@ -392,7 +392,7 @@ func TestPlateZeroMinControls(t *testing.T) {
 func TestGridMissingValue(t *testing.T) {
 	ts := newTestServer(t, dbtest.SQLite(t))
 	num := func(v float64) *float64 { return &v }
-	layout := wire.LayoutRequest{ID: "g96", Name: "g", Format: 96, Wells: []wire.Well{
+	layout := wire.LayoutRequest{ConcUnit: "M", ID: "g96", Name: "g", Format: 96, Wells: []wire.Well{
 		{Well: "A1", Role: "max_control"}, {Well: "B1", Role: "max_control"},
 		{Well: "A12", Role: "min_control"}, {Well: "B12", Role: "min_control"},
 		{Well: "C5", Role: "sample", CompoundID: "X", Conc: num(1e-6)},

@@ -24,7 +24,12 @@ func (s *Server) fitPlot(c *gin.Context) {
 		return
 	}
 	run, res, input, unit := sf.Run, &sf.Result, &sf.Input, sf.Unit
-	fig := &plot.Curve{Title: "Fit " + run.ID, YLabel: "response", Footnote: wire.Caution}
+	fig := &plot.Curve{Title: plotTitle(run.CompoundID, run.ID), YLabel: "response", Footnote: wire.Caution}
+	if run.AssayID != "" {
+		if a, err := s.svc.Assay(c.Request.Context(), run.AssayID); err == nil && a.Units != "" {
+			fig.YLabel = "response (" + a.Units + ")"
+		}
+	}
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, p := range input.Points {
 		cm := unit.ToMolar(*p.Conc)
@@ -51,13 +56,30 @@ func (s *Server) fitPlot(c *gin.Context) {
 			fig.LineConc = append(fig.LineConc, math.Pow(10, a+(b-a)*float64(k)/(n-1)))
 		}
 		fig.Line, fig.BandLo, fig.BandHi = fit.Band(fit.Model(res.Model), theta, cov, res.Stats.DOF, float64(res.Confidence), fig.LineConc)
-		parts = append(parts, fmt.Sprintf("pEC50 %.2f", float64(res.PEC50)), fmt.Sprintf("%.0f%% band", 100*float64(res.Confidence)))
+		label := "EC50"
+		if res.Direction != nil && *res.Direction == string(fit.Falling) {
+			label = "IC50"
+		}
+		fig.Mark, fig.MarkLabel = float64(res.EC50.Estimate), label
+		fig.BandLabel = fmt.Sprintf("%.0f%% Wald band (delta method)", 100*float64(res.Confidence))
+		parts = append(parts, fmt.Sprintf("p%s %.2f", label, float64(res.PEC50)))
+	}
+	if res.Activity == string(fit.ActivityInactive) {
+		fig.Note = "inactive: no potency"
 	}
 	if len(res.Flags) > 0 {
 		parts = append(parts, "flags: "+strings.Join(res.Flags, ", "))
 	}
 	fig.Subtitle = strings.Join(parts, " · ")
 	s.writeSVG(c, fig)
+}
+
+// plotTitle names a figure by its compound, else by its run.
+func plotTitle(compound, id string) string {
+	if compound != "" {
+		return compound
+	}
+	return "Fit " + id
 }
 
 // writeSVG renders a figure and sends it.

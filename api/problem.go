@@ -1,6 +1,7 @@
 package api
 
 import (
+	"context"
 	"encoding/json"
 	"errors"
 	"net/http"
@@ -62,6 +63,7 @@ var statusTable = []struct {
 	{ingest.ErrMissingColumn, http.StatusUnprocessableEntity},
 	{ingest.ErrNoData, http.StatusUnprocessableEntity},
 	{ingest.ErrSyntax, http.StatusBadRequest},
+	{ingest.ErrNoUnit, http.StatusUnprocessableEntity},
 	{db.ErrReference, http.StatusUnprocessableEntity},
 	{db.ErrInvalid, http.StatusUnprocessableEntity},
 	{errUnauthenticated, http.StatusUnauthorized},
@@ -95,13 +97,26 @@ func badParameter(name, format string, a ...any) error {
 	return service.BadParameter(name, format, a...)
 }
 
+// statusClientClosed answers a request whose client went away.
+const statusClientClosed = 499
+
 // problemType is the base of the problem type URIs; they name categories
 // and need not resolve.
 const problemType = "urn:sluice:problem:"
 
 // writeProblem sends err as application/problem+json. A 5xx hides the
 // internal error from the client and is logged instead.
+//
+// A request whose client went away (its context is cancelled, and the
+// error is that cancellation) is no server error: it is answered with
+// 499 (Client Closed Request, as proxies count it; no one reads it) and
+// logged at debug level, never as an ERROR or a 5xx in the metrics.
 func (s *Server) writeProblem(c *gin.Context, err error) {
+	if c.Request.Context().Err() != nil && errors.Is(err, context.Canceled) {
+		s.log.Debug("client went away", "path", c.Request.URL.Path, "err", err)
+		c.AbortWithStatus(statusClientClosed)
+		return
+	}
 	status := statusOf(err)
 	p := Problem{Status: status, Title: http.StatusText(status), Instance: c.Request.URL.Path}
 	p.Type = problemType + strings.ReplaceAll(strings.ToLower(p.Title), " ", "-")

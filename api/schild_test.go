@@ -28,7 +28,7 @@ func schildBody(depress func(b float64) float64, extra string) string {
 		}
 		curves = append(curves, fmt.Sprintf(`{"antagonist_conc":%g,"points":[%s]}`, b, strings.Join(pts, ",")))
 	}
-	return `{"conc_unit":"nM","agonist_id":"LX-REF","antagonist_id":"LA-1","curves":[` + strings.Join(curves, ",") + `]` + extra + `}`
+	return `{"conc_unit":"nM","agonist_id":"demo-ref","antagonist_id":"demo-ant-1","curves":[` + strings.Join(curves, ",") + `]` + extra + `}`
 }
 
 func TestSchildEndpoint(t *testing.T) {
@@ -73,7 +73,8 @@ func TestSchildEndpoint(t *testing.T) {
 	}
 	// Bad input points at the field.
 	for _, c := range []struct{ body, pointer string }{
-		{`{"curves":[{"antagonist_conc":0,"points":[]}]}`, "/curves"},
+		{`{"conc_unit":"M","curves":[{"antagonist_conc":0,"points":[]}]}`, "/curves"},
+		{strings.Replace(schildBody(func(float64) float64 { return 1 }, ""), `"conc_unit":"nM",`, ``, 1), "/conc_unit"},
 		{strings.Replace(schildBody(func(float64) float64 { return 1 }, ""), `"antagonist_conc":10,`, `"antagonist_conc":-10,`, 1), "/curves/1/antagonist_conc"},
 		{strings.Replace(schildBody(func(float64) float64 { return 1 }, ""), `"antagonist_conc":0,`, `"antagonist_conc":5,`, 1), "/curves"},
 	} {
@@ -96,20 +97,20 @@ func TestPlateSchild(t *testing.T) {
 		wells = append(wells, wire.Well{Well: f.Name(plate.Well{Row: r, Col: 0}), Role: "max_control", Value: num(1000 + float64(r%3))},
 			wire.Well{Well: f.Name(plate.Well{Row: r, Col: 23}), Role: "min_control", Value: num(float64(r % 3))})
 	}
-	// Rows 0–3: LX-REF with LA-1 at 0, 10, 100, 1000 nM; 14 concentrations.
+	// Rows 0–3: demo-ref with demo-ant-1 at 0, 10, 100, 1000 nM; 14 concentrations.
 	for r, b := range []float64{0, 1e-8, 1e-7, 1e-6} {
 		L := -6 + math.Log10(1+b*1e8)
 		for k := 0; k <= 13; k++ {
 			a := 1e-9 * math.Pow(10, 0.5*float64(k))
-			w := wire.Well{Well: f.Name(plate.Well{Row: r, Col: 2 + k}), Role: "sample", CompoundID: "LX-REF", Conc: num(a),
+			w := wire.Well{Well: f.Name(plate.Well{Row: r, Col: 2 + k}), Role: "sample", CompoundID: "demo-ref", Conc: num(a),
 				Value: num(1000 * fit.Hill.Value([]float64{0, 1, L, 1.2}, a))}
 			if b > 0 {
-				w.AntagonistID, w.AntagonistConc = "LA-1", num(b)
+				w.AntagonistID, w.AntagonistConc = "demo-ant-1", num(b)
 			}
 			wells = append(wells, w)
 		}
 	}
-	body, _ := json.Marshal(wire.PlateRequest{Barcode: "LK-SCHILD", Format: 384, Wells: wells})
+	body, _ := json.Marshal(wire.PlateRequest{ConcUnit: "M", Barcode: "LK-SCHILD", Format: 384, Wells: wells})
 	w := ts.do("POST", "/v1/plates?wait=60s", ScopeSubmit, string(body))
 	var v wire.PlateView
 	json.Unmarshal(w.Body.Bytes(), &v)
@@ -118,7 +119,7 @@ func TestPlateSchild(t *testing.T) {
 	}
 	var r wire.SchildResponse
 	json.Unmarshal(v.Schild[0], &r)
-	if r.AgonistID != "LX-REF" || r.AntagonistID != "LA-1" || r.Global == nil || r.Global.PKB == nil ||
+	if r.AgonistID != "demo-ref" || r.AntagonistID != "demo-ant-1" || r.Global == nil || r.Global.PKB == nil ||
 		math.Abs(float64(r.Global.PKB.Estimate)-8) > 1e-3 {
 		t.Errorf("plate schild: %s", v.Schild[0])
 	}

@@ -33,7 +33,7 @@ func rawAt(t *testing.T, engine string, to int64) (raw rawDB, url, dir string) {
 
 // The plate curve of the v3 store: bootstrapped bottom, fixed top, no
 // SE for top, at-bound hill.
-const v3CurveResult = `{"curve":"FX-101","model":"hill","status":"converged","params":{` +
+const v3CurveResult = `{"curve":"demo-ag-1","model":"hill","status":"converged","params":{` +
 	`"bottom":{"estimate":1.5,"se":0.25,"wald_ci":[1,2],"boot_ci":[0.75,2.25],"fixed":false,"at_bound":false},` +
 	`"top":{"estimate":98.25,"se":null,"wald_ci":[null,null],"boot_ci":[null,null],"fixed":true,"at_bound":false},` +
 	`"log_ec50":{"estimate":-6.5,"se":0.125,"wald_ci":[-6.75,-6.25],"boot_ci":[-6.875,-6.125],"fixed":false,"at_bound":false},` +
@@ -49,7 +49,7 @@ func TestMigrationKeepsEveryRow(t *testing.T) {
 			const ts = "'2026-11-03T09:30:00.000000Z'"
 			stmts := []string{
 				"INSERT INTO assays (id, name, created_at) VALUES ('a1', 'LGX-7 dye', " + ts + ")",
-				"INSERT INTO compounds (id, name, created_at) VALUES ('FX-101', 'FX-101', " + ts + ")",
+				"INSERT INTO compounds (id, name, created_at) VALUES ('demo-ag-1', 'demo-ag-1', " + ts + ")",
 			}
 			for i := 0; i < 5; i++ {
 				created := fmt.Sprintf("'2026-11-0%dT09:30:00.000000Z'", i+1)
@@ -63,7 +63,7 @@ func TestMigrationKeepsEveryRow(t *testing.T) {
 				}
 				stmts = append(stmts,
 					fmt.Sprintf("INSERT INTO fit_runs (id, created_at, submitted_by, assay_id, compound_id, refit_of, model, status, log_ec50, "+
-						"engine_version, input_sha256, settings, input, result, labels) VALUES ('run-%d', %s, 'pipeline-3', 'a1', 'FX-101', %s, "+
+						"engine_version, input_sha256, settings, input, result, labels) VALUES ('run-%d', %s, 'pipeline-3', 'a1', 'demo-ag-1', %s, "+
 						"'hill', 'converged', %s, '0.1.0', 'sha%d', '{\"model\":\"hill\"}', '{\"points\":[]}', '{\"status\":\"converged\",\"n\":%d}', '{\"batch\":\"b%d\"}')",
 						i, created, refit, logec, i, i, i),
 					fmt.Sprintf("INSERT INTO fit_params (run_id, ord, name, estimate, se, wald_lo, wald_hi, boot_lo, boot_hi, fixed, at_bound) VALUES "+
@@ -81,13 +81,13 @@ func TestMigrationKeepsEveryRow(t *testing.T) {
 				"INSERT INTO plates (id, created_at, submitted_by, assay_id, barcode, format, measured_at, conc_unit, mode, settings, "+
 					"input_sha256, job_id, status, qc, curves_total, curves_done, error) VALUES ('p2', '2026-11-11T08:00:00.000000Z', 'robot', 'a1', "+
 					"'LK-2', 384, NULL, 'M', 'agonist', '{}', 'plate-sha-2', 8, 'failed', NULL, 0, 0, 'too few controls')",
-				"INSERT INTO wells (plate_id, well, row_index, col_index, role, compound_id, conc, value) VALUES ('p1', 'A01', 0, 0, 'sample', 'FX-101', 1e-6, 50)",
+				"INSERT INTO wells (plate_id, well, row_index, col_index, role, compound_id, conc, value) VALUES ('p1', 'A01', 0, 0, 'sample', 'demo-ag-1', 1e-6, 50)",
 				"INSERT INTO plate_curves (plate_id, key, compound_id, antagonist_id, antagonist_conc, status, log_ec50, result) VALUES "+
-					"('p1', 'FX-101', 'FX-101', '', 0, 'converged', -6.5, '"+v3CurveResult+"'), "+
-					"('p1', 'FX-101+ANT@1e-06', 'FX-101', 'ANT', 1e-6, 'no_convergence', NULL, '{\"status\":\"no_convergence\",\"params\":{}}')",
+					"('p1', 'demo-ag-1', 'demo-ag-1', '', 0, 'converged', -6.5, '"+v3CurveResult+"'), "+
+					"('p1', 'demo-ag-1+ANT@1e-06', 'demo-ag-1', 'ANT', 1e-6, 'no_convergence', NULL, '{\"status\":\"no_convergence\",\"params\":{}}')",
 				"INSERT INTO schild_runs (id, created_at, submitted_by, plate_id, agonist_id, antagonist_id, engine_version, input_sha256, input, result) VALUES "+
-					"('p1:FX-101:ANT', "+ts+", 'robot', 'p1', 'FX-101', 'ANT', '0.2.0', 'plate-sha', '{}', '{\"pa2\":8.5}'), "+
-					"('s-1', "+ts+", 'pipeline-3', NULL, 'FX-101', 'ANT', '0.2.0', 'x', '{}', '{\"pa2\":8.25}')",
+					"('p1:demo-ag-1:ANT', "+ts+", 'robot', 'p1', 'demo-ag-1', 'ANT', '0.2.0', 'plate-sha', '{}', '{\"pa2\":8.5}'), "+
+					"('s-1', "+ts+", 'pipeline-3', NULL, 'demo-ag-1', 'ANT', '0.2.0', 'x', '{}', '{\"pa2\":8.25}')",
 			)
 			for _, q := range stmts {
 				if err := raw.exec(q); err != nil {
@@ -112,7 +112,7 @@ func TestMigrationKeepsEveryRow(t *testing.T) {
 					t.Fatal(err)
 				}
 				created := time.Date(2026, 11, 1+i, 9, 30, 0, 0, time.UTC)
-				if !r.CreatedAt.Equal(created) || !r.MeasuredAt.Equal(created) || r.AssayID != "a1" || r.CompoundID != "FX-101" ||
+				if !r.CreatedAt.Equal(created) || !r.MeasuredAt.Equal(created) || r.AssayID != "a1" || r.CompoundID != "demo-ag-1" ||
 					r.InputSHA256 != fmt.Sprintf("sha%d", i) || r.Model != "hill" || r.SubmittedBy != "pipeline-3" {
 					t.Errorf("run-%d = %+v", i, r)
 				}
@@ -148,11 +148,11 @@ func TestMigrationKeepsEveryRow(t *testing.T) {
 			if err != nil || len(cs) != 2 {
 				t.Fatalf("PlateCurves: %+v %v", cs, err)
 			}
-			if cs[0].ID != "p1:FX-101" || cs[0].Key != "FX-101" || string(cs[0].Result) != v3CurveResult || *cs[0].LogEC50 != -6.5 ||
+			if cs[0].ID != "p1:demo-ag-1" || cs[0].Key != "demo-ag-1" || string(cs[0].Result) != v3CurveResult || *cs[0].LogEC50 != -6.5 ||
 				cs[0].Model != "hill" || cs[0].EngineVersion != "0.2.0" {
 				t.Errorf("curve 0 = %+v", cs[0])
 			}
-			if cs[1].ID != "p1:FX-101+ANT@1e-06" || cs[1].AntagonistID != "ANT" || cs[1].AntagonistConc != 1e-6 || cs[1].LogEC50 != nil ||
+			if cs[1].ID != "p1:demo-ag-1+ANT@1e-06" || cs[1].AntagonistID != "ANT" || cs[1].AntagonistConc != 1e-6 || cs[1].LogEC50 != nil ||
 				cs[1].Status != "no_convergence" || len(cs[1].Params) != 0 {
 				t.Errorf("curve 1 = %+v", cs[1])
 			}
@@ -165,7 +165,7 @@ func TestMigrationKeepsEveryRow(t *testing.T) {
 			if !paramsEqual(cs[0].Params, wantCurve) {
 				t.Errorf("curve 0 params = %s", showParams(cs[0].Params))
 			}
-			pc, err := s.CurveResult(ctx, "p1:FX-101")
+			pc, err := s.CurveResult(ctx, "p1:demo-ag-1")
 			if err != nil || pc.Kind != db.KindPlateCurve || pc.PlateID != "p1" || pc.AssayID != "a1" || pc.SubmittedBy != "robot" ||
 				!pc.MeasuredAt.Equal(time.Date(2026, 11, 2, 12, 0, 0, 0, time.UTC)) || pc.InputSHA256 != "plate-sha" ||
 				*pc.Hill.Value != 4 || *pc.Hill.Lo != 3.5 || *pc.Hill.Hi != 4.5 || *pc.Bottom.Lo != 0.75 || pc.Top.Lo != nil ||
@@ -175,12 +175,12 @@ func TestMigrationKeepsEveryRow(t *testing.T) {
 
 			// Potency history: fits and plate curves in one query, by
 			// experiment time (the plate was measured on 2 November).
-			hist, err := s.CompoundCurves(ctx, db.CurveFilter{CompoundID: "FX-101", AssayID: "a1"})
+			hist, err := s.CompoundCurves(ctx, db.CurveFilter{CompoundID: "demo-ag-1", AssayID: "a1"})
 			var ids []string
 			for _, h := range hist {
 				ids = append(ids, h.ID)
 			}
-			if err != nil || fmt.Sprint(ids) != "[run-0 run-1 p1:FX-101 p1:FX-101+ANT@1e-06 run-2 run-3 run-4]" {
+			if err != nil || fmt.Sprint(ids) != "[run-0 run-1 p1:demo-ag-1 p1:demo-ag-1+ANT@1e-06 run-2 run-3 run-4]" {
 				t.Errorf("CompoundCurves = %v %v", ids, err)
 			}
 

@@ -27,7 +27,7 @@ func TestCatalogue(t *testing.T) {
 			if err := w.InsertAssay(ctx, a); err != nil {
 				return err
 			}
-			return w.InsertCompound(ctx, &db.Compound{ID: "c1", Name: "FX-101", CreatedAt: t0})
+			return w.InsertCompound(ctx, &db.Compound{ID: "c1", Name: "demo-ag-1", CreatedAt: t0})
 		})
 		if err != nil {
 			t.Fatal(err)
@@ -44,7 +44,7 @@ func TestCatalogue(t *testing.T) {
 			t.Errorf("duplicate assay: %v, want ErrExists", err)
 		}
 		cs, err := s.Compounds(ctx)
-		if err != nil || len(cs) != 1 || cs[0].Name != "FX-101" || !cs[0].CreatedAt.Equal(t0) {
+		if err != nil || len(cs) != 1 || cs[0].Name != "demo-ag-1" || !cs[0].CreatedAt.Equal(t0) {
 			t.Errorf("Compounds = %+v, %v", cs, err)
 		}
 	})

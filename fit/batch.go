@@ -59,6 +59,11 @@ func FitBatch(ctx context.Context, curves []Curve, s *Settings, bs *BootSettings
 			return nil, &CurveError{Index: i, ID: c.ID, Err: err}
 		}
 		designs[i] = newDesign(c.Points)
+		if bs != nil {
+			if err := checkScheme(bset, designs[i]); err != nil {
+				return nil, &CurveError{Index: i, ID: c.ID, Err: err}
+			}
+		}
 	}
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)

@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
@@ -17,10 +18,15 @@ import (
 // half-log steps from 1 nM, in triplicate (30 points). The data are invented
 // for the test; the truth is known.
 func simulatedCurve(rng *rand.Rand, truth []float64, sigma float64) Curve {
+	return replicatedCurve(rng, truth, sigma, 3)
+}
+
+// replicatedCurve is simulatedCurve with reps points per concentration.
+func replicatedCurve(rng *rand.Rand, truth []float64, sigma float64, reps int) Curve {
 	var c Curve
 	for i := 0; i < 10; i++ {
 		conc := 1e-9 * math.Pow(10, 0.5*float64(i))
-		for r := 0; r < 3; r++ {
+		for r := 0; r < reps; r++ {
 			c.Points = append(c.Points, Point{Conc: conc, Response: Hill.Value(truth, conc) + sigma*rng.NormFloat64()})
 		}
 	}
@@ -29,8 +35,12 @@ func simulatedCurve(rng *rand.Rand, truth []float64, sigma float64) Curve {
 
 func TestBootstrapBitIdenticalAcrossWorkers(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
-	c := simulatedCurve(rng, []float64{0, 100, -7, 1}, 5)
 	for _, scheme := range []Scheme{SchemeResidual, SchemeCase} {
+		// The case scheme needs MinCaseReplicates points per concentration.
+		c := replicatedCurve(rng, []float64{0, 100, -7, 1}, 5, 3)
+		if scheme == SchemeCase {
+			c = replicatedCurve(rng, []float64{0, 100, -7, 1}, 5, MinCaseReplicates)
+		}
 		var ref *Result
 		for _, w := range []int{1, 2, 5} {
 			r, err := Fit(c, nil)
@@ -225,5 +235,69 @@ func TestRefitToleranceKeepsIntervals(t *testing.T) {
 					i, p.Name, p.BootLo, p.BootHi, q.BootLo, q.BootHi, q.SE)
 			}
 		}
+	}
+}
+
+// steepCurve rises from 2 to 98 between 1 µM and 10 µM, where no
+// concentration is tested: the slope ends at its bound (invented data).
+func steepCurve() Curve {
+	var c Curve
+	for i := 0; i < 8; i++ {
+		conc := 1e-9 * math.Pow(10, float64(i))
+		y := 2.0
+		if conc > 2e-6 {
+			y = 98
+		}
+		for _, e := range []float64{-1, 0.5, 1} {
+			c.Points = append(c.Points, Point{Conc: conc, Response: y + e})
+		}
+	}
+	return c
+}
+
+// BCa is not used for an estimate on a bound: that parameter gets the
+// (t-calibrated) percentile interval of the same draws, says so in BootInterval and in a
+// note; the others keep BCa.
+func TestBCaFallsBackToPercentileOnABound(t *testing.T) {
+	r, err := Fit(steepCurve(), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := Bootstrap(context.Background(), r, &BootSettings{Resamples: 400, Seed: 3}); err != nil {
+		t.Fatal(err)
+	}
+	np := len(r.Params)
+	sawBound := false
+	for j, p := range r.Params {
+		if !p.AtBound {
+			if p.BootInterval != IntervalBCa {
+				t.Errorf("%s (not at a bound): interval method %q, want bca", p.Name, p.BootInterval)
+			}
+			continue
+		}
+		sawBound = true
+		if p.BootInterval != IntervalPercentile {
+			t.Errorf("%s at a bound: interval method %q, want percentile", p.Name, p.BootInterval)
+		}
+		var col []float64
+		for b := 0; b < r.Boot.Resamples; b++ {
+			if v := r.Boot.Draws[b*np+j]; !math.IsNaN(v) {
+				col = append(col, v)
+			}
+		}
+		slices.Sort(col)
+		want := Param{Estimate: p.Estimate}
+		want.BootLo, want.BootHi = boot.Percentile(col, r.Confidence)
+		want.calibrate(r.Boot.Calibration)
+		lo, hi := want.BootLo, want.BootHi
+		if p.BootLo != lo || p.BootHi != hi {
+			t.Errorf("%s: interval [%g, %g], want the percentile interval [%g, %g]", p.Name, p.BootLo, p.BootHi, lo, hi)
+		}
+	}
+	if !sawBound {
+		t.Fatal("no parameter at a bound; the test curve no longer tests the fallback")
+	}
+	if !slices.ContainsFunc(r.Notes, func(n string) bool { return strings.Contains(n, "percentile interval, not BCa") }) {
+		t.Errorf("notes %q do not say that BCa fell back to percentile", r.Notes)
 	}
 }

@@ -9,7 +9,7 @@ import (
 )
 
 // Example fits an invented agonist curve in triplicate, with a vehicle point,
-// and bootstraps it.
+// and bootstraps it (BCa, t-calibrated: see calibration.go).
 func Example() {
 	conc := []float64{0, 1e-8, 3e-8, 1e-7, 3e-7, 1e-6, 3e-6, 1e-5}
 	resp := [][]float64{{1, -2, 0.5}, {3, 6, 4}, {12, 9, 14}, {31, 35, 28}, {62, 58, 66}, {84, 88, 81}, {95, 92, 97}, {99, 101, 96}}
@@ -36,7 +36,7 @@ func Example() {
 	fmt.Printf("log EC90 − log EC50 = %.3f\n", r.LogECF(90)-r.LogEC50().Estimate)
 	// Output:
 	// converged, 24 points, 0 flags
-	// EC50 198 nM (95% BCa 175–221 nM), pEC50 6.70
+	// EC50 198 nM (95% BCa 174–222 nM), pEC50 6.70
 	// hill 1.09 ± 0.06
 	// log EC90 − log EC50 = 0.877
 }

@@ -26,6 +26,10 @@ type Param struct {
 	WaldLo, WaldHi float64
 	// BootLo and BootHi are the bootstrap interval, NaN without bootstrap.
 	BootLo, BootHi float64
+	// BootInterval is the method behind BootLo and BootHi: the one asked
+	// for, except that an estimate on a bound gets the percentile interval
+	// instead of BCa (bootstrap.go); "" without bootstrap or when fixed.
+	BootInterval   Interval
 	Fixed, AtBound bool
 }
 

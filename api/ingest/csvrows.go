@@ -57,23 +57,48 @@ func (r csvRow) nonNegative(name, what string) (float64, error) {
 	return v, nil
 }
 
+// header is a CSV header: each column by its base name (lower-cased;
+// a concentration column's unit suffix removed), as written, and the
+// unit a concentration column names.
+type header struct {
+	col      map[string]int
+	names    map[string]string
+	units    map[string]Unit
+	concCols []string // the concentration columns present, in header order
+}
+
+// rowSpec says what a CSV must hold: the required columns (base names),
+// which columns are concentrations (they may carry a unit: conc_nM), and
+// how many rows it may have.
+type rowSpec struct {
+	required []string
+	conc     []string
+	maxRows  int
+}
+
 // eachRow reads a CSV whose header names its columns (any order; the
-// required ones must be there) and calls fn for every row that is not
-// blank, refusing more than maxRows of them.
-func eachRow(r io.Reader, required []string, maxRows int, fn func(csvRow) error) error {
+// required ones must be there), calls onHeader (if not nil) with the
+// header, and then fn for every row that is not blank, refusing more than
+// spec.maxRows of them.
+func eachRow(r io.Reader, spec rowSpec, onHeader func(header) error, fn func(csvRow) error) error {
 	cr := csv.NewReader(r)
 	cr.FieldsPerRecord = -1
 	cr.TrimLeadingSpace = true
-	header, err := cr.Read()
+	rec, err := cr.Read()
 	if err == io.EOF {
 		return &ParseError{Line: 1, Err: ErrNoData}
 	}
 	if err != nil {
 		return csvError(err)
 	}
-	col, err := columns(header, required...)
+	hdr, err := readHeader(rec, spec)
 	if err != nil {
 		return err
+	}
+	if onHeader != nil {
+		if err := onHeader(hdr); err != nil {
+			return err
+		}
 	}
 	rows := 0
 	for {
@@ -88,33 +113,43 @@ func eachRow(r io.Reader, required []string, maxRows int, fn func(csvRow) error)
 		if len(rec) == 1 && strings.TrimSpace(rec[0]) == "" {
 			continue
 		}
-		if rows++; rows > maxRows {
-			return &ParseError{Line: line, Err: fmt.Errorf("%w: more than %d rows", ErrBadValue, maxRows)}
+		if rows++; rows > spec.maxRows {
+			return &ParseError{Line: line, Err: fmt.Errorf("%w: more than %d rows", ErrBadValue, spec.maxRows)}
 		}
-		if err := fn(csvRow{line: line, rec: rec, col: col}); err != nil {
+		if err := fn(csvRow{line: line, rec: rec, col: hdr.col}); err != nil {
 			return err
 		}
 	}
 }
 
-// columns maps a header's column names (trimmed, lower-case, without a
-// byte-order mark) to their index, refusing a name given twice and
-// requiring the named columns.
-func columns(header []string, required ...string) (map[string]int, error) {
-	col := map[string]int{}
-	for i, h := range header {
-		name := strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\ufeff")))
-		if _, dup := col[name]; dup && name != "" {
-			return nil, &ParseError{Line: 1, Column: i + 1, Name: name, Err: fmt.Errorf("%w: column %q appears twice", ErrBadValue, name)}
+// readHeader maps a header's column names (trimmed, lower-case, without a
+// byte-order mark; a concentration column by its base name) to their
+// index, refusing a name given twice and requiring the named columns.
+func readHeader(rec []string, spec rowSpec) (header, error) {
+	hdr := header{col: map[string]int{}, names: map[string]string{}, units: map[string]Unit{}}
+	for i, h := range rec {
+		written := strings.TrimSpace(strings.TrimPrefix(h, "\ufeff"))
+		name := strings.ToLower(written)
+		if base, u, ok := headerUnit(name, spec.conc...); ok {
+			name = base
+			hdr.units[base] = u
 		}
-		col[name] = i
+		if _, dup := hdr.col[name]; dup && name != "" {
+			return header{}, &ParseError{Line: 1, Column: i + 1, Name: written, Err: fmt.Errorf("%w: column %q appears twice", ErrBadValue, name)}
+		}
+		hdr.col[name], hdr.names[name] = i, written
 	}
-	for _, need := range required {
-		if _, ok := col[need]; !ok {
-			return nil, &ParseError{Line: 1, Err: fmt.Errorf("%w %q (the header has %q)", ErrMissingColumn, need, header)}
+	for _, need := range spec.required {
+		if _, ok := hdr.col[need]; !ok {
+			return header{}, &ParseError{Line: 1, Err: fmt.Errorf("%w %q (the header has %q)", ErrMissingColumn, need, rec)}
 		}
 	}
-	return col, nil
+	for _, c := range spec.conc {
+		if _, ok := hdr.col[c]; ok {
+			hdr.concCols = append(hdr.concCols, c)
+		}
+	}
+	return hdr, nil
 }
 
 // csvError turns encoding/csv's error into a ParseError.

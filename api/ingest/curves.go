@@ -45,7 +45,7 @@ var (
 // client's fault, which the API answers with a 4xx (a test there checks
 // each). Every error a reader returns for any input must be one.
 func IsInputError(err error) bool {
-	for _, s := range []error{ErrMissingColumn, ErrNotNumber, ErrBadValue, ErrNoData, ErrSyntax} {
+	for _, s := range []error{ErrMissingColumn, ErrNotNumber, ErrBadValue, ErrNoData, ErrSyntax, ErrNoUnit} {
 		if errors.Is(err, s) {
 			return true
 		}
@@ -59,13 +59,21 @@ const MaxCurveRows = 1_000_000
 // ReadCurves reads a curve CSV with a header row naming its columns, in any
 // order: conc and response (required), weight and curve (optional; rows
 // without a curve column form one curve named "1"). Concentrations are in
-// unit and returned in molar; curves come back in order of first appearance.
+// unit, or in the unit the header names (conc_nM, "conc (µM)"); both may be
+// given if they agree, and neither is ErrNoUnit (field names where the
+// caller takes the unit, e.g. --unit). They are returned in molar; curves
+// come back in order of first appearance.
 // Blank lines are skipped. Every value is checked as fit would check it, so
 // that an error names the line and column rather than a point index.
-func ReadCurves(r io.Reader, unit Unit) ([]fit.Curve, error) {
+func ReadCurves(r io.Reader, unit Unit, field string) ([]fit.Curve, error) {
 	var curves []fit.Curve
 	index := map[string]int{}
-	err := eachRow(r, []string{"conc", "response"}, MaxCurveRows, func(row csvRow) error {
+	spec := rowSpec{required: []string{"conc", "response"}, conc: []string{"conc"}, maxRows: MaxCurveRows}
+	setUnit := func(h header) (err error) {
+		unit, err = fileUnit(unit, field, h)
+		return err
+	}
+	err := eachRow(r, spec, setUnit, func(row csvRow) error {
 		conc, err := row.nonNegative("conc", "concentration")
 		if err != nil {
 			return err
@@ -111,12 +119,18 @@ func ReadCurves(r io.Reader, unit Unit) ([]fit.Curve, error) {
 }
 
 // ReadSchildCSV reads a Schild dataset: columns antagonist_conc, conc and
-// response (any order; concentrations in unit), one curve per antagonist
-// concentration, in order of first appearance.
-func ReadSchildCSV(r io.Reader, unit Unit) ([]schild.Curve, error) {
+// response (any order; concentrations in unit or in the one the header
+// names, as ReadCurves), one curve per antagonist concentration, in order
+// of first appearance.
+func ReadSchildCSV(r io.Reader, unit Unit, field string) ([]schild.Curve, error) {
 	var curves []schild.Curve
 	index := map[float64]int{}
-	err := eachRow(r, []string{"antagonist_conc", "conc", "response"}, MaxCurveRows, func(row csvRow) error {
+	spec := rowSpec{required: []string{"antagonist_conc", "conc", "response"}, conc: []string{"conc", "antagonist_conc"}, maxRows: MaxCurveRows}
+	setUnit := func(h header) (err error) {
+		unit, err = fileUnit(unit, field, h)
+		return err
+	}
+	err := eachRow(r, spec, setUnit, func(row csvRow) error {
 		b, err := row.nonNegative("antagonist_conc", "concentration")
 		if err != nil {
 			return err

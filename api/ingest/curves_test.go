@@ -12,7 +12,7 @@ import (
 
 func TestReadCurves(t *testing.T) {
 	in := "\ufeffCurve, conc ,response,weight\nb,1,10,\na,2,20,2\nb,3,30,1\n\na,0,5,\n"
-	cs, err := ReadCurves(strings.NewReader(in), Micromolar)
+	cs, err := ReadCurves(strings.NewReader(in), Micromolar, "--unit")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -26,7 +26,7 @@ func TestReadCurves(t *testing.T) {
 		t.Errorf("curve a: %+v (empty weight means 0, i.e. 1)", p)
 	}
 	// Without a curve column every row is one curve.
-	cs, err = ReadCurves(strings.NewReader("response,conc\n1,2\n3,4\n"), Molar)
+	cs, err = ReadCurves(strings.NewReader("response,conc\n1,2\n3,4\n"), Molar, "--unit")
 	if err != nil || len(cs) != 1 || cs[0].ID != "1" || cs[0].Points[1].Conc != 4 {
 		t.Errorf("%+v %v", cs, err)
 	}
@@ -56,7 +56,7 @@ func TestReadCurvesErrors(t *testing.T) {
 		{"conc,response\n1,\"2\n", 2, 0, nil, ""},
 	}
 	for _, c := range cases {
-		_, err := ReadCurves(strings.NewReader(c.in), Molar)
+		_, err := ReadCurves(strings.NewReader(c.in), Molar, "--unit")
 		var pe *ParseError
 		if !errors.As(err, &pe) {
 			t.Errorf("%q: error %v is not a *ParseError", c.in, err)
@@ -75,7 +75,7 @@ func TestReadCurvesErrors(t *testing.T) {
 }
 
 func TestParseUnit(t *testing.T) {
-	for s, want := range map[string]Unit{"": 1, "M": 1, "mM": 1e-3, "uM": 1e-6, "µM": 1e-6, "μM": 1e-6, "nM": 1e-9, "pM": 1e-12} {
+	for s, want := range map[string]Unit{"": NoUnit, "M": 1, "mM": 1e-3, "uM": 1e-6, "µM": 1e-6, "μM": 1e-6, "nM": 1e-9, "pM": 1e-12} {
 		if u, err := ParseUnit(s); err != nil || u != want {
 			t.Errorf("ParseUnit(%q) = %v, %v; want %v", s, u, err, want)
 		}
@@ -97,7 +97,7 @@ func FuzzReadCurves(f *testing.F) {
 	f.Add("response,conc\n\"1\",2\n")
 	f.Add("conc,response\n1,x\n")
 	f.Fuzz(func(t *testing.T, in string) {
-		cs, err := ReadCurves(strings.NewReader(in), Nanomolar)
+		cs, err := ReadCurves(strings.NewReader(in), Nanomolar, "--unit")
 		if err != nil {
 			var pe *ParseError
 			if !errors.As(err, &pe) {
@@ -128,7 +128,7 @@ func FuzzReadCurves(f *testing.F) {
 			}
 		}
 		w.Flush()
-		again, err := ReadCurves(&buf, Molar)
+		again, err := ReadCurves(&buf, Molar, "--unit")
 		if err != nil {
 			t.Fatalf("round trip of %q: %v", buf.String(), err)
 		}

@@ -37,12 +37,20 @@ const MaxPlateRows = 10000
 
 // ReadPlateCSV reads a long plate CSV with the header
 // well,role,compound_id,conc,value[,antagonist_id,antagonist_conc] (columns
-// in any order). Control and empty wells may leave compound_id and conc
-// blank; empty and excluded wells may leave value blank.
-func ReadPlateCSV(r io.Reader) ([]WellIn, error) {
+// in any order; conc is required, as in a curve file). Control and empty
+// wells may leave compound_id and conc blank; empty and excluded wells may
+// leave value blank. Concentrations stay in the file's unit: the one
+// given (unit; field names where, e.g. conc_unit), or the one the header
+// names (conc_nM, "conc (µM)"), which is returned; neither is ErrNoUnit.
+func ReadPlateCSV(r io.Reader, unit Unit, field string) ([]WellIn, Unit, error) {
 	var out []WellIn
 	var cols map[string]int
-	err := eachRow(r, []string{"well", "role", "value"}, MaxPlateRows, func(row csvRow) error {
+	spec := rowSpec{required: []string{"well", "role", "conc", "value"}, conc: []string{"conc", "antagonist_conc"}, maxRows: MaxPlateRows}
+	setUnit := func(h header) (err error) {
+		unit, err = fileUnit(unit, field, h)
+		return err
+	}
+	err := eachRow(r, spec, setUnit, func(row csvRow) error {
 		if cols == nil {
 			cols = make(map[string]int, len(row.col))
 			for name, i := range row.col {
@@ -68,12 +76,12 @@ func ReadPlateCSV(r io.Reader) ([]WellIn, error) {
 		return nil
 	})
 	if err != nil {
-		return nil, err
+		return nil, NoUnit, err
 	}
 	if len(out) == 0 {
-		return nil, &ParseError{Line: 2, Err: ErrNoData}
+		return nil, NoUnit, &ParseError{Line: 2, Err: ErrNoData}
 	}
-	return out, nil
+	return out, unit, nil
 }
 
 // ReadGrid reads a reader's plate export: a first row of column numbers

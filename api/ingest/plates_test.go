@@ -9,16 +9,16 @@ import (
 )
 
 func TestReadPlateCSV(t *testing.T) {
-	ws, err := ReadPlateCSV(strings.NewReader("well,role,compound_id,conc,value,antagonist_id,antagonist_conc\nA1,max_control,,,1000,,\nA02,sample,X,1e-9,550,B,1e-8\nA3,empty,,,,,\n"))
-	if err != nil {
+	ws, u, err := ReadPlateCSV(strings.NewReader("well,role,compound_id,conc,value,antagonist_id,antagonist_conc\nA1,max_control,,,1000,,\nA02,sample,X,1e-9,550,B,1e-8\nA3,empty,,,,,\n"), Molar, "conc_unit")
+	if err != nil || u != Molar {
 		t.Fatal(err)
 	}
 	if len(ws) != 3 || ws[1].CompoundID != "X" || ws[1].AntagonistConc != 1e-8 || !ws[1].HasValue || ws[2].HasValue || ws[1].Line != 3 {
 		t.Errorf("%+v", ws)
 	}
-	_, err = ReadPlateCSV(strings.NewReader("well,role,value\nA1,sample,1\nA2,sample,x\n"))
+	_, _, err = ReadPlateCSV(strings.NewReader("well,role,conc,value\nA1,sample,1,1\nA2,sample,1,x\n"), Nanomolar, "conc_unit")
 	var pe *ParseError
-	if !errors.As(err, &pe) || pe.Line != 3 || pe.Column != 3 {
+	if !errors.As(err, &pe) || pe.Line != 3 || pe.Column != 4 {
 		t.Errorf("bad value: %v", err)
 	}
 }
@@ -44,9 +44,10 @@ func TestReadGrid(t *testing.T) {
 // panic; every value read is finite.
 func FuzzReadPlateCSV(f *testing.F) {
 	f.Add("well,role,compound_id,conc,value\nA1,max_control,,,1000\nA2,sample,X,1e-9,550\n")
-	f.Add("well,role,value\n\"A1\",sample,1\n")
+	f.Add("well,role,conc,value\n\"A1\",sample,1,1\n")
+	f.Add("well,role,compound_id,conc_nM,value\nA1,max_control,,,1000\nA2,sample,X,1,550\n")
 	f.Fuzz(func(t *testing.T, in string) {
-		ws, err := ReadPlateCSV(strings.NewReader(in))
+		ws, _, err := ReadPlateCSV(strings.NewReader(in), NoUnit, "conc_unit")
 		if err != nil {
 			var pe *ParseError
 			if !errors.As(err, &pe) {

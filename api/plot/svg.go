@@ -6,6 +6,7 @@ import (
 	"html"
 	"io"
 	"math"
+	"strconv"
 	"strings"
 )
 
@@ -24,12 +25,24 @@ type Curve struct {
 	// Line and its band, on a grid of molar concentrations > 0; BandLo and
 	// BandHi may be nil or NaN where there is no band.
 	LineConc, Line, BandLo, BandHi []float64
-	Footnote                       string
+	// BandLabel names the band in the legend ("95% Wald band"); empty
+	// draws no legend entry.
+	BandLabel string
+	// Mark is a potency to mark on the x axis, molar (0 or NaN: none),
+	// labelled MarkLabel ("EC50", "IC50"); Note is a line written inside
+	// the panel (e.g. "inactive: no potency").
+	Mark      float64
+	MarkLabel string
+	Note      string
+	Footnote  string
 }
 
 const (
-	width, height          = 680, 480
-	left, right, top, bott = 70, 60, 50, 130
+	width, height    = 680, 480
+	left, right      = 70, 60
+	topMin, bott     = 50, 130
+	subtitleWrap     = 95 // bytes per subtitle line
+	subtitleLineStep = 15
 )
 
 // Write renders the figure.
@@ -64,6 +77,18 @@ func (p *Curve) Write(w io.Writer) error {
 	if math.IsInf(ymin, 0) {
 		ymin, ymax = 0, 1
 	}
+	// A flat curve: open the range to ±5 % of its level (at least ±0.5)
+	// so that the ticks are round numbers, not 4.00000004.
+	if span := ymax - ymin; span < 1e-6*math.Max(math.Abs(ymin), math.Abs(ymax)) || span == 0 {
+		h := math.Max(0.05*math.Abs(ymax), 0.5)
+		mid := (ymin + ymax) / 2
+		ymin, ymax = mid-h, mid+h
+	}
+	sub := wrap(p.Subtitle, subtitleWrap)
+	top := float64(topMin)
+	if len(sub) > 1 {
+		top += subtitleLineStep * float64(len(sub)-1)
+	}
 	pad := 0.05 * math.Max(ymax-ymin, 1e-9)
 	ymin, ymax = ymin-pad, ymax+pad
 	px := func(x float64) float64 { return left + (x-xmin)/(xmax-xmin)*(width-left-right) }
@@ -72,8 +97,8 @@ func (p *Curve) Write(w io.Writer) error {
 	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" width="%d" height="%d" viewBox="0 0 %d %d" font-family="sans-serif" font-size="12">`+"\n", width, height, width, height)
 	fmt.Fprintf(&b, `<rect width="100%%" height="100%%" fill="white"/>`+"\n")
 	fmt.Fprintf(&b, `<text x="%d" y="22" font-size="15" font-weight="bold">%s</text>`+"\n", left, esc(p.Title))
-	if p.Subtitle != "" {
-		fmt.Fprintf(&b, `<text x="%d" y="40" fill="#444">%s</text>`+"\n", left, esc(p.Subtitle))
+	for i, l := range sub {
+		fmt.Fprintf(&b, `<text x="%d" y="%d" fill="#444">%s</text>`+"\n", left, 40+subtitleLineStep*i, esc(l))
 	}
 	// Band, then line, then points.
 	if len(p.BandLo) == len(p.LineConc) && len(p.BandHi) == len(p.LineConc) {
@@ -107,7 +132,22 @@ func (p *Curve) Write(w io.Writer) error {
 		fmt.Fprintf(&b, `<circle cx="%.1f" cy="%.1f" r="3.5" fill="#252525"/>`+"\n", px(x), py(p.PointResp[i]))
 	}
 	// Axes, ticks, labels.
-	x0, x1, y0, y1 := float64(left), float64(width-right), float64(height-bott), float64(top)
+	x0, x1, y0, y1 := float64(left), float64(width-right), float64(height-bott), top
+	if p.Mark > 0 && !math.IsNaN(p.Mark) && p.MarkLabel != "" {
+		if lx := math.Log10(p.Mark); lx >= xmin && lx <= xmax {
+			x := px(lx)
+			fmt.Fprintf(&b, `<line class="mark" x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#d94801" stroke-dasharray="5,3"/>`+"\n", x, y1, x, y0)
+			fmt.Fprintf(&b, `<text class="mark" x="%.1f" y="%.1f" fill="#d94801">%s</text>`+"\n", x+4, y1+14, esc(p.MarkLabel))
+		}
+	}
+	if p.Note != "" {
+		fmt.Fprintf(&b, `<text class="note" x="%.1f" y="%.1f" font-size="14" fill="#a50f15">%s</text>`+"\n", x0+12, y1+20, esc(p.Note))
+	}
+	if p.BandLabel != "" {
+		lx, ly := x1-170, y0-14
+		fmt.Fprintf(&b, `<rect class="legend" x="%.1f" y="%.1f" width="18" height="10" fill="#9ecae1" fill-opacity="0.5"/><text x="%.1f" y="%.1f" font-size="11">%s</text>`+"\n",
+			lx, ly-9, lx+24, ly, esc(p.BandLabel))
+	}
 	fmt.Fprintf(&b, `<path d="M%.1f,%.1f V%.1f H%.1f" fill="none" stroke="black"/>`+"\n", x0, y1, y0, x1)
 	for d := math.Ceil(xmin); d <= xmax; d++ {
 		if hasVehicle && d < vehicleX+0.6 {
@@ -121,9 +161,10 @@ func (p *Curve) Write(w io.Writer) error {
 		fmt.Fprintf(&b, `<path d="M%.1f,%.1f l4,-8 M%.1f,%.1f l4,-8" stroke="black"/>`+"\n", bx-4, y0+4, bx, y0+4)
 		fmt.Fprintf(&b, `<text x="%.1f" y="%.1f" text-anchor="middle">vehicle</text>`+"\n", px(vehicleX), y0+19)
 	}
-	for _, t := range ticks(ymin, ymax) {
-		fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f" text-anchor="end">%g</text>`+"\n",
-			x0-5, py(t), x0, py(t), x0-8, py(t)+4, t)
+	yt := ticks(ymin, ymax)
+	for _, t := range yt {
+		fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f" text-anchor="end">%s</text>`+"\n",
+			x0-5, py(t), x0, py(t), x0-8, py(t)+4, tickLabel(t, yt))
 	}
 	xl := p.XLabel
 	if xl == "" {
@@ -132,10 +173,11 @@ func (p *Curve) Write(w io.Writer) error {
 	fmt.Fprintf(&b, `<text x="%.1f" y="%.1f" text-anchor="middle">%s</text>`+"\n", (x0+x1)/2, y0+38, esc(xl))
 	if p.RightLabel != "" {
 		fmt.Fprintf(&b, `<path d="M%.1f,%.1f V%.1f" stroke="black"/>`+"\n", x1, y1, y0)
-		for _, t := range ticks(ymin-p.RightOffset, ymax-p.RightOffset) {
+		rt := ticks(ymin-p.RightOffset, ymax-p.RightOffset)
+		for _, t := range rt {
 			y := py(t + p.RightOffset)
-			fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f">%g</text>`+"\n",
-				x1, y, x1+5, y, x1+8, y+4, t)
+			fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f">%s</text>`+"\n",
+				x1, y, x1+5, y, x1+8, y+4, tickLabel(t, rt))
 		}
 		fmt.Fprintf(&b, `<text transform="translate(%d,%.1f) rotate(90)" text-anchor="middle">%s</text>`+"\n", width-8, (y0+y1)/2, esc(p.RightLabel))
 	}
@@ -167,6 +209,19 @@ func ticks(lo, hi float64) []float64 {
 		out = append(out, math.Round(v/step)*step+0) // +0 turns −0 into 0
 	}
 	return out
+}
+
+// tickLabel prints a tick with as many decimals as the step between ticks
+// needs, no more (ticks steps are 1, 2 or 5 × 10^k): steps of 0.2 give
+// one decimal, steps of 20 none.
+func tickLabel(t float64, all []float64) string {
+	dec := 0
+	if len(all) > 1 {
+		if step := all[1] - all[0]; step > 0 && step < 1 {
+			dec = int(math.Ceil(-math.Log10(step) - 1e-9))
+		}
+	}
+	return strconv.FormatFloat(t, 'f', dec, 64)
 }
 
 // wrap breaks text into lines of at most n bytes at spaces.

@@ -159,3 +159,17 @@ func driftFigures(p *db.Plate, qc *db.PlateQC) db.DriftPlate {
 	return db.DriftPlate{PlateID: p.ID, Barcode: p.Barcode, MeasuredAt: at, Pass: qc.Pass, ZPrime: qc.ZPrime,
 		SignalWindow: qc.SignalWindow, MaxMean: qc.MaxMean, MaxCV: qc.MaxCV, MinMean: qc.MinMean, MinCV: qc.MinCV, ReferencePEC50: ref}
 }
+
+// PlanDriftForBench is what a finishing plate's job adds for drift, for
+// benchmarks outside the package: plan the stored plate's place in its
+// assay's charts and return the write that records it.
+func (s *Service) PlanDriftForBench(ctx context.Context, p *db.Plate) (func(db.Writer) error, error) {
+	plan, err := s.planDrift(ctx, p.AssayID, driftFigures(p, p.Figures))
+	if err != nil {
+		return nil, err
+	}
+	return func(w db.Writer) error {
+		_, err := plan.record(ctx, w)
+		return err
+	}, nil
+}

@@ -32,6 +32,10 @@ type fitInput struct {
 	store    bool
 	free     int       // parameters estimated
 	work     cost.Work // fit.Cost of the request
+	// newCompound: the compound_id is not in the catalogue yet; a stored
+	// fit registers it (as a plate does not need to), so that single fits
+	// and plates both accept a compound nobody registered.
+	newCompound bool
 }
 
 // validateFit checks a request and converts it; every error points at a
@@ -43,6 +47,9 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 		return nil, Invalid("/model", "%v", err)
 	}
 	unit, err := ingest.ParseUnit(req.ConcUnit)
+	if err == nil {
+		unit, err = ingest.RequireUnit(unit, "conc_unit")
+	}
 	if err != nil {
 		return nil, Invalid("/conc_unit", "%v", err)
 	}
@@ -135,8 +142,10 @@ func (s *Service) admitFit(in *fitInput) error {
 	return s.budget.admit(w, field)
 }
 
-// checkRefs checks that the records a fit names exist.
-func (s *Service) checkRefs(ctx context.Context, req *wire.FitRequest) error {
+// checkRefs checks that the records a fit names exist. A compound that
+// does not is accepted, as on a plate, and reported in in.newCompound
+// for the fit to register.
+func (s *Service) checkRefs(ctx context.Context, req *wire.FitRequest, in *fitInput) error {
 	for _, ref := range []struct{ ptr, id, kind string }{
 		{"/assay_id", req.AssayID, "assay"}, {"/compound_id", req.CompoundID, "compound"}, {"/refit_of", req.RefitOf, "fit"},
 	} {
@@ -151,6 +160,10 @@ func (s *Service) checkRefs(ctx context.Context, req *wire.FitRequest) error {
 			_, err = s.store.Compound(ctx, ref.id)
 		default:
 			_, err = s.store.FitRun(ctx, ref.id)
+		}
+		if errors.Is(err, db.ErrNotFound) && ref.kind == "compound" {
+			in.newCompound = true
+			continue
 		}
 		if errors.Is(err, db.ErrNotFound) {
 			return Invalid(ref.ptr, "no %s with id %q", ref.kind, ref.id)
@@ -191,7 +204,7 @@ func (s *Service) prepareFit(ctx context.Context, req *wire.FitRequest) (*fitInp
 	if err := s.admitFit(in); err != nil {
 		return nil, err
 	}
-	if err := s.checkRefs(ctx, req); err != nil {
+	if err := s.checkRefs(ctx, req, in); err != nil {
 		return nil, err
 	}
 	return in, nil
@@ -233,6 +246,16 @@ func (s *Service) runFit(ctx context.Context, who Caller, req *wire.FitRequest, 
 		return plan{}, fmt.Errorf("audit detail: %w", err)
 	}
 	return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
+		if in.newCompound && req.CompoundID != "" {
+			// Registered with its id as its name; a concurrent fit that
+			// registered it first makes this one a conflict to retry.
+			if err := w.InsertCompound(ctx, &db.Compound{ID: req.CompoundID, Name: req.CompoundID, CreatedAt: run.CreatedAt, CreatedBy: who.Name}); err != nil {
+				return nil, fmt.Errorf("register compound %q: %w", req.CompoundID, err)
+			}
+			if err := w.InsertAudit(ctx, &db.AuditEntry{At: run.CreatedAt, Actor: who.Name, Action: "compound.create", Target: req.CompoundID}); err != nil {
+				return nil, fmt.Errorf("audit compound %q: %w", req.CompoundID, err)
+			}
+		}
 		if err := w.InsertFitRun(ctx, run); err != nil {
 			return nil, fmt.Errorf("store fit %s: %w", run.ID, err)
 		}
@@ -329,7 +352,7 @@ func (s *Service) StoredFit(ctx context.Context, id string) (*StoredFit, error) 
 	if err := json.Unmarshal(run.Settings, &sf.Settings); err != nil {
 		return nil, fmt.Errorf("stored fit %s: settings: %w", id, err)
 	}
-	if sf.Unit, err = ingest.ParseUnit(sf.Input.ConcUnit); err != nil {
+	if sf.Unit, err = ingest.StoredUnit(sf.Input.ConcUnit); err != nil {
 		return nil, fmt.Errorf("stored fit %s: unit: %w", id, err)
 	}
 	return sf, nil

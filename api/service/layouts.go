@@ -31,6 +31,9 @@ func (s *Service) CreateLayout(ctx context.Context, who Caller, idem *Idem, req 
 			return plan{}, Invalid("/format", "%v", err)
 		}
 		unit, err := ingest.ParseUnit(req.ConcUnit)
+		if err == nil && sendsConc(WellsIn(req.Wells)) {
+			unit, err = ingest.RequireUnit(unit, "conc_unit")
+		}
 		if err != nil {
 			return plan{}, Invalid("/conc_unit", "%v", err)
 		}

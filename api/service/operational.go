@@ -46,6 +46,9 @@ func (s *Service) Operational(ctx context.Context, who Caller, idem *Idem, req *
 // evaluations where fit's analytic one costs two: counted as three fits.
 func (s *Service) prepareOperational(req *wire.OperationalRequest) (ref, part []fit.Point, w cost.Work, err error) {
 	unit, err := ingest.ParseUnit(req.ConcUnit)
+	if err == nil {
+		unit, err = ingest.RequireUnit(unit, "conc_unit")
+	}
 	if err != nil {
 		return nil, nil, 0, Invalid("/conc_unit", "%v", err)
 	}

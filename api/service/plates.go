@@ -148,9 +148,12 @@ func (s *Service) validatePlate(req *wire.PlateRequest, wells []ingest.WellIn, l
 	if err != nil {
 		return nil, locatedError(loc, -1, "conc_unit", "%v", err)
 	}
-	v := &validPlate{p: db.Plate{Barcode: strings.TrimSpace(req.Barcode), Format: f.Wells, ConcUnit: req.ConcUnit, Mode: string(mode),
+	if unit == ingest.NoUnit && sendsConc(wells) {
+		return nil, locatedError(loc, -1, "conc_unit", "conc_unit is required whenever concentrations are sent (M, mM, uM, nM or pM): Sluice does not guess whether a number is molar or nanomolar")
+	}
+	v := &validPlate{p: db.Plate{Barcode: strings.TrimSpace(req.Barcode), Format: f.Wells, ConcUnit: unit.String(), Mode: string(mode),
 		AssayID: req.AssayID, Status: db.PlateQueued}}
-	if v.p.ConcUnit == "" {
+	if v.p.ConcUnit == "" { // no concentration anywhere: nothing to convert
 		v.p.ConcUnit = "M"
 	}
 	if req.MeasuredAt != "" {
@@ -209,9 +212,10 @@ func (s *Service) validatePlate(req *wire.PlateRequest, wells []ingest.WellIn, l
 // gridWells reads a reader grid and combines it with its saved layout:
 // the layout's wells, each with the grid's value at its place.
 func (s *Service) gridWells(ctx context.Context, sub *PlateSubmission) ([]ingest.WellIn, error) {
-	if u, err := ingest.ParseUnit(sub.Plate.ConcUnit); err == nil && u != 1 {
+	if u, err := ingest.ParseUnit(sub.Plate.ConcUnit); err == nil && u != ingest.NoUnit && u != ingest.Molar {
 		return nil, BadParameter("conc_unit", "a layout's concentrations are stored in molar; conc_unit %q does not apply to a grid upload", sub.Plate.ConcUnit)
 	}
+	sub.Plate.ConcUnit = "M" // the layout's unit: it was required when the layout was saved
 	l, err := s.store.Layout(ctx, sub.LayoutID)
 	if errors.Is(err, db.ErrNotFound) {
 		return nil, BadParameter("layout_id", "no layout with id %q", sub.LayoutID)
@@ -243,6 +247,17 @@ func (s *Service) gridWells(ctx context.Context, sub *PlateSubmission) ([]ingest
 		out[i].Value, out[i].HasValue = grid[f.Name(pos)]
 	}
 	return out, nil
+}
+
+// sendsConc reports whether any well carries a concentration, which then
+// needs its unit.
+func sendsConc(wells []ingest.WellIn) bool {
+	for _, w := range wells {
+		if w.HasConc || w.AntagonistConc != 0 {
+			return true
+		}
+	}
+	return false
 }
 
 // WellsIn turns wells as JSON sends them into wells as read.

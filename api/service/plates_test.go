@@ -17,7 +17,7 @@ import (
 // compound at eight concentrations.
 func small96(barcode string) *PlateSubmission {
 	num := func(v float64) *float64 { return &v }
-	req := wire.PlateRequest{Barcode: barcode, Format: 96, Wells: []wire.Well{
+	req := wire.PlateRequest{ConcUnit: "M", Barcode: barcode, Format: 96, Wells: []wire.Well{
 		{Well: "A1", Role: "max_control", Value: num(1000)}, {Well: "B1", Role: "max_control", Value: num(990)},
 		{Well: "A12", Role: "min_control", Value: num(10)}, {Well: "B12", Role: "min_control", Value: num(12)},
 	}}

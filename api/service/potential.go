@@ -49,7 +49,7 @@ func potentialCell(req *wire.PotentialRequest, m *potentialModel) (membrane.Cell
 			cell.Resting[k] = v
 		}
 		m.cautions = append(m.cautions, "The "+req.Cell.Preset+" preset uses textbook concentrations and illustrative "+
-			"resting conductances (some from memory); enter measured values for a real cell.")
+			"resting conductances (typical textbook values, not a measured cell); enter measured values for a real cell.")
 	}
 	if t := req.Cell.TemperatureC; t != nil {
 		cell.TempC = *t
@@ -118,7 +118,7 @@ func potentialChannel(req *wire.PotentialRequest, cell membrane.Cell, m *potenti
 	}
 	if m.ch.MgOut > 0 {
 		m.cautions = append(m.cautions, "The Mg²⁺ block uses B(V) = 1/(1 + [Mg]/3.57·e^(−0.062·V)) "+
-			"(Jahr & Stevens 1990; constants from memory).")
+			"(Jahr & Stevens 1990, J Neurosci 10:3178).")
 	}
 	return nil
 }

@@ -27,7 +27,7 @@ func dnaseRequest(t *testing.T) *wire.FitRequest {
 	if err != nil {
 		t.Fatal(err)
 	}
-	req := &wire.FitRequest{Model: "hill"}
+	req := &wire.FitRequest{ConcUnit: "M", Model: "hill"}
 	for _, r := range recs[1:] {
 		if r[0] != "1" {
 			continue
@@ -125,7 +125,7 @@ func TestHardLimit(t *testing.T) {
 		c, y := float64(i+1), float64(i)
 		pts = append(pts, wire.PointIn{Conc: &c, Response: &y})
 	}
-	_, err = s.Fit(ctx, Caller{}, nil, &wire.FitRequest{Model: "hill", Points: pts}, nil)
+	_, err = s.Fit(ctx, Caller{}, nil, &wire.FitRequest{ConcUnit: "M", Model: "hill", Points: pts}, nil)
 	if !errors.As(err, &e) || !errors.Is(err, ErrTooMuchWork) || e.Fields[0].Pointer != "/points" {
 		t.Errorf("500 levels over the limit: %v", err)
 	}

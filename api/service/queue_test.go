@@ -155,7 +155,7 @@ func TestQueuedOperational(t *testing.T) {
 		ref = append(ref, wire.PointIn{Conc: &a, Response: &r})
 		part = append(part, wire.PointIn{Conc: &a, Response: &p})
 	}
-	req := &wire.OperationalRequest{Reference: ref, Partial: part}
+	req := &wire.OperationalRequest{ConcUnit: "M", Reference: ref, Partial: part}
 	r, err := queued.Operational(ctx, Caller{Name: "p"}, nil, req)
 	if err != nil || r.Status != 202 {
 		t.Fatalf("%v %+v", err, r)

@@ -29,6 +29,9 @@ const (
 // validateSchild converts a request; errors point at the field.
 func validateSchild(req *wire.SchildRequest) ([]schild.Curve, *schild.Settings, error) {
 	unit, err := ingest.ParseUnit(req.ConcUnit)
+	if err == nil {
+		unit, err = ingest.RequireUnit(unit, "conc_unit")
+	}
 	if err != nil {
 		return nil, nil, Invalid("/conc_unit", "%v", err)
 	}
@@ -200,7 +203,7 @@ func (s *Service) StoredSchild(ctx context.Context, id string) (*StoredSchild, e
 			return nil, fmt.Errorf("stored schild %s: input: %w", id, err)
 		}
 	}
-	if st.Unit, err = ingest.ParseUnit(st.Request.ConcUnit); err != nil {
+	if st.Unit, err = ingest.StoredUnit(st.Request.ConcUnit); err != nil {
 		return nil, fmt.Errorf("stored schild %s: unit: %w", id, err)
 	}
 	return st, nil

@@ -79,8 +79,11 @@ type Param struct {
 	SE       Num     `json:"se"`
 	WaldCI   [2]Num  `json:"wald_ci"`
 	BootCI   *[2]Num `json:"boot_ci,omitempty"`
-	Fixed    bool    `json:"fixed"`
-	AtBound  bool    `json:"at_bound"`
+	// BootInterval is the method behind BootCI (bca or percentile): an
+	// estimate on a bound gets percentile even when bca was asked for.
+	BootInterval string `json:"boot_interval,omitempty"`
+	Fixed        bool   `json:"fixed"`
+	AtBound      bool   `json:"at_bound"`
 }
 
 // NamedParam is a parameter with its name.
@@ -168,13 +171,17 @@ type Stats struct {
 
 // BootstrapInfo describes the resampling behind boot_ci.
 type BootstrapInfo struct {
-	Resamples       int    `json:"resamples"`
-	Failed          int    `json:"failed"`
-	AtBound         int    `json:"at_bound"`
-	JackknifeFailed int    `json:"jackknife_failed"`
-	Scheme          string `json:"scheme"`
-	Interval        string `json:"interval"`
-	Seed            uint64 `json:"seed"`
+	Resamples       int `json:"resamples"`
+	Failed          int `json:"failed"`
+	AtBound         int `json:"at_bound"`
+	JackknifeFailed int `json:"jackknife_failed"`
+	// Calibration is the factor t(N − p)/z by which each interval was
+	// widened about the estimate (residual scheme; 1 for case); absent
+	// from results of engines before 0.3.1, which did not widen.
+	Calibration *Num   `json:"calibration,omitempty"`
+	Scheme      string `json:"scheme"`
+	Interval    string `json:"interval"`
+	Seed        uint64 `json:"seed"`
 }
 
 // FromFit converts a fit.Result.
@@ -186,6 +193,7 @@ func FromFit(r *fit.Result) FitResult {
 			WaldCI: [2]Num{Num(p.WaldLo), Num(p.WaldHi)}, Fixed: p.Fixed, AtBound: p.AtBound}}
 		if r.Boot != nil {
 			np.BootCI = &[2]Num{Num(p.BootLo), Num(p.BootHi)}
+			np.BootInterval = string(p.BootInterval)
 		}
 		out.Params = append(out.Params, np)
 	}
@@ -233,6 +241,8 @@ func FromFit(r *fit.Result) FitResult {
 	if b := r.Boot; b != nil {
 		out.Bootstrap = &BootstrapInfo{Resamples: b.Resamples, Failed: b.Failed, AtBound: b.AtBound,
 			JackknifeFailed: b.JackknifeFailed, Scheme: string(b.Scheme), Interval: string(b.Interval), Seed: b.Seed}
+		k := Num(b.Calibration)
+		out.Bootstrap.Calibration = &k
 	}
 	return out
 }

@@ -55,7 +55,7 @@ func TestBackupRestore(t *testing.T) {
 
 	// A plate through the service, fitted by its worker.
 	web, cancel, done, logs := startServe(t, srcURL, "", "all", time.Minute)
-	resp, err := http.Post(web+"/v1/plates?format=96&barcode=LK-BACKUP&resamples=200&seed=7&wait=60s", "text/csv",
+	resp, err := http.Post(web+"/v1/plates?conc_unit=M&format=96&barcode=LK-BACKUP&resamples=200&seed=7&wait=60s", "text/csv",
 		strings.NewReader(invented96CSV()))
 	if err != nil {
 		t.Fatal(err)

@@ -35,11 +35,11 @@ type demoCompound struct {
 }
 
 var demoCompounds = []demoCompound{
-	{"LX-REF", "LX-REF (reference full agonist)", 100, -6.5, 1.3},
-	{"LX-101", "LX-101", 96, -7.2, 1.1},
-	{"LX-102", "LX-102", 58, -6.1, 1.0}, // a partial agonist
-	{"LX-103", "LX-103", 101, -5.4, 1.8},
-	{"LX-104", "LX-104", 88, -7.9, 0.8},
+	{"demo-ref", "demo-ref (reference full agonist)", 100, -6.5, 1.3},
+	{"demo-ag-1", "demo-ag-1", 96, -7.2, 1.1},
+	{"demo-ag-2", "demo-ag-2", 58, -6.1, 1.0}, // a partial agonist
+	{"demo-ag-3", "demo-ag-3", 101, -5.4, 1.8},
+	{"demo-ag-4", "demo-ag-4", 88, -7.9, 0.8},
 }
 
 // loadDemo loads the scenario through the service's use cases (the same
@@ -103,7 +103,7 @@ func loadDemo(ctx context.Context, store db.Store) (int, error) {
 	}
 	// Four 384-well plates, one a week: three agonist screens (the third
 	// with a failing max control) and one antagonist plate (percent
-	// inhibition of an EC80 of LX-REF). Fitted in process, in order.
+	// inhibition of an EC80 of demo-ref). Fitted in process, in order.
 	for week := 1; week <= 4; week++ {
 		mode := "agonist"
 		if week == 4 {
@@ -144,11 +144,11 @@ func demoPlate(rng *rand.Rand, week int, mode string, noisyMax bool) wire.PlateR
 		maxSD = 450
 	}
 	for r := 0; r < 16; r++ {
-		prefix := "LX"
+		prefix := "demo-screen"
 		if mode == "antagonist" {
-			prefix = "LA"
+			prefix = "demo-ant"
 		}
-		cpd := fmt.Sprintf("%s-%d%02d", prefix, 3, r)
+		cpd := fmt.Sprintf("%s-%02d", prefix, r+1)
 		logEC := -8.6 + 3*float64(r)/15 + 0.05*rng.NormFloat64()
 		h := 0.8 + 0.12*float64(r%5)
 		for c := 0; c < 24; c++ {

@@ -16,7 +16,7 @@ import (
 
 // The demo's assay drift: after the screening plates, the lab runs a small
 // control plate every day (max and min controls, and the reference agonist
-// LX-REF as reference wells), 40 days in all. The first 28 are in control;
+// demo-ref as reference wells), 40 days in all. The first 28 are in control;
 // from day 29 the min control creeps upward by demoCreep a day (a dye lot
 // slowly losing its quench, say): the creep stays inside 3 SD of one
 // plate, so 4-1s, 10-x and the EWMA catch it before 1-3s would. Invented,
@@ -53,7 +53,7 @@ func loadDemoDrift(ctx context.Context, svc *service.Service, who service.Caller
 }
 
 // demoControlPlate is control plate i: a 96-well plate with 16 max and 16
-// min controls (columns 1–2 and 11–12) and LX-REF at 8 concentrations in
+// min controls (columns 1–2 and 11–12) and demo-ref at 8 concentrations in
 // duplicate. Each plate's levels wander a little (a plate effect), wells
 // scatter around them.
 func demoControlPlate(rng *rand.Rand, i int) wire.PlateRequest {
@@ -64,7 +64,7 @@ func demoControlPlate(rng *rand.Rand, i int) wire.PlateRequest {
 		minLevel += demoCreep * float64(i-demoCreepFrom+1)
 	}
 	maxLevel := demoMaxLevel + 10*rng.NormFloat64()
-	logEC := -6.5 + 0.05*rng.NormFloat64() // LX-REF, as in the weekly fits
+	logEC := -6.5 + 0.05*rng.NormFloat64() // demo-ref, as in the weekly fits
 	req := wire.PlateRequest{AssayID: demoAssay, Barcode: fmt.Sprintf("LK-QC-%02d", i+1), Format: 96,
 		MeasuredAt: demoDriftStart.AddDate(0, 0, i).Format(time.RFC3339), ConcUnit: "nM"}
 	for r := 0; r < 8; r++ {
@@ -78,7 +78,7 @@ func demoControlPlate(rng *rand.Rand, i int) wire.PlateRequest {
 			case c < 4:
 				concNM := 10 * math.Pow(10, 0.5*float64(r)) // 10 nM – 31.6 µM
 				frac := fit.Hill.Value([]float64{0, 1, logEC, 1.3}, concNM*1e-9)
-				w.Role, w.CompoundID, w.Conc = "reference", "LX-REF", num(concNM)
+				w.Role, w.CompoundID, w.Conc = "reference", "demo-ref", num(concNM)
 				w.Value = num(minLevel + (maxLevel-minLevel)*frac + 40*rng.NormFloat64())
 			default:
 				w.Role = "empty"

@@ -31,7 +31,7 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	models := fit.Builtin()
 	model := fs.String("model", string(models.Default()), "curve model, one of:\n"+models.Help())
 	fix := fs.String("fix", "", "fixed parameters, e.g. bottom=0,top=100 or hill=1")
-	unit := fs.String("unit", "M", "concentration unit of the file: M, mM, uM, nM or pM")
+	unit := fs.String("unit", "", "concentration unit of the file: M, mM, uM, nM or pM (required unless the header names it: conc_nM)")
 	resamples := fs.Int("bootstrap", 0, "bootstrap resamples B, 0 for none (at most 100000)")
 	scheme := fs.String("scheme", "residual", "bootstrap scheme: residual or case")
 	interval := fs.String("interval", "bca", "bootstrap interval: bca or percentile")
@@ -87,7 +87,7 @@ func runFit(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return fail("%v", err)
 	}
 	defer closeIn()
-	curves, err := ingest.ReadCurves(in, u)
+	curves, err := ingest.ReadCurves(in, u, "--unit")
 	if err != nil {
 		return fail("%s: %v", name, err)
 	}

@@ -48,7 +48,7 @@ func runCLI(t testing.TB, stdin string, args ...string) (code int, stdout, stder
 // −7.8971743660935691577e-3, upper 2.3772388665310514858, lec50
 // 0.65465677225479288072, nH 0.94110682028352248779), relative 1e-6.
 func TestFitCommandDNase(t *testing.T) {
-	code, out, stderr := runCLI(t, dnaseRun1CSV(t), "fit", "-", "--format", "json", "--bootstrap", "200", "--seed", "3")
+	code, out, stderr := runCLI(t, dnaseRun1CSV(t), "fit", "-", "--unit", "M", "--format", "json", "--bootstrap", "200", "--seed", "3")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
@@ -93,15 +93,19 @@ func TestFitCommandBadInput(t *testing.T) {
 		args      []string
 		want      string
 	}{
-		{"non-numeric response", "conc,response\n1e-9,5\n1e-8,abc\n", nil, "line 3, column 2 (response)"},
-		{"negative concentration", "response,conc\n5,1e-9\n6,-1e-8\n", nil, "line 3, column 2 (conc)"},
+		{"non-numeric response", "conc,response\n1e-9,5\n1e-8,abc\n", []string{"--unit", "M"}, "line 3, column 2 (response)"},
+		{"negative concentration", "response,conc\n5,1e-9\n6,-1e-8\n", []string{"--unit", "M"}, "line 3, column 2 (conc)"},
 		{"missing column", "conc,resp\n1,2\n", nil, `missing column "response"`},
-		{"empty", "", nil, "no data rows"},
-		{"unknown model", "conc,response\n1,2\n", []string{"--model", "hill7"}, "unknown model"},
+		{"empty", "", []string{"--unit", "M"}, "no data rows"},
+		{"unknown model", "conc,response\n1,2\n", []string{"--unit", "M", "--model", "hill7"}, "unknown model"},
 		{"unknown unit", "conc,response\n1,2\n", []string{"--unit", "mg"}, "unknown concentration unit"},
-		{"unknown fixed parameter", "conc,response\n1,2\n2,3\n3,4\n4,5\n5,6\n", []string{"--fix", "slope=1"}, `no parameter "slope"`},
-		{"bad --fix", "conc,response\n1,2\n", []string{"--fix", "top"}, "not name=value"},
-		{"too many resamples", "conc,response\n1,2\n", []string{"--bootstrap", "100001"}, "--bootstrap"},
+		{"unknown fixed parameter", "conc,response\n1,2\n2,3\n3,4\n4,5\n5,6\n", []string{"--unit", "M", "--fix", "slope=1"}, `no parameter "slope"`},
+		{"bad --fix", "conc,response\n1,2\n", []string{"--unit", "M", "--fix", "top"}, "not name=value"},
+		// No unit, and none in the header: nanomolar numbers read as molar
+		// once gave "EC50 = 2.8 M".
+		{"no unit", "conc,response\n1,2\n", nil, "give --unit, or name the unit in the header"},
+		{"unit disagrees with header", "conc_nM,response\n1,2\n", []string{"--unit", "uM"}, `column "conc_nM" is in nM, but --unit says uM`},
+		{"too many resamples", "conc,response\n1,2\n", []string{"--unit", "M", "--bootstrap", "100001"}, "--bootstrap"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

@@ -25,7 +25,7 @@ func runSchild(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 			"antagonist_conc, conc, response; antagonist_conc 0 is the control). Flags:\n")
 		fs.PrintDefaults()
 	}
-	unit := fs.String("unit", "M", "concentration unit of both agonist and antagonist")
+	unit := fs.String("unit", "", "concentration unit of both agonist and antagonist: M, mM, uM, nM or pM (required unless the header names it: conc_nM)")
 	resamples := fs.Int("bootstrap", 0, "bootstrap resamples for the global fit (0 = none)")
 	seed := fs.Uint64("seed", 1, "bootstrap seed")
 	format := fs.String("format", "table", "output: table or json")
@@ -48,7 +48,7 @@ func runSchild(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return 2
 	}
 	defer closeIn()
-	curves, err := ingest.ReadSchildCSV(in, u)
+	curves, err := ingest.ReadSchildCSV(in, u, "--unit")
 	if err != nil {
 		fmt.Fprintf(stderr, "sluice schild: %s: %v\n", pos[0], err)
 		return 2

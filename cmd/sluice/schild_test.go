@@ -30,7 +30,7 @@ func TestSchildCommand(t *testing.T) {
 	if !r.Competitive || !(r.Global.PKB.CI[0] <= 7.6 && 7.6 <= r.Global.PKB.CI[1]) || math.Abs(r.Global.PKB.Estimate-7.6) > 0.1 {
 		t.Errorf("%+v", r)
 	}
-	code, _, stderr = runCLI(t, "antagonist_conc,conc,response\n10,1,2\n10,2,3\n", "schild", "-")
+	code, _, stderr = runCLI(t, "antagonist_conc,conc,response\n10,1,2\n10,2,3\n", "schild", "-", "--unit", "M")
 	if code != 2 || !strings.Contains(stderr, "control") {
 		t.Errorf("no control: exit %d %s", code, stderr)
 	}

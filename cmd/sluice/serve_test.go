@@ -84,7 +84,7 @@ func shutdownMidPlate(t *testing.T, dbURL, dir string) {
 	defer cancel()
 	// B = 4000 on one fit worker: a few seconds of work, so the signal
 	// arrives while the curves are being fitted.
-	resp, err := http.Post(base+"/v1/plates?format=96&barcode=LK-TERM&resamples=4000&seed=1", "text/csv", strings.NewReader(invented96CSV()))
+	resp, err := http.Post(base+"/v1/plates?conc_unit=M&format=96&barcode=LK-TERM&resamples=4000&seed=1", "text/csv", strings.NewReader(invented96CSV()))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -192,7 +192,7 @@ func TestShutdownAnswersWaitingRequests(t *testing.T) {
 	}
 	answers := make(chan answer, 1)
 	go func() {
-		resp, err := http.Post(base+"/v1/plates?format=96&barcode=LK-WAIT&wait=2m", "text/csv", strings.NewReader(invented96CSV()))
+		resp, err := http.Post(base+"/v1/plates?conc_unit=M&format=96&barcode=LK-WAIT&wait=2m", "text/csv", strings.NewReader(invented96CSV()))
 		if err != nil {
 			answers <- answer{0, err.Error()}
 			return

@@ -19,6 +19,7 @@ import (
 	"time"
 
 	"sluice/api"
+	"sluice/api/ingest"
 	"sluice/api/wire"
 )
 
@@ -41,7 +42,7 @@ func runSubmit(args []string, getenv func(string) string, stdout, stderr io.Writ
 	format := fs.String("format", "384", "CSV: plate format 96, 384 or 1536")
 	assay := fs.String("assay", "", "CSV: assay ID")
 	mode := fs.String("mode", "agonist", "CSV: agonist or antagonist")
-	unit := fs.String("unit", "M", "CSV: concentration unit")
+	unit := fs.String("unit", "", "CSV: concentration unit M, mM, uM, nM or pM (required unless the header names it: conc_nM)")
 	model := fs.String("model", "", "CSV: model (default hill)")
 	resamples := fs.Int("bootstrap", 0, "CSV: bootstrap resamples (0 = none)")
 	seed := fs.Uint64("seed", 1, "CSV: bootstrap seed")
@@ -66,10 +67,24 @@ func runSubmit(args []string, getenv func(string) string, stdout, stderr io.Writ
 		q := url.Values{}
 		if strings.EqualFold(filepath.Ext(path), ".csv") {
 			ctype = "text/csv"
+			if *layout == "" {
+				// Refuse here what the server would: a long CSV without a unit.
+				u, err := ingest.ParseUnit(*unit)
+				if err != nil {
+					fmt.Fprintf(stderr, "sluice submit: --unit: %v\n", err)
+					return 2
+				}
+				if _, _, err := ingest.ReadPlateCSV(bytes.NewReader(body), u, "--unit"); errors.Is(err, ingest.ErrNoUnit) {
+					fmt.Fprintf(stderr, "sluice submit: %s: %v\n", path, err)
+					return 2
+				}
+			}
 			q.Set("format", *format)
 			q.Set("barcode", strings.TrimSuffix(filepath.Base(path), filepath.Ext(path)))
 			q.Set("mode", *mode)
-			q.Set("conc_unit", *unit)
+			if *unit != "" {
+				q.Set("conc_unit", *unit)
+			}
 			for k, v := range map[string]string{"assay_id": *assay, "model": *model, "layout_id": *layout} {
 				if v != "" {
 					q.Set(k, v)
@@ -285,7 +300,10 @@ func printSummary(w io.Writer, v *wire.PlateView) {
 		}
 		// An inactive curve has no potency (null, shown as -); one
 		// beyond the tested range reads as the bound with its qualifier.
-		pe, ec := "-", "-"
+		pe, ec, ci := "-", "-", "-"
+		if lo, hi := float64(pc.EC50.CI[0]), float64(pc.EC50.CI[1]); !math.IsNaN(lo) && !math.IsNaN(hi) {
+			ci = fmt.Sprintf("[%.3g, %.3g]", lo, hi)
+		}
 		if !math.IsNaN(float64(pc.PEC50)) {
 			pe, ec = fmt.Sprintf("%.2f", float64(pc.PEC50)), fmt.Sprintf("%.3g", float64(pc.EC50.Estimate))
 			if q := pc.Qualifier; q != nil && (*q == ">" || *q == "<") && !math.IsNaN(float64(pc.Bound)) {
@@ -293,8 +311,7 @@ func printSummary(w io.Writer, v *wire.PlateView) {
 				pe, ec = fmt.Sprintf("%s %.2f", pq, -math.Log10(float64(pc.Bound))), fmt.Sprintf("%s %.3g", *q, float64(pc.Bound))
 			}
 		}
-		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t[%.3g, %.3g]\t%s\n", pc.Key, pc.Status, pc.Activity, pe, ec,
-			float64(pc.EC50.CI[0]), float64(pc.EC50.CI[1]), strings.Join(pc.Flags, ","))
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\n", pc.Key, pc.Status, pc.Activity, pe, ec, ci, strings.Join(pc.Flags, ","))
 	}
 	tw.Flush()
 }

@@ -33,7 +33,7 @@ func invented96CSV() string {
 		for c := 1; c <= 10; c++ {
 			conc := 1e-9 * math.Pow(10, 0.5*float64(c-1))
 			y := 100 + 900*fit.Hill.Value([]float64{0, 1, -7 + 0.2*float64(r), 1.2}, conc) + 20*rng.NormFloat64()
-			fmt.Fprintf(&b, "%s,sample,LX-%d,%g,%.1f\n", f.Name(plate.Well{Row: r, Col: c}), r, conc, y)
+			fmt.Fprintf(&b, "%s,sample,demo-ag-%d,%g,%.1f\n", f.Name(plate.Well{Row: r, Col: c}), r, conc, y)
 		}
 	}
 	return b.String()
@@ -69,24 +69,30 @@ func TestSubmit(t *testing.T) {
 	dir := t.TempDir()
 	path := filepath.Join(dir, "LK-96-01.csv")
 	os.WriteFile(path, []byte(invented96CSV()), 0o644)
-	code, out, stderr := runCLI(t, "", "submit", "--server", hs.URL, "--token", secret, "--format", "96", "--bootstrap", "200", "--wait", path)
+	code, out, stderr := runCLI(t, "", "submit", "--server", hs.URL, "--token", secret, "--format", "96", "--unit", "M", "--bootstrap", "200", "--wait", path)
 	if code != 0 {
 		t.Fatalf("exit %d\n%s\n%s", code, out, stderr)
 	}
-	if !strings.Contains(stderr, "retrying") || !strings.Contains(out, "QC pass") || strings.Count(out, "LX-") != 8 ||
+	if !strings.Contains(stderr, "retrying") || !strings.Contains(out, "QC pass") || strings.Count(out, "demo-ag-") != 8 ||
 		!strings.Contains(out, "research use only") {
 		t.Errorf("output:\n%s\nstderr:\n%s", out, stderr)
 	}
 	// Submitting the same file again replays: still one plate.
-	code, out2, _ := runCLI(t, "", "submit", "--server", hs.URL, "--token", secret, "--format", "96", "--bootstrap", "200", path)
+	code, out2, _ := runCLI(t, "", "submit", "--server", hs.URL, "--token", secret, "--format", "96", "--unit", "M", "--bootstrap", "200", path)
 	if code != 0 || strings.Fields(out2)[2] != strings.Fields(out)[2] {
 		t.Errorf("resubmission made a new plate:\n%s\nvs\n%s", out2, out)
 	}
 	// A bad file: the problem's pointer reaches the user, exit 1.
 	bad := filepath.Join(dir, "bad.csv")
 	os.WriteFile(bad, []byte("well,role,compound_id,conc,value\nZ1,sample,X,1,2\n"), 0o644)
-	code, _, stderr = runCLI(t, "", "submit", "--server", hs.URL, "--token", secret, "--format", "96", bad)
+	code, _, stderr = runCLI(t, "", "submit", "--server", hs.URL, "--token", secret, "--format", "96", "--unit", "M", bad)
 	if code != 1 || !strings.Contains(stderr, "row 2") || !strings.Contains(stderr, "Z1") {
 		t.Errorf("bad file: exit %d, %s", code, stderr)
+	}
+	// No --unit and none in the header: refused before anything is sent.
+	before := posts.Load()
+	code, _, stderr = runCLI(t, "", "submit", "--server", hs.URL, "--token", secret, "--format", "96", path)
+	if code != 2 || !strings.Contains(stderr, "give --unit, or name the unit in the header") || posts.Load() != before {
+		t.Errorf("no unit: exit %d, %d posts, %s", code, posts.Load()-before, stderr)
 	}
 }

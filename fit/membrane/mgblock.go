@@ -4,7 +4,7 @@ import "math"
 
 // MgBlock is the fraction of an NMDA-type conductance left unblocked by
 // extracellular Mg²⁺ at potential v (mV) (Jahr & Stevens 1990, J Neurosci
-// 10:3178 [constants from memory, FACTS §7]):
+// 10:3178, their fit of the macroscopic block; FACTS §7):
 //
 //	B(V) = 1 / (1 + [Mg²⁺]o/3.57 mM · e^(−0.062·V))
 func MgBlock(mgOut, v float64) float64 {

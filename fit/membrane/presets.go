@@ -8,13 +8,14 @@ type Cell struct {
 	Resting map[string]float64
 }
 
-// Presets are typical cells. The concentrations are textbook values (FACTS
-// §7: the muscle column after Hille, Ion Channels of Excitable Membranes,
-// 3rd ed., Table 1.1, from memory; the neuron column common textbook
-// values); the resting conductances are illustrative (the neuron's are those
-// of FACTS §7's chord-conductance example; the muscle fibre's follow the
-// common statement that resting skeletal muscle conducts Cl⁻ about twice as
-// well as K⁺, from memory). Enter measured values for real work.
+// Presets are typical cells. The concentrations are typical textbook
+// values (FACTS §7; compare the tables of mammalian ion concentrations in
+// Hille, Ion Channels of Excitable Membranes, 3rd ed., ch. 1), not
+// measurements of any one cell; the resting conductances are illustrative
+// (the neuron's are those of FACTS §7's chord-conductance example; the
+// muscle fibre's follow the typical textbook statement that resting
+// skeletal muscle conducts Cl⁻ about twice as well as K⁺). Enter measured
+// values for real work.
 var Presets = map[string]Cell{
 	"neuron": {TempC: 37,
 		Ions: Ions{

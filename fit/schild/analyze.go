@@ -34,9 +34,13 @@ type Settings struct {
 	// Progress, when not nil, counts the bootstrap's refitted resamples
 	// (see fit.Progress); the caller reads it from its own goroutine.
 	Progress *fit.Progress
-	// MaxDepression: a curve whose fitted top lies more than this fraction
-	// below the control's is insurmountable. Zero means 0.2 (common
-	// practice; FACTS §2 asks for "a set tolerance").
+	// MaxDepression: a curve whose fitted window (top − bottom) is more
+	// than this fraction smaller than the control's window is
+	// insurmountable. The window, not the top, because on a baseline the
+	// top hides a loss of the response the agonist can raise (on a
+	// baseline of 40, a top of 115 against 140 is a 25 % loss of window but
+	// an 18 % fall of the top). Zero means 0.2 (common practice; FACTS §2
+	// asks for "a set tolerance"); in (0, 1).
 	MaxDepression float64
 	// MaxSlopeRatio: a curve whose Hill slope differs from the control's by
 	// more than this factor is non-parallel. Zero means 1.5 (common
@@ -131,6 +135,9 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 	if set.MaxDepression == 0 {
 		set.MaxDepression = 0.2
 	}
+	if !(set.MaxDepression > 0 && set.MaxDepression < 1) {
+		return nil, fmt.Errorf("%w: max depression %g is outside (0, 1)", fit.ErrInvalidInput, set.MaxDepression)
+	}
 	if set.MaxSlopeRatio == 0 {
 		set.MaxSlopeRatio = 1.5
 	}
@@ -180,7 +187,7 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 		return res, nil
 	}
 	// Dose ratios, shape checks.
-	cTop, cHill, cL := ctl.Top().Estimate, ctl.HillSlope().Estimate, ctl.LogEC50()
+	cWindow, cHill, cL := window(ctl), ctl.HillSlope().Estimate, ctl.LogEC50()
 	var abs, drs []float64
 	for i, r := range res.Curves {
 		if i == control {
@@ -197,7 +204,7 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 		dr := DoseRatio{AntagonistConc: curves[i].AntagonistConc, DoseRatio: Estimate{Estimate: math.Pow(10, d),
 			SE: math.Ln10 * math.Pow(10, d) * se, Lo: math.Pow(10, d-t*se), Hi: math.Pow(10, d+t*se)}}
 		res.DoseRatios = append(res.DoseRatios, dr)
-		if top := r.Top().Estimate; top < (1-set.MaxDepression)*cTop {
+		if window(r) < (1-set.MaxDepression)*cWindow {
 			res.addFlag(FlagInsurmountable)
 		}
 		if h := r.HillSlope().Estimate; h > cHill*set.MaxSlopeRatio || h < cHill/set.MaxSlopeRatio {
@@ -235,6 +242,9 @@ func Analyze(ctx context.Context, curves []Curve, s *Settings) (*Result, error) 
 	}
 	return res, nil
 }
+
+// window is a rising curve's fitted response range, top − bottom.
+func window(r *fit.Result) float64 { return r.Top().Estimate - r.Bottom().Estimate }
 
 // CurveError says which curve of an analysis is unusable.
 type CurveError struct {

@@ -1,7 +1,7 @@
 // Package schild analyses competitive antagonism at ligand-gated channels:
 // dose ratios from agonist curves shifted by an antagonist, the Schild
 // regression (Arunlakshana & Schild 1959, Br J Pharmacol 14:48), the global
-// Gaddum/Schild fit of all curves at once (Lew & Angus 1995, Trends
+// Schild fit of all curves at once, by the Gaddum–Schild equation (Lew & Angus 1995, Trends
 // Pharmacol Sci 16:328), detection of insurmountable or non-parallel
 // antagonism (when Schild analysis is invalid), the functional
 // Cheng–Prusoff correction (Leff & Dougall 1993, Trends Pharmacol Sci

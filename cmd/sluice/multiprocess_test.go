@@ -270,7 +270,7 @@ func TestMultiProcess(t *testing.T) {
 // job IDs.
 func postPlate(t *testing.T, base, barcode string, b, seed int) (string, int64) {
 	t.Helper()
-	url := fmt.Sprintf("%s/v1/plates?format=96&barcode=%s&resamples=%d&seed=%d", base, barcode, b, seed)
+	url := fmt.Sprintf("%s/v1/plates?conc_unit=M&format=96&barcode=%s&resamples=%d&seed=%d", base, barcode, b, seed)
 	resp, err := http.Post(url, "text/csv", strings.NewReader(invented96CSV()))
 	if err != nil {
 		t.Fatal(err)

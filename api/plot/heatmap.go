@@ -43,7 +43,7 @@ func (h *Heatmap) Write(w io.Writer) error {
 		}
 	}
 	cell := 640.0 / float64(f.Cols)
-	wd, ht := 60+cell*float64(f.Cols)+20, 70+cell*float64(f.Rows)+70
+	wd, ht := 60+cell*float64(f.Cols)+20, 70+cell*float64(f.Rows)+90
 	var b strings.Builder
 	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" width="%.0f" height="%.0f" font-family="sans-serif" font-size="11">`+"\n", wd, ht)
 	fmt.Fprintf(&b, `<rect width="100%%" height="100%%" fill="white"/>`+"\n")
@@ -56,6 +56,12 @@ func (h *Heatmap) Write(w io.Writer) error {
 		fill := "#eeeeee"
 		if r.Value != nil && hi > lo {
 			fill = ramp((*r.Value - lo) / (hi - lo))
+		}
+		if r.Role == plate.Empty || r.Role == plate.Excluded {
+			// Not measured, or left out: white with a cross, never on the scale.
+			fmt.Fprintf(&b, `<g class="%s"><rect x="%.1f" y="%.1f" width="%.1f" height="%.1f" fill="white" stroke="#999"/><path d="M%.1f,%.1f l%.1f,%.1f M%.1f,%.1f l%.1f,%.1f" stroke="#999"/><title>%s %s %s</title></g>`+"\n",
+				r.Role, x, y, cell-1, cell-1, x, y, cell-1, cell-1, x+cell-1, y, -(cell - 1), cell-1, esc(r.Name), esc(string(r.Role)), valueText(r.Value))
+			continue
 		}
 		stroke := "none"
 		switch r.Role {
@@ -78,7 +84,15 @@ func (h *Heatmap) Write(w io.Writer) error {
 		name := f.Name(plate.Well{Row: row})
 		fmt.Fprintf(&b, `<text x="52" y="%.1f" text-anchor="end">%s</text>`+"\n", 60+cell*(float64(row)+0.7), name[:len(name)-2])
 	}
-	fmt.Fprintf(&b, `<text x="60" y="%.1f" fill="#444">red outline: max controls · blue: min controls · colour: raw value %.4g to %.4g</text>`+"\n", ht-44, lo, hi)
+	// The colour bar: the scale of raw values, lowest to highest.
+	const bars = 40
+	barX, barY, barW := 60.0, ht-88, 240.0
+	for i := 0; i < bars; i++ {
+		fmt.Fprintf(&b, `<rect class="colourbar" x="%.1f" y="%.1f" width="%.1f" height="10" fill="%s"/>`+"\n", barX+barW*float64(i)/bars, barY, barW/bars+0.5, ramp((float64(i)+0.5)/bars))
+	}
+	fmt.Fprintf(&b, `<text x="%.1f" y="%.1f" text-anchor="middle">%.4g</text><text x="%.1f" y="%.1f" text-anchor="middle">%.4g</text>`+"\n", barX, barY+22, lo, barX+barW, barY+22, hi)
+	fmt.Fprintf(&b, `<text x="%.1f" y="%.1f" fill="#444">raw value</text>`+"\n", barX+barW+14, barY+9)
+	fmt.Fprintf(&b, `<text x="%.1f" y="%.1f" fill="#444">red outline: max controls · blue: min controls · crossed: empty or excluded</text>`+"\n", barX, barY+42)
 	fmt.Fprintf(&b, `<text x="60" y="%.1f" font-size="9" fill="#444">%s</text>`+"\n", ht-28, esc(h.Footnote))
 	b.WriteString("</svg>\n")
 	_, err := io.WriteString(w, b.String())

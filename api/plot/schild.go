@@ -81,8 +81,22 @@ func (p *Schild) Write(w io.Writer) error {
 		qx := func(x float64) float64 { return u0 + (x-smin)/(smax-smin)*(u1-u0) }
 		qy := func(y float64) float64 { return y0 - (y-tmin)/(tmax-tmin)*(y0-y1) }
 		if p.HasLine {
-			fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#08519c" stroke-width="2"/>`+"\n",
+			// Both lines are clipped to the panel. The dotted one has slope 1
+			// through the regression's x intercept, log[B] = −pA2, which is
+			// marked on the zero line.
+			fmt.Fprintf(&b, `<clipPath id="schild-panel"><rect x="%.1f" y="%.1f" width="%.1f" height="%.1f"/></clipPath>`+"\n", u0, y1, u1-u0, y0-y1)
+			fmt.Fprintf(&b, `<line class="regression" clip-path="url(#schild-panel)" x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#08519c" stroke-width="2"/>`+"\n",
 				qx(smin), qy(p.Intercept+p.Slope*smin), qx(smax), qy(p.Intercept+p.Slope*smax))
+			if p.Slope != 0 {
+				xi := -p.Intercept / p.Slope
+				fmt.Fprintf(&b, `<line class="unit-slope" clip-path="url(#schild-panel)" x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#636363" stroke-dasharray="2 3"/>`+"\n",
+					qx(smin), qy(smin-xi), qx(smax), qy(smax-xi))
+				if xi >= smin && xi <= smax {
+					fmt.Fprintf(&b, `<circle class="pa2" cx="%.1f" cy="%.1f" r="4" fill="none" stroke="#d94801" stroke-width="2"/><text x="%.1f" y="%.1f" fill="#d94801">pA2 %.2f</text>`+"\n",
+						qx(xi), qy(0), qx(xi)+6, qy(0)-8, -xi)
+				}
+				fmt.Fprintf(&b, `<text x="%.1f" y="%.1f" font-size="11" fill="#444">solid: regression, slope %.2f · dotted: slope 1</text>`+"\n", u0+6, y1+12, p.Slope)
+			}
 		}
 		for i, x := range p.SchildX {
 			fmt.Fprintf(&b, `<circle cx="%.1f" cy="%.1f" r="4" fill="#252525"/>`+"\n", qx(x), qy(p.SchildY[i]))
@@ -102,11 +116,12 @@ func axes(b *strings.Builder, x0, x1, y0, y1, xmin, xmax, ymin, ymax float64, xl
 	px := func(x float64) float64 { return x0 + (x-xmin)/(xmax-xmin)*(x1-x0) }
 	py := func(y float64) float64 { return y0 - (y-ymin)/(ymax-ymin)*(y0-y1) }
 	fmt.Fprintf(b, `<path d="M%.1f,%.1f V%.1f H%.1f" fill="none" stroke="black"/>`+"\n", x0, y1, y0, x1)
-	for _, t := range ticks(xmin, xmax) {
-		fmt.Fprintf(b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f" text-anchor="middle">%g</text>`+"\n", px(t), y0, px(t), y0+5, px(t), y0+18, t)
+	xt, yt := ticks(xmin, xmax), ticks(ymin, ymax)
+	for _, t := range xt {
+		fmt.Fprintf(b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f" text-anchor="middle">%s</text>`+"\n", px(t), y0, px(t), y0+5, px(t), y0+18, tickLabel(t, xt))
 	}
-	for _, t := range ticks(ymin, ymax) {
-		fmt.Fprintf(b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f" text-anchor="end">%g</text>`+"\n", x0-5, py(t), x0, py(t), x0-8, py(t)+4, t)
+	for _, t := range yt {
+		fmt.Fprintf(b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f" text-anchor="end">%s</text>`+"\n", x0-5, py(t), x0, py(t), x0-8, py(t)+4, tickLabel(t, yt))
 	}
 	fmt.Fprintf(b, `<text x="%.1f" y="%.1f" text-anchor="middle">%s</text>`+"\n", (x0+x1)/2, y0+34, esc(xl))
 	fmt.Fprintf(b, `<text transform="translate(%.1f,%.1f) rotate(-90)" text-anchor="middle">%s</text>`+"\n", x0-42, (y0+y1)/2, esc(yl))

@@ -57,9 +57,18 @@ func TestSchildSVG(t *testing.T) {
 		SchildX: []float64{-8, -7, -6}, SchildY: []float64{0, 1, 2}, HasLine: true, Slope: 1, Intercept: 8}
 	var b strings.Builder
 	fig.Write(&b)
-	n := wellFormed(t, b.String())
-	if n["circle"] != 5 || n["polyline"] != 1 {
+	s := b.String()
+	n := wellFormed(t, s)
+	// Five data points and the pA2 mark.
+	if n["circle"]-strings.Count(s, `class="pa2"`) != 5 || n["polyline"] != 1 {
 		t.Errorf("elements %v", n)
+	}
+	// Intercept 8, slope 1: pA2 8 marked, the slope-1 line drawn, both
+	// lines clipped to the panel.
+	for _, want := range []string{`class="pa2"`, "pA2 8.00", `class="unit-slope"`, `class="regression" clip-path="url(#schild-panel)"`, "<clipPath"} {
+		if !strings.Contains(s, want) {
+			t.Errorf("no %q", want)
+		}
 	}
 }
 
@@ -89,11 +98,14 @@ func TestHeatmapSVG(t *testing.T) {
 	}
 	s := b.String()
 	n := wellFormed(t, s)
-	// The background and one cell per well.
-	if n["rect"] != 4 || !strings.Contains(s, "P&lt;1&gt;&amp;&#34;") || !strings.Contains(s, "Z′ 0.100 is below") {
+	// The background and one cell per well, besides the colour bar.
+	if n["rect"]-strings.Count(s, `class="colourbar"`) != 4 || strings.Count(s, `class="colourbar"`) < 10 || !strings.Contains(s, "P&lt;1&gt;&amp;&#34;") || !strings.Contains(s, "Z′ 0.100 is below") {
 		t.Errorf("elements %v\n%s", n, s)
 	}
 	if !strings.Contains(s, `stroke="#d62728"`) || !strings.Contains(s, `stroke="#1f77b4"`) || !strings.Contains(s, "H06 empty no value") {
 		t.Errorf("controls not outlined or empty well not labelled:\n%s", s)
+	}
+	if !strings.Contains(s, `<g class="empty">`) {
+		t.Errorf("the empty well is not drawn apart:\n%s", s)
 	}
 }

@@ -102,7 +102,7 @@ func badCatalogue(t *testing.T) []badCase {
 	}
 	bodies := map[string]string{}
 	scopes := map[string]string{}
-	for _, rt := range walkRoutes(t) {
+	for _, rt := range walkRoutes(t, map[string]func(*testing.T, *testServer) string{}) {
 		bodies[rt.path], scopes[rt.path] = rt.body(0), rt.scope
 	}
 	bodies["/v1/fits"] = mutate(t, bodies["/v1/fits"], "bootstrap", `{"resamples":50,"seed":1}`)

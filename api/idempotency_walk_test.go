@@ -42,7 +42,9 @@ func audited(action string) func(*testing.T, db.Store) int {
 	}
 }
 
-func walkRoutes(t *testing.T) []walkRoute {
+// walkRoutes returns the routes; a route whose path is a template gets its
+// path from setups[path] (which stores what the route needs).
+func walkRoutes(t *testing.T, setups map[string]func(*testing.T, *testServer) string) []walkRoute {
 	wells, _ := invented384(3)
 	var layout []map[string]any
 	for _, w := range wells {
@@ -74,7 +76,7 @@ func walkRoutes(t *testing.T) []walkRoute {
 		}
 		return n
 	}
-	return []walkRoute{
+	return append([]walkRoute{
 		{"/v1/fits", ScopeSubmit, func(i int) string { return dnaseBody(t, fmt.Sprintf(`,"labels":{"walk":"%d"}`, i)) },
 			func(t *testing.T, store db.Store) int {
 				runs, _, err := store.FitRuns(context.Background(), db.FitFilter{Limit: 1000})
@@ -103,7 +105,7 @@ func walkRoutes(t *testing.T) []walkRoute {
 		{"/v1/qc/rules", ScopeRead, func(i int) string {
 			return fmt.Sprintf(`{"baseline":{"mean":100,"sd":2},"points":[{"value":101},{"value":10%d,"group":"p2"}]}`, i)
 		}, nil},
-	}
+	}, potencyWalkRoutes(t, setups)...)
 }
 
 // TestIdempotencyWalk sends every POST route the same request under one
@@ -113,8 +115,12 @@ func walkRoutes(t *testing.T) []walkRoute {
 func TestIdempotencyWalk(t *testing.T) {
 	dbtest.Engines(t, func(t *testing.T, store db.Store) {
 		ts := newTestServer(t, store)
-		for _, rt := range walkRoutes(t) {
+		setups := map[string]func(*testing.T, *testServer) string{}
+		for _, rt := range walkRoutes(t, setups) {
 			t.Run(strings.TrimPrefix(rt.path, "/v1/"), func(t *testing.T) {
+				if setup := setups[rt.path]; setup != nil {
+					rt.path = setup(t, ts)
+				}
 				key := func(i int) string { return fmt.Sprintf("walk-%s-%d", rt.path, i) }
 				// Twice in a row.
 				a := ts.do("POST", rt.path, rt.scope, rt.body(0), "Idempotency-Key", key(0))

@@ -40,7 +40,8 @@ func (s *Server) plateCurvesCSV(c *gin.Context) {
 			for _, pr := range pc.Params {
 				header = append(header, pr.Name, pr.Name+"_se")
 			}
-			header = append(header, "ec50", "ec50_ci_lo", "ec50_ci_hi", "pec50", "n", "r2", "flags", "activity", "qualifier", "bound", "direction")
+			header = append(header, "ec50", "ec50_ci_lo", "ec50_ci_hi", "pec50", "n", "r2", "flags", "activity", "qualifier", "bound", "direction",
+				"log_ec50", "log_ec50_ci_lo", "log_ec50_ci_hi", "plate_qc", "curve_id")
 			// A write error is the client's connection; Flush reports it.
 			_ = w.Write(header)
 		}
@@ -50,6 +51,8 @@ func (s *Server) plateCurvesCSV(c *gin.Context) {
 		}
 		row = append(row, num(pc.EC50.Estimate), num(pc.EC50.CI[0]), num(pc.EC50.CI[1]), num(pc.PEC50), strconv.Itoa(pc.Stats.N),
 			num(pc.Stats.R2), strings.Join(pc.Flags, ";"), pc.Activity, deref(pc.Qualifier), num(pc.Bound), deref(pc.Direction))
+		row = append(row, logEC50Cols(pc, num)...)
+		row = append(row, plateVerdict(p), pc.ID)
 		_ = w.Write(row)
 	}
 	w.Flush()

@@ -25,6 +25,11 @@ var queryParams = map[string][]string{
 	"POST /v1/potential":           {"format"},
 	"GET /v1/assays/:id/drift":     {"metric", "from", "to"},
 	"GET /v1/assays/:id/drift.svg": {"metric", "from", "to"},
+	// Potency histories.
+	"GET /v1/compounds/:id/potency":     {"assay_id", "from", "to", "include", "msr_window"},
+	"GET /v1/compounds/:id/potency.svg": {"assay_id", "from", "to", "msr_window"},
+	"GET /v1/assays/:id/potency":        {"sort", "limit", "cursor", "msr_window", "format"},
+	"GET /v1/plates":                    {"assay_id", "barcode", "from", "to", "limit", "cursor"},
 }
 
 // routes is the whole API surface; the OpenAPI document lists the same
@@ -63,6 +68,14 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	read.GET("/schild/:id/plot.svg", s.schildPlot)
 	read.GET("/analyses/:id", s.getAnalysis)
 	read.GET("/analyses/:id/result", s.getAnalysisResult)
+	read.GET("/compounds/:id/potency", s.compoundPotency)
+	read.GET("/compounds/:id/potency.svg", s.compoundPotencyPlot)
+	read.GET("/assays/:id/potency", s.assayPotency)
+	read.GET("/curves/:id", s.getCurve)
+	read.GET("/curves/:id/plot.svg", s.curvePlot)
+	read.GET("/msr-studies/:id", s.getMSRStudy)
+	read.GET("/plates", s.listPlates)
+	read.GET("/plates/:id/wells", s.plateWells)
 	read.GET("/assays/:id/drift", s.getDrift)
 	read.GET("/assays/:id/drift.svg", s.driftPlot)
 	read.GET("/drift", s.listDrift)
@@ -76,6 +89,9 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	submit.POST("/layouts", s.createLayout)
 	submit.POST("/plates", s.createPlate)
 	submit.POST("/schild", s.createSchild)
+	submit.POST("/curves/:id/review", s.reviewCurve)
+	submit.POST("/curves/:id/refit", s.refitCurve)
+	submit.POST("/msr-studies", s.createMSRStudy)
 
 	// Calculators: no record is stored, so scope read suffices.
 	calc := r.Group("/v1", s.authenticate(ScopeRead))

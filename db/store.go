@@ -62,6 +62,23 @@ type Results interface {
 	Analysis(ctx context.Context, id string) (*Analysis, error)
 	// PlateSchildRuns lists a plate's Schild runs by agonist, antagonist.
 	PlateSchildRuns(ctx context.Context, plateID string) ([]SchildRun, error)
+	Potency
+}
+
+// Potency reads potency histories: curves as potency rows, their review
+// events and refits, and replicate-experiment studies.
+type Potency interface {
+	// CompoundPotency returns a compound's curves, oldest experiment first.
+	CompoundPotency(ctx context.Context, f PotencyFilter) ([]PotencyRow, error)
+	// AssayCompounds pages through the compounds with curves in an assay.
+	AssayCompounds(ctx context.Context, assayID, after string, limit int, desc bool) ([]string, error)
+	// AssayPotency returns the curves of some compounds in an assay.
+	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]PotencyRow, error)
+	CurvePotency(ctx context.Context, id string) (*PotencyRow, error)
+	// Reviews returns the curves' review events, oldest first per curve.
+	Reviews(ctx context.Context, curveIDs []string) ([]Review, error)
+	CurveRefit(ctx context.Context, id string) (*Refit, error)
+	MSRStudy(ctx context.Context, id string) (*MSRStudy, error)
 }
 
 // Plates reads plates, their wells, curves and layouts, and records a
@@ -82,6 +99,8 @@ type Plates interface {
 	// PlateQCSeries returns one QC metric over an assay's assessed plates,
 	// oldest experiment first.
 	PlateQCSeries(ctx context.Context, assayID, metric string, from, to time.Time) ([]QCPoint, error)
+	// PlateList lists plates newest experiment first, one page.
+	PlateList(ctx context.Context, f PlateFilter) (plates []Plate, next string, err error)
 	// DriftPlates returns an assay's assessed plates with every figure
 	// assay drift charts, oldest experiment first.
 	DriftPlates(ctx context.Context, assayID string, from, to time.Time) ([]DriftPlate, error)
@@ -148,6 +167,11 @@ type Writer interface {
 	InsertAssay(ctx context.Context, a *Assay) error
 	InsertCompound(ctx context.Context, c *Compound) error
 	InsertFitRun(ctx context.Context, r *FitRun) error
+	// InsertReview appends a review event to a curve.
+	InsertReview(ctx context.Context, r *Review) error
+	// InsertRefit stores a refit's curve result and what it left out.
+	InsertRefit(ctx context.Context, r *CurveResult, f *Refit) error
+	InsertMSRStudy(ctx context.Context, m *MSRStudy) error
 	InsertToken(ctx context.Context, t *Token) error
 	// UpsertToken inserts the token or, when one with that name exists,
 	// replaces its hash and scope (for the admin token seeded at start);

@@ -15,13 +15,13 @@ import (
 //
 // Why: the residual scheme draws errors from the fit's residuals, rescaled
 // by √(n/(n − p)) so that their variance is the unbiased σ̂² (Davison &
-// Hinkley 1997, §6.2.3), but it then treats that σ̂ as if it were σ. A
+// Hinkley 1997, ch. 6, resampling errors in regression), but it then treats that σ̂ as if it were σ. A
 // resampled estimate is spread like θ̂ about θ with σ known, so its
 // percentile (or BCa) interval has, for a nearly linear parameter, the
 // width of the normal-theory interval ±z·SE, whereas σ estimated from ν
 // residual degrees of freedom calls for ±t(ν)·SE — the same correction that
-// turns the Wald interval's z into t (Seber & Wild 1989, §5.1; Davison &
-// Hinkley 1997, §5.2.1 on the studentised pivot the plain bootstrap
+// turns the Wald interval's z into t (Seber & Wild 1989, ch. 5; Davison &
+// Hinkley 1997, ch. 5 on the studentised pivot the plain bootstrap
 // misses). Widening each side's distance from the estimate by κ keeps the
 // bootstrap's asymmetry and applies that correction; κ → 1 as ν grows
 // (1.049 for ν = 26, 1.416 for ν = 4).

@@ -14,14 +14,15 @@ func TestCurveMarks(t *testing.T) {
 		PointConc: []float64{1e-8, 1e-7, 1e-6}, PointResp: []float64{90, 50, 10},
 		LineConc: []float64{1e-8, 1e-7, 1e-6}, Line: []float64{90, 50, 10},
 		BandLo: []float64{85, 45, 5}, BandHi: []float64{95, 55, 15},
-		BandLabel: "95% Wald band (delta method)", Mark: 1e-7, MarkLabel: "IC50", Note: "inactive: no potency"}
+		BandLabel: "95% Wald band (delta method)", Mark: 1e-7, MarkLabel: "IC50", Note: "inactive: no potency",
+		HLine: -55, HLineLabel: "threshold -55.0 mV"}
 	var b strings.Builder
 	if err := fig.Write(&b); err != nil {
 		t.Fatal(err)
 	}
 	s := b.String()
 	wellFormed(t, s)
-	for _, want := range []string{`class="mark"`, ">IC50<", `class="legend"`, "95% Wald band (delta method)", `class="note"`, "inactive: no potency"} {
+	for _, want := range []string{`class="mark"`, ">IC50<", `class="legend"`, "95% Wald band (delta method)", `class="note"`, "inactive: no potency", `class="hline"`, "threshold -55.0 mV"} {
 		if !strings.Contains(s, want) {
 			t.Errorf("no %q", want)
 		}

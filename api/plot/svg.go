@@ -34,7 +34,11 @@ type Curve struct {
 	Mark      float64
 	MarkLabel string
 	Note      string
-	Footnote  string
+	// HLine, when HLineLabel is set, is a horizontal reference line on the
+	// left axis's scale (e.g. a firing threshold), kept inside the y range.
+	HLine      float64
+	HLineLabel string
+	Footnote   string
 }
 
 const (
@@ -76,6 +80,9 @@ func (p *Curve) Write(w io.Writer) error {
 	}
 	if math.IsInf(ymin, 0) {
 		ymin, ymax = 0, 1
+	}
+	if p.HLineLabel != "" && !math.IsNaN(p.HLine) && !math.IsInf(p.HLine, 0) {
+		ymin, ymax = math.Min(ymin, p.HLine), math.Max(ymax, p.HLine)
 	}
 	// A flat curve: open the range to ±5 % of its level (at least ±0.5)
 	// so that the ticks are round numbers, not 4.00000004.
@@ -139,6 +146,11 @@ func (p *Curve) Write(w io.Writer) error {
 			fmt.Fprintf(&b, `<line class="mark" x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#d94801" stroke-dasharray="5,3"/>`+"\n", x, y1, x, y0)
 			fmt.Fprintf(&b, `<text class="mark" x="%.1f" y="%.1f" fill="#d94801">%s</text>`+"\n", x+4, y1+14, esc(p.MarkLabel))
 		}
+	}
+	if p.HLineLabel != "" && !math.IsNaN(p.HLine) && !math.IsInf(p.HLine, 0) {
+		y := py(p.HLine)
+		fmt.Fprintf(&b, `<line class="hline" x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="#a50f15" stroke-dasharray="6,4"/><text x="%.1f" y="%.1f" fill="#a50f15" font-size="11">%s</text>`+"\n",
+			x0, y, x1, y, x0+6, y-4, esc(p.HLineLabel))
 	}
 	if p.Note != "" {
 		fmt.Fprintf(&b, `<text class="note" x="%.1f" y="%.1f" font-size="14" fill="#a50f15">%s</text>`+"\n", x0+12, y1+20, esc(p.Note))

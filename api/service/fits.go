@@ -30,6 +30,7 @@ type fitInput struct {
 	settings fit.Settings
 	boot     *fit.BootSettings
 	store    bool
+	measured time.Time // the experiment time; zero means the upload time
 	free     int       // parameters estimated
 	work     cost.Work // fit.Cost of the request
 	// newCompound: the compound_id is not in the catalogue yet; a stored
@@ -104,6 +105,13 @@ func (s *Service) validateFit(req *wire.FitRequest) (*fitInput, error) {
 		if len(k) == 0 || len(k) > MaxLabelLength || len(v) > MaxLabelLength {
 			return nil, Invalid(ptr, "label names must be 1–%d bytes and values at most %d", MaxLabelLength, MaxLabelLength)
 		}
+	}
+	if req.MeasuredAt != "" {
+		t, err := time.Parse(time.RFC3339Nano, req.MeasuredAt)
+		if err != nil {
+			return nil, Invalid("/measured_at", "%q is not an RFC 3339 time (e.g. 2026-11-03T09:30:00Z)", req.MeasuredAt)
+		}
+		in.measured = t.UTC().Truncate(time.Microsecond)
 	}
 	in.free = free
 	in.settings = fit.Settings{Model: model, Fixed: req.Fixed, Confidence: req.Confidence, MaxHill: req.MaxHill,
@@ -232,7 +240,7 @@ func (s *Service) runFit(ctx context.Context, who Caller, req *wire.FitRequest, 
 		r, err := jsonReply(http.StatusOK, out, "")
 		return plan{reply: r}, err
 	}
-	run, err := s.newFitRun(who, req, inputSHA, res, &out)
+	run, err := s.newFitRun(who, req, inputSHA, res, &out, in.measured)
 	if err != nil {
 		return plan{}, err
 	}
@@ -268,14 +276,18 @@ func (s *Service) runFit(ctx context.Context, who Caller, req *wire.FitRequest, 
 }
 
 // newFitRun is the stored form of a fit; it fills out's provenance.
-func (s *Service) newFitRun(who Caller, req *wire.FitRequest, inputSHA string, res *fit.Result, out *wire.StoredFit) (*db.FitRun, error) {
+func (s *Service) newFitRun(who Caller, req *wire.FitRequest, inputSHA string, res *fit.Result, out *wire.StoredFit, measured time.Time) (*db.FitRun, error) {
 	now := s.now()
+	if measured.IsZero() {
+		measured = now
+	}
 	out.ID = s.newID()
 	out.CreatedAt = now.Format(time.RFC3339Nano)
+	out.MeasuredAt = measured.Format(time.RFC3339Nano)
 	out.SubmittedBy = who.Name
 	out.AssayID, out.CompoundID, out.RefitOf, out.Labels = req.AssayID, req.CompoundID, req.RefitOf, req.Labels
 	out.InputSHA256 = inputSHA
-	run := &db.FitRun{ID: out.ID, CreatedAt: now, SubmittedBy: who.Name, AssayID: req.AssayID,
+	run := &db.FitRun{ID: out.ID, CreatedAt: now, MeasuredAt: measured, SubmittedBy: who.Name, AssayID: req.AssayID,
 		CompoundID: req.CompoundID, RefitOf: req.RefitOf, Model: string(res.Model), Status: res.Status,
 		EngineVersion: fit.EngineVersion, InputSHA256: out.InputSHA256}
 	if l := res.LogEC50().Estimate; res.HasPotency() {

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"slices"
 	"strconv"
 	"time"
 
@@ -37,7 +38,10 @@ func (s *Service) Plate(ctx context.Context, id string) (*wire.PlateView, error)
 		return nil, fmt.Errorf("curves of plate %s: %w", id, err)
 	}
 	for _, cv := range cs {
-		v.Curves = append(v.Curves, cv.Result)
+		if isRefit(cv.Key) {
+			continue // a later version of a curve; GET /v1/curves/{id} has it
+		}
+		v.Curves = append(v.Curves, withCurveID(cv.Result, cv.ID, plateQCFailed(p)))
 	}
 	runs, err := s.store.PlateSchildRuns(ctx, id)
 	if err != nil {
@@ -100,7 +104,9 @@ func (s *Service) PlateCurves(ctx context.Context, id string) (*db.Plate, []wire
 		if err := json.Unmarshal(cv.Result, &out[i]); err != nil {
 			return nil, nil, fmt.Errorf("stored curve %s of plate %s: %w", cv.Key, id, err)
 		}
+		out[i].ID, out[i].PlateQCFailed = cv.ID, plateQCFailed(p)
 	}
+	out = slices.DeleteFunc(out, func(c wire.PlateCurve) bool { return isRefit(c.Key) })
 	return p, out, nil
 }
 

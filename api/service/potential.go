@@ -335,15 +335,16 @@ func (s *Service) runPotential(ctx context.Context, req *wire.PotentialRequest, 
 		return jsonReply(http.StatusOK, out, "")
 	}
 	var buf bytes.Buffer
-	if err := PotentialFigure(out).Write(&buf); err != nil {
+	if err := PotentialFigure(out, req.ThresholdMV).Write(&buf); err != nil {
 		return nil, fmt.Errorf("potential figure: %w", err)
 	}
 	return &Reply{Status: http.StatusOK, ContentType: "image/svg+xml", Body: buf.Bytes()}, nil
 }
 
 // PotentialFigure is V against log concentration, with its interval when
-// there is one, and ΔV on the right-hand axis.
-func PotentialFigure(out *wire.PotentialResponse) *plot.Curve {
+// there is one, ΔV on the right-hand axis, and the threshold (nil: none)
+// as a dashed line.
+func PotentialFigure(out *wire.PotentialResponse, thresholdMV *float64) *plot.Curve {
 	fig := &plot.Curve{Title: "Predicted steady membrane potential", YLabel: "V (mV)",
 		RightLabel: "ΔV from rest (mV)", RightOffset: out.RestMV, XLabel: "log10 [agonist] (M)",
 		Subtitle: fmt.Sprintf("rest %.1f mV · channel reversal %.1f mV", out.RestMV, out.ChannelReversalMV),
@@ -354,6 +355,9 @@ func PotentialFigure(out *wire.PotentialResponse) *plot.Curve {
 		}
 		fig.LineConc = append(fig.LineConc, p.AgonistConc)
 		fig.Line = append(fig.Line, p.VMV)
+		// The computed concentrations as dots: the line only joins them.
+		fig.PointConc = append(fig.PointConc, p.AgonistConc)
+		fig.PointResp = append(fig.PointResp, p.VMV)
 		if p.CI != nil {
 			fig.BandLo = append(fig.BandLo, p.CI.VMV[0])
 			fig.BandHi = append(fig.BandHi, p.CI.VMV[1])
@@ -361,6 +365,9 @@ func PotentialFigure(out *wire.PotentialResponse) *plot.Curve {
 	}
 	if len(fig.BandLo) != len(fig.LineConc) {
 		fig.BandLo, fig.BandHi = nil, nil
+	}
+	if thresholdMV != nil {
+		fig.HLine, fig.HLineLabel = *thresholdMV, fmt.Sprintf("threshold %.1f mV", *thresholdMV)
 	}
 	return fig
 }

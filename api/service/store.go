@@ -58,6 +58,20 @@ type Plates interface {
 	Job(ctx context.Context, id int64) (*db.Job, error)
 }
 
+// Potency reads potency histories, review events, refits and MSR
+// studies, and finds plates.
+type Potency interface {
+	CompoundPotency(ctx context.Context, f db.PotencyFilter) ([]db.PotencyRow, error)
+	AssayCompounds(ctx context.Context, assayID, after string, limit int, desc bool) ([]string, error)
+	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]db.PotencyRow, error)
+	CurvePotency(ctx context.Context, id string) (*db.PotencyRow, error)
+	CurveResult(ctx context.Context, id string) (*db.CurveResult, error)
+	Reviews(ctx context.Context, curveIDs []string) ([]db.Review, error)
+	CurveRefit(ctx context.Context, id string) (*db.Refit, error)
+	MSRStudy(ctx context.Context, id string) (*db.MSRStudy, error)
+	PlateList(ctx context.Context, f db.PlateFilter) ([]db.Plate, string, error)
+}
+
 // Drift reads assays' drift series and charts.
 type Drift interface {
 	DriftPlates(ctx context.Context, assayID string, from, to time.Time) ([]db.DriftPlate, error)
@@ -74,6 +88,7 @@ type Store interface {
 	SchildRuns
 	Analyses
 	Plates
+	Potency
 	Drift
 }
 

@@ -251,7 +251,8 @@ func FromFit(r *fit.Result) FitResult {
 // provenance when stored.
 type StoredFit struct {
 	ID          string            `json:"id,omitempty"`
-	CreatedAt   string            `json:"created_at,omitempty"` // RFC 3339, UTC
+	CreatedAt   string            `json:"created_at,omitempty"`  // RFC 3339, UTC
+	MeasuredAt  string            `json:"measured_at,omitempty"` // RFC 3339, UTC; the experiment time
 	SubmittedBy string            `json:"submitted_by,omitempty"`
 	AssayID     string            `json:"assay_id,omitempty"`
 	CompoundID  string            `json:"compound_id,omitempty"`

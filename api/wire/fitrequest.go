@@ -24,6 +24,9 @@ type FitRequest struct {
 	CompoundID string            `json:"compound_id,omitempty"`
 	RefitOf    string            `json:"refit_of,omitempty"`
 	Labels     map[string]string `json:"labels,omitempty"`
+	// MeasuredAt is the experiment time (RFC 3339), which orders the
+	// compound's potency history; empty means the upload time.
+	MeasuredAt string `json:"measured_at,omitempty"`
 }
 
 // PointIn is one point as submitted, in conc_unit.

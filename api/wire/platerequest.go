@@ -136,6 +136,12 @@ type JobView struct {
 // PlateCurve is one curve of a plate: the result object with the compound
 // (and antagonist) it belongs to.
 type PlateCurve struct {
+	// ID is the curve's potency record (GET /v1/curves/{id}); set when
+	// read back, not stored in the document.
+	ID string `json:"id,omitempty"`
+	// PlateQCFailed: the plate failed QC, so the curve is not usable in
+	// potency histories by default. Set when read back.
+	PlateQCFailed  bool    `json:"plate_qc_failed,omitempty"`
 	Key            string  `json:"key"`
 	CompoundID     string  `json:"compound_id"`
 	AntagonistID   string  `json:"antagonist_id,omitempty"`

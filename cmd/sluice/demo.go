@@ -125,7 +125,10 @@ func loadDemo(ctx context.Context, store db.Store) (int, error) {
 	if err := loadDemoDrift(ctx, svc, who, rng); err != nil {
 		return n, err
 	}
-	return n, nil
+	if err := loadDemoHistory(ctx, svc, store, who, rng); err != nil {
+		return n, err
+	}
+	return n + demoHistoryRuns, nil
 }
 
 // demoPlate is an invented 384-well plate: max controls in columns 1–2, min

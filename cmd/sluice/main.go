@@ -22,6 +22,8 @@ Usage:
                                    print a new API token (read, submit or admin)
   sluice token list                list the API tokens (never their secrets)
   sluice token revoke NAME         revoke an API token
+  sluice history COMPOUND --assay A --server URL --token T [--format table|json|csv]
+                                   a compound's potency history and its summary
   sluice demo                      load the invented demo scenario into the store
   sluice seed --plates N --curves-per-plate M [--assays A --compounds C --seed S]
                                    fill the store with an invented database of that size
@@ -59,6 +61,8 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return runSchild(args[1:], stdin, stdout, stderr)
 	case "potential":
 		return runPotential(args[1:], stdin, stdout, stderr)
+	case "history":
+		return runHistory(args[1:], os.Getenv, stdout, stderr)
 	case "demo":
 		return runDemo(args[1:], os.Getenv, stdout, stderr)
 	case "seed":

@@ -72,7 +72,7 @@ func runPotential(args []string, stdin io.Reader, stdout, stderr io.Writer) int 
 			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
 			return 1
 		}
-		werr := service.PotentialFigure(out).Write(f)
+		werr := service.PotentialFigure(out, req.ThresholdMV).Write(f)
 		if err := errors.Join(werr, f.Close()); err != nil {
 			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
 			return 1

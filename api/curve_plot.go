@@ -1,0 +1,67 @@
+package api
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/gin-gonic/gin"
+
+	"sluice/api/plot"
+	"sluice/api/wire"
+	"sluice/fit"
+)
+
+// curveFigure is a fitted curve's drawing: the points (molar
+// concentrations, 0 for the vehicle), the fitted curve and its pointwise
+// confidence band on a log-concentration axis. A single fit's plot and a
+// stored curve's plot of either kind are this figure.
+func curveFigure(title string, res *wire.FitResult, conc, resp []float64) *plot.Curve {
+	fig := &plot.Curve{Title: title, YLabel: "response", Footnote: wire.Caution, PointConc: conc, PointResp: resp}
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, cm := range conc {
+		if cm > 0 {
+			lo, hi = math.Min(lo, cm), math.Max(hi, cm)
+		}
+	}
+	parts := []string{res.Model, res.Status}
+	// An inactive curve has no potency, hence no curve to draw.
+	if res.Status == fit.StatusConverged && res.Activity != string(fit.ActivityInactive) && !math.IsInf(lo, 0) {
+		theta := res.Params.Estimates()
+		np := len(theta)
+		cov := make([]float64, np*np)
+		for i := range res.Covariance {
+			for j, v := range res.Covariance[i] {
+				cov[i*np+j] = float64(v)
+			}
+		}
+		const n = 200
+		a, b := math.Log10(lo)-0.5, math.Log10(hi)+0.5
+		for k := 0; k < n; k++ {
+			fig.LineConc = append(fig.LineConc, math.Pow(10, a+(b-a)*float64(k)/(n-1)))
+		}
+		fig.Line, fig.BandLo, fig.BandHi = fit.Band(fit.Model(res.Model), theta, cov, res.Stats.DOF, float64(res.Confidence), fig.LineConc)
+		parts = append(parts, fmt.Sprintf("pEC50 %.2f", float64(res.PEC50)), fmt.Sprintf("%.0f%% band", 100*float64(res.Confidence)))
+	}
+	if len(res.Flags) > 0 {
+		parts = append(parts, "flags: "+strings.Join(res.Flags, ", "))
+	}
+	fig.Subtitle = strings.Join(parts, " · ")
+	return fig
+}
+
+// curvePlot is GET /v1/curves/{id}/plot.svg: a stored curve of either
+// kind drawn as a single fit's plot is.
+func (s *Server) curvePlot(c *gin.Context) {
+	d, err := s.svc.CurveData(c.Request.Context(), c.Param("id"))
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	conc := make([]float64, len(d.Points))
+	resp := make([]float64, len(d.Points))
+	for i, p := range d.Points {
+		conc[i], resp[i] = p.Conc, p.Response
+	}
+	s.writeSVG(c, curveFigure("Curve "+d.ID, &d.Result, conc, resp))
+}

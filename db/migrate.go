@@ -8,6 +8,7 @@ import (
 	"io/fs"
 	"log/slog"
 	"strings"
+	"time"
 
 	"github.com/pressly/goose/v3"
 	"github.com/riverqueue/river/riverdriver"
@@ -24,6 +25,14 @@ type Options struct {
 	// the latest version already, or OpenWith fails saying to run `sluice
 	// migrate`. The zero value migrates, as Open does.
 	SkipMigrations bool
+
+	// JobTimeout bounds one attempt at a job; RescueAfter is how long a
+	// job may stay running before River takes it for orphaned (its worker
+	// died) and retries it elsewhere. RescueAfter must be at least
+	// JobTimeout, or a job still being worked could run twice. Zero means
+	// the defaults: 10 min and 11 min (jobTimeout, rescueAfter); range
+	// 1s–24h.
+	JobTimeout, RescueAfter time.Duration
 
 	// Logger receives the job queue's (River's) logs, so that they join
 	// the service's own (JSON in `sluice serve`). Nil means River's

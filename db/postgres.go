@@ -44,7 +44,7 @@ func openPostgres(ctx context.Context, url string, o Options) (*sqlStore, error)
 	q, err := newRiverQueue(ctx, driver, func(q querier) (pgx.Tx, bool) {
 		t, ok := q.(pgTx)
 		return t.tx, ok
-	}, 200*time.Millisecond, o.Logger)
+	}, 200*time.Millisecond, o)
 	if err != nil {
 		pool.Close()
 		return nil, err

@@ -1,6 +1,7 @@
 package db
 
 import (
+	"cmp"
 	"context"
 	"encoding/json"
 	"errors"
@@ -111,6 +112,8 @@ type riverQueue[TTx any] struct {
 	txOf   func(querier) (TTx, bool)
 	poll   time.Duration
 	log    *slog.Logger // nil: River's default
+	// timeout and rescue are River's JobTimeout and RescueStuckJobsAfter.
+	timeout, rescue time.Duration
 
 	mu     sync.Mutex
 	worker *river.Client[TTx]
@@ -147,12 +150,16 @@ func (q *riverQueue[TTx]) attempt(ctx context.Context, row *rivertype.JobRow, ta
 	return work(ctx)
 }
 
-func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(querier) (TTx, bool), poll time.Duration, log *slog.Logger) (*riverQueue[TTx], error) {
-	insert, err := river.NewClient(driver, &river.Config{Logger: log})
+func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(querier) (TTx, bool), poll time.Duration, o Options) (*riverQueue[TTx], error) {
+	insert, err := river.NewClient(driver, &river.Config{Logger: o.Logger})
 	if err != nil {
 		return nil, fmt.Errorf("job queue: %w", err)
 	}
-	return &riverQueue[TTx]{driver: driver, insert: insert, txOf: txOf, poll: poll, log: log}, nil
+	timeout, rescue := cmp.Or(o.JobTimeout, jobTimeout), cmp.Or(o.RescueAfter, rescueAfter)
+	if rescue < timeout {
+		return nil, fmt.Errorf("job queue: rescue after %v is shorter than the job timeout %v", rescue, timeout)
+	}
+	return &riverQueue[TTx]{driver: driver, insert: insert, txOf: txOf, poll: poll, log: o.Logger, timeout: timeout, rescue: rescue}, nil
 }
 
 func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args river.JobArgs) (int64, error) {
@@ -233,8 +240,8 @@ func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 	c, err := river.NewClient(q.driver, &river.Config{
 		Queues:               map[string]river.QueueConfig{river.QueueDefault: {MaxWorkers: workers}},
 		Workers:              ws,
-		JobTimeout:           jobTimeout,
-		RescueStuckJobsAfter: rescueAfter,
+		JobTimeout:           q.timeout,
+		RescueStuckJobsAfter: q.rescue,
 		FetchPollInterval:    q.poll,
 		FetchCooldown:        q.poll / 2,
 		Logger:               q.log,

@@ -52,7 +52,7 @@ func openSQLite(ctx context.Context, dir string, o Options) (*sqlStore, error) {
 	q, err := newRiverQueue(ctx, driver, func(q querier) (*sql.Tx, bool) {
 		t, ok := q.(sqlTx)
 		return t.tx, ok
-	}, 100*time.Millisecond, o.Logger)
+	}, 100*time.Millisecond, o)
 	if err != nil {
 		db.Close()
 		return nil, err

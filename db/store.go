@@ -19,6 +19,7 @@ type Store interface {
 	Idempotency
 	Jobs
 	Health
+	Loader
 	// Close releases the engine's connections.
 	Close()
 }

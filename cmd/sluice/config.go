@@ -46,6 +46,14 @@ type serveConfig struct {
 	// it with a 422. Range 1ms ≤ sync budget ≤ work limit ≤ 1h; defaults
 	// 1s and 30s (service.DefaultSyncBudget and DefaultHardLimit).
 	SyncBudget, WorkLimit time.Duration
+	// JobTimeout (SLUICE_JOB_TIMEOUT, --job-timeout) bounds one attempt
+	// at a queued job; JobRescueAfter (SLUICE_JOB_RESCUE_AFTER,
+	// --job-rescue-after) is how long a job may stay running before it is
+	// taken for orphaned (its worker died) and retried by another worker.
+	// Range 1s–24h with rescue ≥ timeout; zero (the default) means the
+	// store's defaults, 10m and 11m (db.Options). An orphaned job is picked
+	// up again within about rescue + 1 min (deploy/README.md).
+	JobTimeout, JobRescueAfter time.Duration
 }
 
 // Bounds and defaults of --sync-budget and --work-limit.
@@ -97,6 +105,14 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	if err != nil {
 		errs = append(errs, fmt.Errorf("SLUICE_WORK_LIMIT: %q is not a duration (e.g. 30s)", getenv("SLUICE_WORK_LIMIT")))
 	}
+	jobTimeout, err := time.ParseDuration(envOr(getenv, "SLUICE_JOB_TIMEOUT", "0s"))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_JOB_TIMEOUT: %q is not a duration (e.g. 10m)", getenv("SLUICE_JOB_TIMEOUT")))
+	}
+	jobRescue, err := time.ParseDuration(envOr(getenv, "SLUICE_JOB_RESCUE_AFTER", "0s"))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_JOB_RESCUE_AFTER: %q is not a duration (e.g. 11m)", getenv("SLUICE_JOB_RESCUE_AFTER")))
+	}
 	auth := true
 	switch v := strings.ToLower(getenv("SLUICE_AUTH")); v {
 	case "", "on", "true", "1":
@@ -121,6 +137,8 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.DurationVar(&c.ShutdownGrace, "shutdown-grace", grace, "on SIGTERM, how long running plate jobs and requests may finish (SLUICE_SHUTDOWN_GRACE)")
 	fs.DurationVar(&c.SyncBudget, "sync-budget", syncBudget, "estimated CPU time a fit, Schild, potential or operational request may take before it answers; above it, queued (SLUICE_SYNC_BUDGET)")
 	fs.DurationVar(&c.WorkLimit, "work-limit", workLimit, "estimated CPU time above which a request is refused with a 422 (SLUICE_WORK_LIMIT)")
+	fs.DurationVar(&c.JobTimeout, "job-timeout", jobTimeout, "longest attempt at a queued job; 0 = 10m (SLUICE_JOB_TIMEOUT)")
+	fs.DurationVar(&c.JobRescueAfter, "job-rescue-after", jobRescue, "a job running this long is taken for orphaned and retried; ≥ --job-timeout; 0 = 11m (SLUICE_JOB_RESCUE_AFTER)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -158,6 +176,9 @@ func (c *serveConfig) validate() []error {
 	if c.SyncBudget < minBudget || c.WorkLimit > maxBudget || c.SyncBudget > c.WorkLimit {
 		errs = append(errs, fmt.Errorf("--sync-budget / SLUICE_SYNC_BUDGET and --work-limit / SLUICE_WORK_LIMIT: want %v ≤ %v ≤ %v ≤ %v",
 			minBudget, c.SyncBudget, c.WorkLimit, maxBudget))
+	}
+	if err := validateJobTiming(c.JobTimeout, c.JobRescueAfter); err != nil {
+		errs = append(errs, err)
 	}
 	if c.FitWorkers < 0 {
 		errs = append(errs, fmt.Errorf("--fit-workers / SLUICE_FIT_WORKERS: %d is negative", c.FitWorkers))
@@ -222,7 +243,8 @@ func (c *serveConfig) logAttrs() []any {
 	return []any{"addr", c.Addr, "store", store, "body_limit", c.BodyLimit, "auth", !c.AuthDisabled,
 		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role,
 		"shutdown_grace", c.ShutdownGrace.String(), "migrate", !c.SkipMigrations,
-		"sync_budget", c.SyncBudget.String(), "work_limit", c.WorkLimit.String()}
+		"sync_budget", c.SyncBudget.String(), "work_limit", c.WorkLimit.String(),
+		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String()}
 }
 
 // redactURL hides a URL's password.
@@ -246,6 +268,35 @@ func workOf(d time.Duration) cost.Work {
 
 func durationOf(w cost.Work) time.Duration {
 	return time.Duration(float64(w) * cost.NanosecondsPerUnit).Round(time.Millisecond)
+}
+
+// Bounds of --job-timeout and --job-rescue-after (when not zero), and the
+// store's defaults they replace (db.Options).
+const (
+	minJobTiming       = time.Second
+	maxJobTiming       = 24 * time.Hour
+	defaultJobTimeout  = 10 * time.Minute
+	defaultRescueAfter = 11 * time.Minute
+)
+
+func validateJobTiming(timeout, rescue time.Duration) error {
+	const names = "--job-timeout / SLUICE_JOB_TIMEOUT and --job-rescue-after / SLUICE_JOB_RESCUE_AFTER"
+	for _, d := range []time.Duration{timeout, rescue} {
+		if d != 0 && (d < minJobTiming || d > maxJobTiming) {
+			return fmt.Errorf("%s: %v is outside %v–%v (or 0 for the default)", names, d, minJobTiming, maxJobTiming)
+		}
+	}
+	t, r := timeout, rescue
+	if t == 0 {
+		t = defaultJobTimeout
+	}
+	if r == 0 {
+		r = defaultRescueAfter
+	}
+	if r < t {
+		return fmt.Errorf("%s: a job is rescued after %v, before its attempt may time out (%v); want rescue ≥ timeout", names, r, t)
+	}
+	return nil
 }
 
 // onOff is a flag that takes on/off, true/false or 1/0 as its value, so

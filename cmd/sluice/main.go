@@ -25,6 +25,8 @@ Usage:
   sluice history COMPOUND --assay A --server URL --token T [--format table|json|csv]
                                    a compound's potency history and its summary
   sluice demo                      load the invented demo scenario into the store
+  sluice seed --plates N --curves-per-plate M [--assays A --compounds C --seed S]
+                                   fill the store with an invented database of that size
   sluice potential REQUEST.json|-  predict the membrane-potential shift of an agonist (offline)
   sluice schild FILE|- [flags]     Schild analysis of shifted agonist curves (offline)
 
@@ -63,6 +65,8 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		return runHistory(args[1:], os.Getenv, stdout, stderr)
 	case "demo":
 		return runDemo(args[1:], os.Getenv, stdout, stderr)
+	case "seed":
+		return runSeed(args[1:], os.Getenv, stdout, stderr)
 	case "-h", "--help", "help":
 		fmt.Fprint(stdout, usage)
 		return 0

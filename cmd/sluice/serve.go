@@ -60,7 +60,8 @@ func runServe(args []string, getenv func(string) string, stderr io.Writer) int {
 // /metrics.
 func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Logger) int {
 	defer ln.Close() // closed already by Shutdown, unless serving never began
-	store, err := db.OpenWith(ctx, cfg.DatabaseURL, cfg.DataDir, db.Options{SkipMigrations: cfg.SkipMigrations, Logger: log})
+	store, err := db.OpenWith(ctx, cfg.DatabaseURL, cfg.DataDir, db.Options{SkipMigrations: cfg.SkipMigrations, Logger: log,
+		JobTimeout: cfg.JobTimeout, RescueAfter: cfg.JobRescueAfter})
 	if err != nil {
 		log.Error("open store", "err", err)
 		return 1

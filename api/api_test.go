@@ -341,6 +341,29 @@ func TestCatalogueEndpoints(t *testing.T) {
 	if l := ts.do("GET", "/v1/compounds", ScopeRead, ""); l.Code != 200 {
 		t.Errorf("compounds: %d", l.Code)
 	}
+	// An assay names its reference compound (charted for drift); a
+	// compound cannot, and a malformed id is refused at its field.
+	if w := ts.do("POST", "/v1/assays", ScopeSubmit, `{"id":"LGX7-ephys","name":"LGX-7 currents","reference_compound_id":"demo-ref"}`); w.Code != 422 || problemOf(t, w).Errors[0].Pointer != "/reference_compound_id" {
+		t.Errorf("unregistered reference: %d %s", w.Code, w.Body)
+	}
+	if w := ts.do("POST", "/v1/compounds", ScopeSubmit, `{"id":"demo-ref","name":"reference agonist"}`); w.Code != 201 {
+		t.Fatalf("compound: %d %s", w.Code, w.Body)
+	}
+	if w := ts.do("POST", "/v1/assays", ScopeSubmit, `{"id":"LGX7-ephys","name":"LGX-7 currents","reference_compound_id":"demo-ref"}`); w.Code != 201 {
+		t.Fatalf("assay with reference: %d %s", w.Code, w.Body)
+	}
+	g = ts.do("GET", "/v1/assays/LGX7-ephys", ScopeRead, "")
+	e = wire.CatalogueEntry{}
+	json.Unmarshal(g.Body.Bytes(), &e)
+	if e.ReferenceCompoundID != "demo-ref" {
+		t.Errorf("reference compound not stored: %s", g.Body)
+	}
+	if w := ts.do("POST", "/v1/compounds", ScopeSubmit, `{"id":"demo-x","name":"x","reference_compound_id":"demo-ref"}`); w.Code != 422 || problemOf(t, w).Errors[0].Pointer != "/reference_compound_id" {
+		t.Errorf("compound with reference: %d %s", w.Code, w.Body)
+	}
+	if w := ts.do("POST", "/v1/assays", ScopeSubmit, `{"id":"a2","name":"x","reference_compound_id":"bad id!"}`); w.Code != 422 || problemOf(t, w).Errors[0].Pointer != "/reference_compound_id" {
+		t.Errorf("bad reference id: %d %s", w.Code, w.Body)
+	}
 	if w := ts.do("GET", "/v1/fits?from=yesterday", ScopeRead, ""); w.Code != 400 || problemOf(t, w).Errors[0].Parameter != "from" {
 		t.Errorf("bad from: %d %s", w.Code, w.Body)
 	}

@@ -2,6 +2,7 @@ package service
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"net/http"
 	"regexp"
@@ -39,6 +40,9 @@ func checkEntry(e *wire.CatalogueEntry) error {
 	if e.CreatedAt != "" || e.CreatedBy != "" {
 		return Invalid("/created_at", "created_at and created_by are set by the server")
 	}
+	if e.ReferenceCompoundID != "" && !ValidID(e.ReferenceCompoundID) {
+		return Invalid("/reference_compound_id", "reference_compound_id %q must be 1–100 letters, digits or ._:- starting with a letter or digit", e.ReferenceCompoundID)
+	}
 	return nil
 }
 
@@ -57,6 +61,9 @@ func (s *Service) createEntry(ctx context.Context, who Caller, idem *Idem, kind 
 		if err := checkEntry(&e); err != nil {
 			return plan{}, err
 		}
+		if kind != "assay" && e.ReferenceCompoundID != "" {
+			return plan{}, Invalid("/reference_compound_id", "only an assay names a reference compound")
+		}
 		now := s.now()
 		e.CreatedAt, e.CreatedBy = now.Format(time.RFC3339Nano), who.Name
 		reply, err := jsonReply(http.StatusCreated, e, fmt.Sprintf("/v1/%ss/%s", kind, e.ID))
@@ -66,9 +73,13 @@ func (s *Service) createEntry(ctx context.Context, who Caller, idem *Idem, kind 
 		return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
 			var err error
 			if kind == "assay" {
-				err = w.InsertAssay(ctx, &db.Assay{ID: e.ID, Name: e.Name, Target: e.Target, Readout: e.Readout, Units: e.Units, CreatedAt: now, CreatedBy: who.Name})
+				err = w.InsertAssay(ctx, &db.Assay{ID: e.ID, Name: e.Name, Target: e.Target, Readout: e.Readout, Units: e.Units,
+					ReferenceCompoundID: e.ReferenceCompoundID, CreatedAt: now, CreatedBy: who.Name})
 			} else {
 				err = w.InsertCompound(ctx, &db.Compound{ID: e.ID, Name: e.Name, Target: e.Target, Readout: e.Readout, Units: e.Units, CreatedAt: now, CreatedBy: who.Name})
+			}
+			if errors.Is(err, db.ErrReference) {
+				return nil, Invalid("/reference_compound_id", "no compound %q: register the reference compound first", e.ReferenceCompoundID)
 			}
 			if err != nil {
 				return nil, fmt.Errorf("%s %q: %w", kind, e.ID, err)
@@ -83,7 +94,7 @@ func (s *Service) createEntry(ctx context.Context, who Caller, idem *Idem, kind 
 
 func assayEntry(a db.Assay) wire.CatalogueEntry {
 	return wire.CatalogueEntry{ID: a.ID, Name: a.Name, Target: a.Target, Readout: a.Readout, Units: a.Units,
-		CreatedAt: a.CreatedAt.Format(time.RFC3339Nano), CreatedBy: a.CreatedBy}
+		ReferenceCompoundID: a.ReferenceCompoundID, CreatedAt: a.CreatedAt.Format(time.RFC3339Nano), CreatedBy: a.CreatedBy}
 }
 
 func compoundEntry(c db.Compound) wire.CatalogueEntry {

@@ -37,7 +37,7 @@ func BenchmarkFitCommandPlate(b *testing.B) {
 	in := plateCSV(128)
 	b.ReportAllocs()
 	for b.Loop() {
-		if code := run([]string{"fit", "-", "--bootstrap", "1000", "--format", "json"}, strings.NewReader(in), io.Discard, io.Discard); code != 0 {
+		if code := run([]string{"fit", "-", "--unit", "M", "--bootstrap", "1000", "--format", "json"}, strings.NewReader(in), io.Discard, io.Discard); code != 0 {
 			b.Fatalf("exit %d", code)
 		}
 	}

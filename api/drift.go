@@ -83,24 +83,7 @@ func (s *Server) putBaseline(c *gin.Context) {
 
 // postQCRules is POST /v1/qc/rules: the drift rules on a series the
 // caller sends.
-func (s *Server) postQCRules(c *gin.Context) {
-	var req wire.QCRulesRequest
-	body, ok := s.readJSON(c, &req)
-	if !ok {
-		return
-	}
-	idem, err := idemOf(c, body)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	r, err := s.svc.QCRules(c.Request.Context(), callerOf(c), idem, &req)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	writeReply(c, r)
-}
+func (s *Server) postQCRules(c *gin.Context) { handleJSONWrite(s, c, s.svc.QCRules) }
 
 // driftPlot is GET /v1/assays/{id}/drift.svg?metric=&from=&to=: the chart
 // as a Levey–Jennings figure with an EWMA panel (api/plot).

@@ -1,6 +1,7 @@
 package api
 
 import (
+	"context"
 	"strings"
 
 	"github.com/gin-gonic/gin"
@@ -36,4 +37,26 @@ func writeReply(c *gin.Context, r *service.Reply) {
 		c.Header("Idempotency-Replayed", "true")
 	}
 	c.Data(r.Status, r.ContentType, r.Body)
+}
+
+// handleJSONWrite is a write handler whose use case takes the decoded body alone:
+// decode the body into a T, build the request's idempotency (idemOf), call
+// the use case, send its reply.
+func handleJSONWrite[T any](s *Server, c *gin.Context, call func(context.Context, service.Caller, *service.Idem, *T) (*service.Reply, error)) {
+	var req T
+	body, ok := s.readJSON(c, &req)
+	if !ok {
+		return
+	}
+	idem, err := idemOf(c, body)
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	r, err := call(c.Request.Context(), callerOf(c), idem, &req)
+	if err != nil {
+		s.writeProblem(c, err)
+		return
+	}
+	writeReply(c, r)
 }

@@ -149,24 +149,7 @@ func fitFromQuery(get func(string) string) (*wire.PlateFit, error) {
 
 // createLayout is POST /v1/layouts: a plate map (wells → role, compound,
 // concentration) reused by reader-grid uploads.
-func (s *Server) createLayout(c *gin.Context) {
-	var req wire.LayoutRequest
-	body, ok := s.readJSON(c, &req)
-	if !ok {
-		return
-	}
-	idem, err := idemOf(c, body)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	r, err := s.svc.CreateLayout(c.Request.Context(), callerOf(c), idem, &req)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	writeReply(c, r)
-}
+func (s *Server) createLayout(c *gin.Context) { handleJSONWrite(s, c, s.svc.CreateLayout) }
 
 // getLayout is GET /v1/layouts/{id}.
 func (s *Server) getLayout(c *gin.Context) {

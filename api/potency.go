@@ -208,24 +208,7 @@ func (s *Server) refitCurve(c *gin.Context) {
 }
 
 // createMSRStudy is POST /v1/msr-studies.
-func (s *Server) createMSRStudy(c *gin.Context) {
-	var req wire.MSRStudyRequest
-	body, ok := s.readJSON(c, &req)
-	if !ok {
-		return
-	}
-	idem, err := idemOf(c, body)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	r, err := s.svc.CreateMSRStudy(c.Request.Context(), callerOf(c), idem, &req)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	writeReply(c, r)
-}
+func (s *Server) createMSRStudy(c *gin.Context) { handleJSONWrite(s, c, s.svc.CreateMSRStudy) }
 
 // getMSRStudy is GET /v1/msr-studies/{id}: the study as it was answered.
 func (s *Server) getMSRStudy(c *gin.Context) {

@@ -41,7 +41,16 @@ func curveFigure(title string, res *wire.FitResult, conc, resp []float64) *plot.
 			fig.LineConc = append(fig.LineConc, math.Pow(10, a+(b-a)*float64(k)/(n-1)))
 		}
 		fig.Line, fig.BandLo, fig.BandHi = fit.Band(fit.Model(res.Model), theta, cov, res.Stats.DOF, float64(res.Confidence), fig.LineConc)
-		parts = append(parts, fmt.Sprintf("pEC50 %.2f", float64(res.PEC50)), fmt.Sprintf("%.0f%% band", 100*float64(res.Confidence)))
+		label := "EC50"
+		if res.Direction != nil && *res.Direction == string(fit.Falling) {
+			label = "IC50"
+		}
+		fig.Mark, fig.MarkLabel = float64(res.EC50.Estimate), label
+		fig.BandLabel = fmt.Sprintf("%.0f%% Wald band (delta method)", 100*float64(res.Confidence))
+		parts = append(parts, fmt.Sprintf("p%s %.2f", label, float64(res.PEC50)))
+	}
+	if res.Activity == string(fit.ActivityInactive) {
+		fig.Note = "inactive: no potency"
 	}
 	if len(res.Flags) > 0 {
 		parts = append(parts, "flags: "+strings.Join(res.Flags, ", "))

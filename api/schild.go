@@ -5,6 +5,7 @@ import (
 	"math"
 	"net/http"
 	"sort"
+	"strings"
 
 	"github.com/gin-gonic/gin"
 
@@ -51,7 +52,7 @@ func (s *Server) schildPlot(c *gin.Context) {
 		return
 	}
 	res, unit := &st.Result, st.Unit
-	fig := &plot.Schild{Title: "Schild analysis " + st.Run.ID, Footnote: wire.Caution}
+	fig := &plot.Schild{Title: schildTitle(st.Run.AgonistID, st.Run.AntagonistID), Footnote: wire.Caution}
 	for i, sc := range st.Request.Curves {
 		if i >= len(res.Curves) {
 			break
@@ -91,12 +92,28 @@ func (s *Server) schildPlot(c *gin.Context) {
 	}
 	fig.Subtitle = "competitive"
 	if !res.Competitive {
-		fig.Subtitle = "not competitive: " + fmt.Sprint(res.Flags)
+		fig.Subtitle = "not competitive: " + strings.Join(res.Flags, ", ")
 	} else if res.Global != nil {
 		fig.Subtitle = fmt.Sprintf("global fit: pA2 %.2f, slope %.2f", float64(res.Global.PA2.Estimate), float64(res.Global.Slope.Estimate))
 		if res.Global.PKB != nil {
 			fig.Subtitle += fmt.Sprintf(", pKB %.2f", float64(res.Global.PKB.Estimate))
 		}
 	}
+	fig.Subtitle += " · run " + st.Run.ID
 	s.writeSVG(c, fig)
+}
+
+// schildTitle names a Schild analysis by its compounds, "demo-ag-1 vs
+// demo-ant-2", saying which one the request left unnamed; the run's id
+// goes in the subtitle.
+func schildTitle(agonist, antagonist string) string {
+	switch {
+	case agonist != "" && antagonist != "":
+		return agonist + " vs " + antagonist
+	case agonist != "":
+		return agonist + " vs an unnamed antagonist"
+	case antagonist != "":
+		return "an unnamed agonist vs " + antagonist
+	}
+	return "Schild analysis (agonist and antagonist unnamed)"
 }

@@ -44,7 +44,7 @@ func BenchmarkPotentialStoredMg(b *testing.B) {
 	for i := range concs {
 		concs[i] = fmt.Sprintf("%g", 0.01*math.Pow(10, 4*float64(i)/199))
 	}
-	body := `{"curve_id":"` + fitRes.ID + `","po_max":0.7,"agonist_conc":[` + strings.Join(concs, ",") + `],
+	body := `{"curve_id":"` + fitRes.ID + `","conc_unit":"M","po_max":0.7,"agonist_conc":[` + strings.Join(concs, ",") + `],
 		"channel":{"count":200,"conductance_ps":50,"reversal_mv":0,"mg_mm":1},"cell":{"preset":"neuron"}}`
 	for b.Loop() {
 		if w := ts.do("POST", "/v1/potential", ScopeRead, body); w.Code != 200 {
@@ -77,7 +77,7 @@ func BenchmarkPotentialStoredMgRedraw(b *testing.B) {
 	for i := range concs {
 		concs[i] = fmt.Sprintf("%g", 0.01*math.Pow(10, 4*float64(i)/199))
 	}
-	body := `{"curve_id":"without-draws","po_max":0.7,"agonist_conc":[` + strings.Join(concs, ",") + `],
+	body := `{"conc_unit":"M","curve_id":"without-draws","po_max":0.7,"agonist_conc":[` + strings.Join(concs, ",") + `],
 		"channel":{"count":200,"conductance_ps":50,"reversal_mv":0,"mg_mm":1},"cell":{"preset":"neuron"}}`
 	for b.Loop() {
 		if w := ts.do("POST", "/v1/potential", ScopeRead, body); w.Code != 200 {

@@ -8,6 +8,7 @@ import (
 	"strings"
 	"testing"
 
+	"sluice/api/figure"
 	"sluice/api/wire"
 	"sluice/db/dbtest"
 	"sluice/fit"
@@ -68,7 +69,7 @@ func TestSchildEndpoint(t *testing.T) {
 	if title == nil || title[1] != "demo-ref vs demo-ant-1" || !strings.Contains(p.Body.String(), "run "+r.ID) {
 		t.Errorf("plot title %q, or no run %s in the subtitle", title, r.ID)
 	}
-	if got := schildTitle("", "demo-ant-1"); got != "an unnamed agonist vs demo-ant-1" {
+	if got := figure.SchildTitle("", "demo-ant-1"); got != "an unnamed agonist vs demo-ant-1" {
 		t.Errorf("title without an agonist: %q", got)
 	}
 	// A depressed maximum: flagged, no pA2 or pKB, a reason, and the

@@ -306,6 +306,14 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 		if len(h.Runs) != 7 || h.Summary.Excluded["superseded"] != 1 {
 			t.Errorf("%d runs, excluded %v: want 7 and superseded 1", len(h.Runs), h.Summary.Excluded)
 		}
+		// The plate refit's plot draws well F5 hollow, the others filled as
+		// before.
+		svgOld := ts.do("GET", "/v1/curves/"+first+"/plot.svg", ScopeRead, "").Body.String()
+		svgNew := ts.do("GET", "/v1/curves/"+refit.ID+"/plot.svg", ScopeRead, "").Body.String()
+		nOld, nNew := strings.Count(svgOld, `fill="#252525"/>`), strings.Count(svgNew, `fill="#252525"/>`)
+		if hollow := strings.Count(svgNew, `<circle class="excluded"`); hollow != 1 || nNew != nOld-1 || nOld < 5 {
+			t.Errorf("plate refit plot: %d filled and %d hollow points; the original has %d filled", nNew, hollow, nOld)
+		}
 		if after := ts.do("GET", "/v1/fits/"+fits[0], ScopeRead, "").Body.String(); after != before {
 			t.Errorf("a stored fit changed:\n%s\n%s", before, after)
 		}
@@ -458,6 +466,16 @@ func TestRefitExcludesPoints(t *testing.T) {
 		getJSON(t, ts, "/v1/curves/"+id, &old)
 		if !old.Superseded {
 			t.Error("the old version is not marked superseded")
+		}
+		// The refit's plot draws the 14 points it fitted and the 2 it left
+		// out hollow; the old version's plot draws all 16 filled.
+		svg := ts.do("GET", "/v1/curves/"+refit.ID+"/plot.svg", ScopeRead, "").Body.String()
+		if filled, hollow := strings.Count(svg, `fill="#252525"/>`), strings.Count(svg, `<circle class="excluded"`); filled != 14 || hollow != 2 {
+			t.Errorf("refit plot: %d filled and %d hollow points, want 14 and 2", filled, hollow)
+		}
+		svg = ts.do("GET", "/v1/curves/"+id+"/plot.svg", ScopeRead, "").Body.String()
+		if filled, hollow := strings.Count(svg, `fill="#252525"/>`), strings.Count(svg, `<circle class="excluded"`); filled != 16 || hollow != 0 {
+			t.Errorf("original plot: %d filled and %d hollow points, want 16 and 0", filled, hollow)
 		}
 		// 16 points, 13 left out: 3 cannot fit 4 parameters.
 		w = ts.do("POST", "/v1/curves/"+id+"/refit", ScopeSubmit, `{"exclude":[0,1,2,3,4,5,6,7,8,9,10,11,12],"reason":"x"}`)

@@ -64,3 +64,18 @@ func Title(compound, id string) string {
 	}
 	return "Fit " + id
 }
+
+// StoredCurve is a stored curve's drawing, either kind: Curve with the
+// points its refits left out drawn hollow (excluded), so that what a
+// refit removed stays in view.
+func StoredCurve(id string, res *wire.FitResult, pts, excluded []fit.Point) *plot.Curve {
+	conc, resp := make([]float64, len(pts)), make([]float64, len(pts))
+	for i, p := range pts {
+		conc[i], resp[i] = p.Conc, p.Response
+	}
+	fig := Curve("Curve "+id, res, conc, resp)
+	for _, p := range excluded {
+		fig.ExcludedConc, fig.ExcludedResp = append(fig.ExcludedConc, p.Conc), append(fig.ExcludedResp, p.Response)
+	}
+	return fig
+}

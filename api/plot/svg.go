@@ -6,6 +6,7 @@ import (
 	"html"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 )
@@ -22,6 +23,10 @@ type Curve struct {
 	// Points are the data, concentrations in molar; 0 is the vehicle,
 	// drawn at a nominal position left of an axis break.
 	PointConc, PointResp []float64
+	// ExcludedConc and ExcludedResp are points a refit left out, drawn
+	// hollow where they were measured (same units as the points) and named
+	// in the legend; they take no part in the line.
+	ExcludedConc, ExcludedResp []float64
 	// Line and its band, on a grid of molar concentrations > 0; BandLo and
 	// BandHi may be nil or NaN where there is no band.
 	LineConc, Line, BandLo, BandHi []float64
@@ -55,7 +60,7 @@ func (p *Curve) Write(w io.Writer) error {
 	// x range over the positive concentrations.
 	xmin, xmax := math.Inf(1), math.Inf(-1)
 	hasVehicle := false
-	for _, c := range append(append([]float64{}, p.PointConc...), p.LineConc...) {
+	for _, c := range slices.Concat(p.PointConc, p.ExcludedConc, p.LineConc) {
 		if c > 0 {
 			xmin, xmax = math.Min(xmin, math.Log10(c)), math.Max(xmax, math.Log10(c))
 		} else if c == 0 {
@@ -71,7 +76,7 @@ func (p *Curve) Write(w io.Writer) error {
 	}
 	xmin, xmax = math.Floor(xmin), math.Ceil(xmax)
 	ymin, ymax := math.Inf(1), math.Inf(-1)
-	for _, s := range [][]float64{p.PointResp, p.Line, p.BandLo, p.BandHi} {
+	for _, s := range [][]float64{p.PointResp, p.ExcludedResp, p.Line, p.BandLo, p.BandHi} {
 		for _, v := range s {
 			if !math.IsNaN(v) && !math.IsInf(v, 0) {
 				ymin, ymax = math.Min(ymin, v), math.Max(ymax, v)
@@ -138,6 +143,14 @@ func (p *Curve) Write(w io.Writer) error {
 		}
 		fmt.Fprintf(&b, `<circle cx="%.1f" cy="%.1f" r="3.5" fill="#252525"/>`+"\n", px(x), py(p.PointResp[i]))
 	}
+	for i, c := range p.ExcludedConc {
+		x := vehicleX
+		if c > 0 {
+			x = math.Log10(c)
+		}
+		fmt.Fprintf(&b, `<circle class="excluded" cx="%.1f" cy="%.1f" r="4" fill="white" stroke="#252525" stroke-width="1.5"/>`+"\n",
+			px(x), py(p.ExcludedResp[i]))
+	}
 	// Axes, ticks, labels.
 	x0, x1, y0, y1 := float64(left), float64(width-right), float64(height-bott), top
 	if p.Mark > 0 && !math.IsNaN(p.Mark) && p.MarkLabel != "" {
@@ -159,6 +172,11 @@ func (p *Curve) Write(w io.Writer) error {
 		lx, ly := x1-170, y0-14
 		fmt.Fprintf(&b, `<rect class="legend" x="%.1f" y="%.1f" width="18" height="10" fill="#9ecae1" fill-opacity="0.5"/><text x="%.1f" y="%.1f" font-size="11">%s</text>`+"\n",
 			lx, ly-9, lx+24, ly, esc(p.BandLabel))
+	}
+	if len(p.ExcludedConc) > 0 {
+		lx, ly := x1-170, y0-30
+		fmt.Fprintf(&b, `<circle class="legend" cx="%.1f" cy="%.1f" r="4" fill="white" stroke="#252525" stroke-width="1.5"/><text x="%.1f" y="%.1f" font-size="11">left out by a refit</text>`+"\n",
+			lx+9, ly-4, lx+24, ly)
 	}
 	fmt.Fprintf(&b, `<path d="M%.1f,%.1f V%.1f H%.1f" fill="none" stroke="black"/>`+"\n", x0, y1, y0, x1)
 	for d := math.Ceil(xmin); d <= xmax; d++ {

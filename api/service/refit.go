@@ -180,12 +180,7 @@ func (s *Service) plateRefitPlan(ctx context.Context, old *db.CurveResult, exclu
 	// its antagonist concentration, and the vehicle wells it takes.
 	mine := map[string]bool{}
 	for _, r := range rows {
-		switch plate.Role(r.Role) {
-		case plate.Sample, plate.Reference:
-			mine[r.Well] = r.CompoundID == old.CompoundID && r.AntagonistID == old.AntagonistID && r.AntagonistConc == old.AntagonistConc
-		case plate.Vehicle:
-			mine[r.Well] = r.CompoundID == "" || r.CompoundID == old.CompoundID
-		}
+		mine[r.Well] = wellOfCurve(r, old)
 	}
 	var names []string
 	if old.RefitOf != "" {

@@ -54,3 +54,28 @@ func curveView(row db.PotencyRow, evs []db.Review, ref *db.Refit) (*wire.Curve, 
 	}
 	return out, nil
 }
+
+// SupersededBy is the version that refitted curve id (the newest, should
+// there be several), "" when none has: the old version's page links
+// forward to it.
+func (s *Service) SupersededBy(ctx context.Context, id string) (string, error) {
+	row, err := s.store.CurvePotency(ctx, id)
+	if err != nil || !row.Superseded || row.CompoundID == "" {
+		// (A fit stored without a compound has no history to search.)
+		return "", err
+	}
+	rows, err := s.store.CompoundPotency(ctx, db.PotencyFilter{CompoundID: row.CompoundID, AssayID: row.AssayID})
+	if err != nil {
+		return "", err
+	}
+	var next *db.PotencyRow
+	for i, r := range rows {
+		if r.RefitOf == id && (next == nil || r.CreatedAt.After(next.CreatedAt)) {
+			next = &rows[i]
+		}
+	}
+	if next == nil {
+		return "", nil
+	}
+	return next.ID, nil
+}

@@ -1,8 +1,20 @@
 package web
 
-import "github.com/gin-gonic/gin"
+import (
+	"github.com/gin-gonic/gin"
+
+	"sluice/api/service"
+)
 
 // registerPages adds the signed-in pages, one line each (the handlers
 // live in a file per page).
 func (s *Site) registerPages(g *gin.RouterGroup) {
+	// Curves and compounds (curve.go, compounds.go, compound.go).
+	g.GET("/curves/:id", s.curvePage)
+	g.GET("/curves/:id/plot.svg", s.curvePlot)
+	g.POST("/curves/:id/review", s.csrf, s.requireScope(service.ScopeSubmit), s.curveReview)
+	g.POST("/curves/:id/refit", s.csrf, s.requireScope(service.ScopeSubmit), s.curveRefit)
+	g.GET("/compounds", s.compoundsPage)
+	g.GET("/compounds/:id", s.compoundPage)
+	g.GET("/compounds/:id/history.svg", s.compoundHistoryPlot)
 }

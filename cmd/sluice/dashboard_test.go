@@ -14,6 +14,12 @@ var dashboardChecks = []struct {
 }{
 	{"overview", checkOverview},
 	{"security", checkSecurity},
+	// Curves and compounds (dashboard_curves_test.go).
+	{"compounds", checkCompounds},
+	{"compound", checkCompound},
+	{"curve-review", checkCurveReview},
+	{"curve-refit", checkCurveRefit},
+	{"curve-refusals", checkCurveRefusals},
 }
 
 // TestDashboard serves the demo on each store and walks the dashboard in

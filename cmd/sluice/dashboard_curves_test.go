@@ -161,7 +161,7 @@ func checkCompound(t *testing.T, d *demoServer, b *browser, engine string) {
 	if w := eval[int](b, `document.querySelector('`+sec+` figure img').naturalWidth`); w == 0 {
 		t.Error("the history chart did not load")
 	}
-	geo, half := shownMolar(t, strings.Fields(b.text(sec+" .geomean"))[0]+" "+strings.Fields(b.text(sec+" .geomean"))[1])
+	geo, half := shownMolar(t, strings.Fields(b.text(sec + " .geomean"))[0]+" "+strings.Fields(b.text(sec + " .geomean"))[1])
 	if math.Abs(geo-s.GeoMeanEC50) > half*(1+1e-9) {
 		t.Errorf("geometric mean EC50 shown %g M, the API says %g M (shown to ±%g)", geo, s.GeoMeanEC50, half)
 	}

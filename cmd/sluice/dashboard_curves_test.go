@@ -8,6 +8,7 @@ import (
 	"math"
 	"net/http"
 	"net/url"
+	"regexp"
 	"strconv"
 	"strings"
 	"testing"
@@ -185,6 +186,35 @@ func checkCompound(t *testing.T, d *demoServer, b *browser, engine string) {
 	if b.count(sec+` a[href="/curves/`+h.Assays[0].Runs[0].ID+`"]`) != 1 {
 		t.Error("the first run does not link to its curve")
 	}
+	// A plate curve's points are its wells, as many as the API's plot of
+	// it draws.
+	var plateRun string
+	for _, r := range h.Assays[0].Runs {
+		if r.Kind == "plate_curve" && r.Usable {
+			plateRun = r.ID
+		}
+	}
+	if plateRun == "" {
+		t.Fatal("the demo's reference history has no usable plate curve")
+	}
+	b.visit("/curves/" + plateRun)
+	svg := apiGet(t, d, "/v1/curves/"+plateRun+"/plot.svg", nil)
+	if n, want := b.count("#points tbody tr"), strings.Count(svg, `fill="#252525"/>`); n != want || n < 5 {
+		t.Errorf("the plate curve's page lists %d points, the API's plot draws %d", n, want)
+	}
+	well := b.text("#points tbody tr:last-child td:nth-child(2)")
+	if ok, _ := regexp.MatchString(`^[A-P][0-9]{1,2}\b`, well); !ok {
+		t.Errorf("a plate curve's point is named %q, not by its well", well)
+	}
+	// At tablet width the plot and the summary stack and nothing spills
+	// sideways beyond the page.
+	b.do("tablet width", chromedp.EmulateViewport(768, 1000))
+	b.visit("/curves/" + plateRun)
+	b.shot(engine + "-curve-768")
+	if w := eval[int](b, "document.documentElement.scrollWidth"); w > 768 {
+		t.Errorf("at 768 px the curve page is %d px wide", w)
+	}
+	b.do("desktop width", chromedp.EmulateViewport(1280, 800))
 }
 
 // usableFit is a usable single fit of demo-ref not yet refitted, the

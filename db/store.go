@@ -75,6 +75,11 @@ type Potency interface {
 	// AssayPotency returns the curves of some compounds in an assay.
 	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]PotencyRow, error)
 	CurvePotency(ctx context.Context, id string) (*PotencyRow, error)
+	// PotencySummaries pages through an assay's stored compound summaries.
+	PotencySummaries(ctx context.Context, p PotencyPage) ([]PotencySummary, error)
+	// PotencyStale reports whether a write has left any of the assay's
+	// summaries out of date.
+	PotencyStale(ctx context.Context, assayID string) (bool, error)
 	// Reviews returns the curves' review events, oldest first per curve.
 	Reviews(ctx context.Context, curveIDs []string) ([]Review, error)
 	CurveRefit(ctx context.Context, id string) (*Refit, error)
@@ -214,4 +219,13 @@ type Writer interface {
 	// InsertDriftViolation records a rule violation once: ErrExists when
 	// that plate's rule on that chart is recorded already.
 	InsertDriftViolation(ctx context.Context, v *DriftViolation) error
+	// TakeStalePotency takes the compounds whose summaries in an assay a
+	// write has made out of date off the list and returns them.
+	TakeStalePotency(ctx context.Context, assayID string) ([]string, error)
+	// AssayPotency and Reviews read as the Store's do, in the write's
+	// transaction (after TakeStalePotency).
+	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]PotencyRow, error)
+	Reviews(ctx context.Context, curveIDs []string) ([]Review, error)
+	// PutPotencySummaries stores compound summaries, replacing older ones.
+	PutPotencySummaries(ctx context.Context, rs []PotencySummary) error
 }

@@ -288,8 +288,8 @@ func badCatalogue(t *testing.T) []badCase {
 		"/v1/assays/BAD-A/potency": {"sort=potency", "sort=-", "sort=--n", "sort=msr&msr_window=4", "limit=0", "limit=abc", "limit=1001",
 			"limit=-1", "cursor=garbage", "cursor=bm90LWEtY3Vyc29y", "cursor=eyJzIjoibiIsInYiOm51bGwsImMiOiIifQ", "msr_window=2",
 			"format=xml", "colour=red", "sort=n&sort=-n"},
-		"/v1/plates":             {"limit=-1", "limit=abc", "limit=1001", "from=yesterday", "to=2026-13-45T00:00:00Z", "cursor=garbage", "colour=red"},
-		"/v1/assays/BAD-A/drift": {"metric=zz", "from=yesterday", "to=2026-13-45T00:00:00Z", "colour=red"},
+		"/v1/plates":                 {"limit=-1", "limit=abc", "limit=1001", "from=yesterday", "to=2026-13-45T00:00:00Z", "cursor=garbage", "colour=red"},
+		"/v1/assays/BAD-A/drift":     {"metric=zz", "from=yesterday", "to=2026-13-45T00:00:00Z", "colour=red"},
 		"/v1/assays/BAD-A/drift.svg": {"metric=zz", "from=yesterday", "colour=red"},
 		"/v1/drift":                  {"colour=red", "assay_id=BAD-A"},
 	}

@@ -1,12 +1,14 @@
 package api
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"net/url"
 	"slices"
 	"strings"
 	"testing"
+	"time"
 
 	"sluice/db"
 	"sluice/db/dbtest"
@@ -214,6 +216,55 @@ func TestAssayTableSortsAndFollowsWrites(t *testing.T) {
 			p := problemOf(t, w)
 			if w.Code != 400 || len(p.Errors) != 1 || p.Errors[0].Parameter != c.param {
 				t.Errorf("%s: %d %+v, want 400 naming %s", c.query, w.Code, p, c.param)
+			}
+		}
+	})
+}
+
+// After a bulk load every compound is stale: the first read of the table
+// summarises them all, refreshChunk (100) per transaction, and the table
+// then holds each compound once with its own history's summary, in order
+// (both engines; 250 compounds of two curves each, loaded by Store.Load).
+func TestAssayTableAfterBulkLoad(t *testing.T) {
+	dbtest.Engines(t, func(t *testing.T, store db.Store) {
+		ts := newTestServer(t, store)
+		t0 := time.Date(2026, 1, 5, 9, 0, 0, 0, time.UTC)
+		b := &db.Bulk{Assays: []db.Assay{{ID: "M-A", Name: "bulk", CreatedAt: t0, CreatedBy: "test"}}}
+		const n = 250
+		for i := range n {
+			id := fmt.Sprintf("M-%03d", i)
+			b.Compounds = append(b.Compounds, db.Compound{ID: id, Name: id, CreatedAt: t0, CreatedBy: "test"})
+			for k := range 2 {
+				// Log EC50s −6 − i/1000 and that − 0.1: means fall with i.
+				l := -6 - float64(i)/1000 - 0.1*float64(k)
+				lo, hi := l-0.2, l+0.2
+				at := t0.Add(time.Duration(k) * 24 * time.Hour)
+				b.Curves = append(b.Curves, db.CurveResult{ID: fmt.Sprintf("%s-%d", id, k), Kind: db.KindFit, AssayID: "M-A", CompoundID: id,
+					MeasuredAt: at, CreatedAt: at, SubmittedBy: "test", Model: "hill", Status: "converged", EngineVersion: "0",
+					InputSHA256: "0", Settings: []byte(`{}`), Input: []byte(`{}`), Labels: []byte(`{}`),
+					Result:  []byte(`{"activity":"active","qualifier":"=","flags":[]}`),
+					LogEC50: db.Estimate{Value: &l, Lo: &lo, Hi: &hi}})
+			}
+		}
+		if err := store.Load(context.Background(), b); err != nil {
+			t.Fatal(err)
+		}
+		rows := walkTable(t, ts, "M-A", "&sort=-pec50_mean", 40)
+		if len(rows) != n {
+			t.Fatalf("%d rows, want %d", len(rows), n)
+		}
+		for i, r := range rows {
+			if want := fmt.Sprintf("M-%03d", n-1-i); r.CompoundID != want || r.Runs != 2 {
+				t.Fatalf("row %d: %s with %d runs, want %s (the most potent first) with 2", i, r.CompoundID, r.Runs, want)
+			}
+		}
+		for _, i := range []int{0, 99, 100, 249} { // either side of a chunk's edge
+			var h struct {
+				Summary json.RawMessage `json:"summary"`
+			}
+			getJSON(t, ts, "/v1/compounds/"+rows[i].CompoundID+"/potency?assay_id=M-A", &h)
+			if string(h.Summary) != string(rows[i].Summary) {
+				t.Errorf("%s: table %s, history %s", rows[i].CompoundID, rows[i].Summary, h.Summary)
 			}
 		}
 	})

@@ -168,17 +168,23 @@ func (s *sqlStore) PotencyStale(ctx context.Context, assayID string) (bool, erro
 	return n > 0, s.read("PotencyStale", assayID, err)
 }
 
-// TakeStalePotency takes an assay's stale (assay, compound) pairs off
-// potency_stale and returns their compounds, sorted, once each. It runs
-// first in the transaction that recomputes their summaries: a write that
-// commits after it leaves its own mark, so no change is lost, and a
-// concurrent taker waits for this transaction and then finds nothing.
-func (w *sqlWriter) TakeStalePotency(ctx context.Context, assayID string) ([]string, error) {
+// TakeStalePotency takes up to limit of an assay's stale compounds (in
+// compound order) off potency_stale and returns them, sorted, once each.
+// It runs first in the transaction that recomputes their summaries: a
+// write that commits after it leaves its own mark, so no change is lost,
+// and a concurrent taker waits for this transaction and then finds the
+// rows gone.
+func (w *sqlWriter) TakeStalePotency(ctx context.Context, assayID string, limit int) ([]string, error) {
 	const op = "TakeStalePotency"
 	if w.err != nil {
 		return nil, w.err
 	}
-	rows, err := w.q.query(ctx, "DELETE FROM potency_stale WHERE assay_id = $1 RETURNING compound_id", assayID)
+	if limit < 1 {
+		return nil, w.invalid(op, assayID, "limit")
+	}
+	rows, err := w.q.query(ctx, "DELETE FROM potency_stale WHERE assay_id = $1 AND compound_id IN "+
+		"(SELECT DISTINCT compound_id FROM potency_stale WHERE assay_id = $1 ORDER BY compound_id LIMIT "+strconv.Itoa(limit)+
+		") RETURNING compound_id", assayID)
 	if err != nil {
 		return nil, w.abort(opError(op, assayID, err, w.e.classify))
 	}

@@ -219,9 +219,9 @@ type Writer interface {
 	// InsertDriftViolation records a rule violation once: ErrExists when
 	// that plate's rule on that chart is recorded already.
 	InsertDriftViolation(ctx context.Context, v *DriftViolation) error
-	// TakeStalePotency takes the compounds whose summaries in an assay a
-	// write has made out of date off the list and returns them.
-	TakeStalePotency(ctx context.Context, assayID string) ([]string, error)
+	// TakeStalePotency takes up to limit compounds whose summaries in an
+	// assay a write has made out of date off the list and returns them.
+	TakeStalePotency(ctx context.Context, assayID string, limit int) ([]string, error)
 	// AssayPotency and Reviews read as the Store's do, in the write's
 	// transaction (after TakeStalePotency).
 	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]PotencyRow, error)

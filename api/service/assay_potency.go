@@ -216,69 +216,79 @@ func compoundRow(compoundID, assayID string, rs []db.PotencyRow, reviews map[str
 	return row, nil
 }
 
-// refreshChunk is how many compounds' curves refreshPotency reads at once
-// (a few thousand curves at typical history lengths).
+// refreshChunk is how many stale compounds refreshPotency summarises in
+// one transaction (a few thousand curves at typical history lengths).
 const refreshChunk = 100
 
 // refreshPotency brings an assay's stored compound summaries up to date:
 // the compounds a write has marked stale (new curves or versions, review
 // events, a plate's QC verdict; potency_stale, filled by triggers in the
 // writing transaction) are summarised again from their curves, at the
-// default MSR window, in the transaction that takes them off the list.
-// With nothing stale it costs one read (PotencyStale). After a migration or a bulk
-// load every compound is stale, and the first read of each assay pays for
-// all of them.
+// default MSR window, refreshChunk at a time, each chunk in the
+// transaction that takes it off the list (so work done survives a
+// cancelled request). With nothing stale it costs one read
+// (PotencyStale). After a migration or a bulk load every compound is
+// stale, and the first read of each assay pays for all of them.
 func (s *Service) refreshPotency(ctx context.Context, assayID string) error {
 	if stale, err := s.store.PotencyStale(ctx, assayID); err != nil || !stale {
 		return err
 	}
-	return s.store.Write(ctx, func(w db.Writer) error {
-		ids, err := w.TakeStalePotency(ctx, assayID)
+	for {
+		n := 0
+		err := s.store.Write(ctx, func(w db.Writer) error {
+			ids, err := w.TakeStalePotency(ctx, assayID, refreshChunk)
+			if err != nil {
+				return err
+			}
+			n = len(ids)
+			return s.resummarise(ctx, w, assayID, ids)
+		})
+		if err != nil || n < refreshChunk {
+			return err
+		}
+	}
+}
+
+// resummarise computes and stores the summaries of some compounds of an
+// assay from their curves, in w's transaction.
+func (s *Service) resummarise(ctx context.Context, w db.Writer, assayID string, ids []string) error {
+	if len(ids) == 0 {
+		return nil
+	}
+	rows, err := w.AssayPotency(ctx, assayID, ids)
+	if err != nil {
+		return fmt.Errorf("refresh potency summaries of %s: %w", assayID, err)
+	}
+	curveIDs := make([]string, len(rows))
+	for i, r := range rows {
+		curveIDs[i] = r.ID
+	}
+	evs, err := w.Reviews(ctx, curveIDs)
+	if err != nil {
+		return err
+	}
+	reviews := make(map[string]db.Review, len(evs))
+	for _, e := range evs { // oldest first per curve: the last one wins
+		reviews[e.CurveID] = e
+	}
+	rowsOf := byCompound(rows)
+	set := &potency.HistorySettings{}
+	sums := make([]db.PotencySummary, 0, len(ids))
+	for _, id := range ids {
+		if len(rowsOf[id]) == 0 {
+			continue // curves are never deleted; nothing to summarise
+		}
+		row, err := compoundRow(id, assayID, rowsOf[id], reviews, set)
 		if err != nil {
 			return err
 		}
-		set := &potency.HistorySettings{}
-		for len(ids) > 0 {
-			chunk := ids[:min(len(ids), refreshChunk)]
-			ids = ids[len(chunk):]
-			rows, err := w.AssayPotency(ctx, assayID, chunk)
-			if err != nil {
-				return fmt.Errorf("refresh potency summaries of %s: %w", assayID, err)
-			}
-			curveIDs := make([]string, len(rows))
-			for i, r := range rows {
-				curveIDs[i] = r.ID
-			}
-			evs, err := w.Reviews(ctx, curveIDs)
-			if err != nil {
-				return err
-			}
-			reviews := make(map[string]db.Review, len(evs))
-			for _, e := range evs { // oldest first per curve: the last one wins
-				reviews[e.CurveID] = e
-			}
-			rowsOf := byCompound(rows)
-			sums := make([]db.PotencySummary, 0, len(chunk))
-			for _, id := range chunk {
-				if len(rowsOf[id]) == 0 {
-					continue // curves are never deleted; nothing to summarise
-				}
-				row, err := compoundRow(id, assayID, rowsOf[id], reviews, set)
-				if err != nil {
-					return err
-				}
-				sum, err := storedSummary(assayID, row)
-				if err != nil {
-					return err
-				}
-				sums = append(sums, sum)
-			}
-			if err := w.PutPotencySummaries(ctx, sums); err != nil {
-				return err
-			}
+		sum, err := storedSummary(assayID, row)
+		if err != nil {
+			return err
 		}
-		return nil
-	})
+		sums = append(sums, sum)
+	}
+	return w.PutPotencySummaries(ctx, sums)
 }
 
 // storedSummary is a table row as potency_summaries stores it.

@@ -121,7 +121,7 @@ func badCatalogue(t *testing.T) []badCase {
 		"/v1/layouts":     {"id", "name", "conc_unit", "wells.0.well", "wells.0.role", "wells.2.compound_id", "wells.2.antagonist_id"},
 		"/v1/plates":      {"barcode", "assay_id", "measured_at", "conc_unit", "mode", "wells.0.well", "wells.0.role", "wells.2.compound_id", "wells.2.antagonist_id", "fit.model"},
 		"/v1/schild":      {"conc_unit", "agonist_id", "antagonist_id"},
-		"/v1/potential":   {"curve_id", "cell.preset", "cell.ions.+k", "cell.resting_conductance_ns.+k", "channel.permeability.+k"},
+		"/v1/potential":   {"conc_unit", "curve_id", "agonist_id", "channel.name", "cell.preset", "cell.ions.+k", "cell.resting_conductance_ns.+k", "channel.permeability.+k"},
 		"/v1/operational": {"conc_unit"},
 		review:            {"decision", "reason", "+k"},
 		refit:             {"reason", "exclude.0", "+k"},
@@ -152,6 +152,13 @@ func badCatalogue(t *testing.T) []badCase {
 		refit: {"exclude=[-1]", "exclude=[16]", "exclude=[1e999]", "exclude=[0.5]", "exclude=[[1]]", "exclude=null", "exclude=[]", "exclude={}",
 			"exclude=[0,0]", "reason=1"},
 		msr: {"pairs=[]", "pairs=null", "pairs.0={}", "pairs.0.run1=1", "run1=[1]", "assay_id=7"},
+	}
+	// A missing or unknown concentration unit on every body that sends
+	// concentrations.
+	for _, path := range []string{"/v1/fits", "/v1/plates", "/v1/layouts", "/v1/schild", "/v1/operational", "/v1/potential"} {
+		for _, lit := range []string{`null`, `""`, `"furlong"`, `"MM"`, `1e-6`} {
+			add(badCase{name: fmt.Sprintf("unit %s conc_unit=%s", path, lit), path: path, scope: scopes[path], body: mutate(t, bodies[path], "conc_unit", lit)})
+		}
 	}
 	for path, sets := range numbers {
 		for _, s := range sets {

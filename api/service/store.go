@@ -67,6 +67,7 @@ type Potency interface {
 	CurvePotency(ctx context.Context, id string) (*db.PotencyRow, error)
 	PotencySummaries(ctx context.Context, p db.PotencyPage) ([]db.PotencySummary, error)
 	PotencyStale(ctx context.Context, assayID string) (bool, error)
+	UnreviewedCurves(ctx context.Context, limit int) ([]db.PotencyRow, error)
 	CurveResult(ctx context.Context, id string) (*db.CurveResult, error)
 	Reviews(ctx context.Context, curveIDs []string) ([]db.Review, error)
 	CurveRefit(ctx context.Context, id string) (*db.Refit, error)

@@ -23,11 +23,11 @@ func TestJobMetrics(t *testing.T) {
 		ctx := context.Background()
 		err := s.Write(ctx, func(w db.Writer) error {
 			for _, p := range []string{"p1", "p2", "p3"} {
-				if _, err := w.EnqueuePlateFit(ctx, p); err != nil {
+				if _, err := w.EnqueuePlateFit(ctx, p, db.JobOpts{}); err != nil {
 					return err
 				}
 			}
-			_, err := w.EnqueueAnalysis(ctx, "fit", "a1")
+			_, err := w.EnqueueAnalysis(ctx, "fit", "a1", db.JobOpts{})
 			return err
 		})
 		if err != nil {

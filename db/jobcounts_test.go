@@ -30,11 +30,11 @@ func TestJobCounts(t *testing.T) {
 		}
 		// The analysis first, so that two workers take it and one plate.
 		err := s.Write(ctx, func(w db.Writer) error {
-			if _, err := w.EnqueueAnalysis(ctx, "fit", "a1"); err != nil {
+			if _, err := w.EnqueueAnalysis(ctx, "fit", "a1", db.JobOpts{}); err != nil {
 				return err
 			}
 			for _, p := range []string{"p1", "p2"} {
-				if _, err := w.EnqueuePlateFit(ctx, p); err != nil {
+				if _, err := w.EnqueuePlateFit(ctx, p, db.JobOpts{}); err != nil {
 					return err
 				}
 			}

@@ -189,12 +189,13 @@ type Writer interface {
 	InsertPlate(ctx context.Context, p *Plate, wells []WellRow) error
 	// EnqueuePlateFit queues the plate's fit job in this transaction, so
 	// that a stored plate always has its job, and returns the job's ID
-	// (store it as the plate's JobID).
-	EnqueuePlateFit(ctx context.Context, plateID string) (int64, error)
+	// (store it as the plate's JobID); o.Timeout bounds each attempt.
+	EnqueuePlateFit(ctx context.Context, plateID string, o JobOpts) (int64, error)
 	// EnqueueAnalysis queues a single analysis (e.g. "fit", "potential")
 	// of the record id, stored in this transaction, for a worker's
-	// Handlers.Analysis; it returns the job's ID.
-	EnqueueAnalysis(ctx context.Context, analysis, id string) (int64, error)
+	// Handlers.Analysis; it returns the job's ID. o.Timeout bounds each
+	// attempt.
+	EnqueueAnalysis(ctx context.Context, analysis, id string, o JobOpts) (int64, error)
 	// InsertAnalysis stores a single analysis to queue (with the job
 	// EnqueueAnalysis returned), status queued.
 	InsertAnalysis(ctx context.Context, a *Analysis) error

@@ -28,7 +28,7 @@ func (s *Service) Operational(ctx context.Context, who Caller, idem *Idem, req *
 			return plan{}, err
 		}
 		if w > s.budget.Sync {
-			return s.queue(who, analysisOperational, &queuedRequest{Operational: req})
+			return s.queue(who, analysisOperational, &queuedRequest{Operational: req}, w)
 		}
 		r, err := operational(req, ref, part)
 		return plan{reply: r}, err

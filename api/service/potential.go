@@ -289,7 +289,7 @@ func (s *Service) Potential(ctx context.Context, who Caller, idem *Idem, req *wi
 			return plan{}, err
 		}
 		if w > s.budget.Sync {
-			return s.queue(who, analysisPotential, &queuedRequest{Potential: req, SVG: svg})
+			return s.queue(who, analysisPotential, &queuedRequest{Potential: req, SVG: svg}, w)
 		}
 		r, err := s.runPotential(ctx, req, m, lc, svg)
 		return plan{reply: r}, err

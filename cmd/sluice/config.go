@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"sluice/api/service"
+	"sluice/db"
 	"sluice/fit/cost"
 )
 
@@ -46,13 +47,17 @@ type serveConfig struct {
 	// it with a 422. Range 1ms ≤ sync budget ≤ work limit ≤ 1h; defaults
 	// 1s and 30s (service.DefaultSyncBudget and DefaultHardLimit).
 	SyncBudget, WorkLimit time.Duration
-	// JobTimeout (SLUICE_JOB_TIMEOUT, --job-timeout) bounds one attempt
-	// at a queued job; JobRescueAfter (SLUICE_JOB_RESCUE_AFTER,
-	// --job-rescue-after) is how long a job may stay running before it is
-	// taken for orphaned (its worker died) and retried by another worker.
-	// Range 1s–24h with rescue ≥ timeout; zero (the default) means the
-	// store's defaults, 10m and 11m (db.Options). An orphaned job is picked
-	// up again within about rescue + 1 min (deploy/README.md).
+	// JobTimeout (SLUICE_JOB_TIMEOUT, --job-timeout) is the ceiling of a
+	// queued job's timeout, which is scaled to its work
+	// (service.JobTimeout: 30 s + 10 × its estimated single-core time);
+	// range 30s–24h. JobRescueAfter (SLUICE_JOB_RESCUE_AFTER,
+	// --job-rescue-after) is how long an attempt may run, and longer than
+	// its own timeout, before the job is taken for orphaned (its worker
+	// died) and retried by another worker; range 1s–24h. Zero (the
+	// default) means the store's defaults, 10m and 1m (db.Options). An
+	// orphaned job is released within db.RescueBound of its attempt's
+	// start: about 1 min 50 s for a job of up to 3 s of work
+	// (deploy/README.md).
 	JobTimeout, JobRescueAfter time.Duration
 }
 
@@ -111,7 +116,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	}
 	jobRescue, err := time.ParseDuration(envOr(getenv, "SLUICE_JOB_RESCUE_AFTER", "0s"))
 	if err != nil {
-		errs = append(errs, fmt.Errorf("SLUICE_JOB_RESCUE_AFTER: %q is not a duration (e.g. 11m)", getenv("SLUICE_JOB_RESCUE_AFTER")))
+		errs = append(errs, fmt.Errorf("SLUICE_JOB_RESCUE_AFTER: %q is not a duration (e.g. 1m)", getenv("SLUICE_JOB_RESCUE_AFTER")))
 	}
 	auth := true
 	switch v := strings.ToLower(getenv("SLUICE_AUTH")); v {
@@ -137,8 +142,8 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.DurationVar(&c.ShutdownGrace, "shutdown-grace", grace, "on SIGTERM, how long running plate jobs and requests may finish (SLUICE_SHUTDOWN_GRACE)")
 	fs.DurationVar(&c.SyncBudget, "sync-budget", syncBudget, "estimated CPU time a fit, Schild, potential or operational request may take before it answers; above it, queued (SLUICE_SYNC_BUDGET)")
 	fs.DurationVar(&c.WorkLimit, "work-limit", workLimit, "estimated CPU time above which a request is refused with a 422 (SLUICE_WORK_LIMIT)")
-	fs.DurationVar(&c.JobTimeout, "job-timeout", jobTimeout, "longest attempt at a queued job; 0 = 10m (SLUICE_JOB_TIMEOUT)")
-	fs.DurationVar(&c.JobRescueAfter, "job-rescue-after", jobRescue, "a job running this long is taken for orphaned and retried; ≥ --job-timeout; 0 = 11m (SLUICE_JOB_RESCUE_AFTER)")
+	fs.DurationVar(&c.JobTimeout, "job-timeout", jobTimeout, "ceiling of a queued job's timeout, which scales with its work (30s + 10 × its estimated CPU time); 0 = 10m (SLUICE_JOB_TIMEOUT)")
+	fs.DurationVar(&c.JobRescueAfter, "job-rescue-after", jobRescue, "a job running this long, and longer than its own timeout, is taken for orphaned and retried; 0 = 1m (SLUICE_JOB_RESCUE_AFTER)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -270,31 +275,21 @@ func durationOf(w cost.Work) time.Duration {
 	return time.Duration(float64(w) * cost.NanosecondsPerUnit).Round(time.Millisecond)
 }
 
-// Bounds of --job-timeout and --job-rescue-after (when not zero), and the
-// store's defaults they replace (db.Options).
+// Bounds of --job-timeout and --job-rescue-after (when not zero).
 const (
-	minJobTiming       = time.Second
-	maxJobTiming       = 24 * time.Hour
-	defaultJobTimeout  = 10 * time.Minute
-	defaultRescueAfter = 11 * time.Minute
+	minRescueAfter = time.Second
+	maxJobTiming   = 24 * time.Hour
 )
 
+// validateJobTiming checks the two settings; they need no order between
+// them, since River's rescuer leaves a job alone until its own timeout
+// has passed too (db.RescueBound).
 func validateJobTiming(timeout, rescue time.Duration) error {
-	const names = "--job-timeout / SLUICE_JOB_TIMEOUT and --job-rescue-after / SLUICE_JOB_RESCUE_AFTER"
-	for _, d := range []time.Duration{timeout, rescue} {
-		if d != 0 && (d < minJobTiming || d > maxJobTiming) {
-			return fmt.Errorf("%s: %v is outside %v–%v (or 0 for the default)", names, d, minJobTiming, maxJobTiming)
-		}
+	if timeout != 0 && (timeout < db.MinJobTimeout || timeout > maxJobTiming) {
+		return fmt.Errorf("--job-timeout / SLUICE_JOB_TIMEOUT: %v is outside %v–%v (or 0 for %v)", timeout, db.MinJobTimeout, maxJobTiming, db.DefaultJobTimeout)
 	}
-	t, r := timeout, rescue
-	if t == 0 {
-		t = defaultJobTimeout
-	}
-	if r == 0 {
-		r = defaultRescueAfter
-	}
-	if r < t {
-		return fmt.Errorf("%s: a job is rescued after %v, before its attempt may time out (%v); want rescue ≥ timeout", names, r, t)
+	if rescue != 0 && (rescue < minRescueAfter || rescue > maxJobTiming) {
+		return fmt.Errorf("--job-rescue-after / SLUICE_JOB_RESCUE_AFTER: %v is outside %v–%v (or 0 for %v)", rescue, minRescueAfter, maxJobTiming, db.DefaultRescueAfter)
 	}
 	return nil
 }

@@ -295,8 +295,8 @@ func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 		return errors.New("job queue: workers already started")
 	}
 	c, err := river.NewClient(q.driver, &river.Config{
-		Queues:               map[string]river.QueueConfig{river.QueueDefault: {MaxWorkers: workers}},
-		Workers:              ws,
+		Queues:  map[string]river.QueueConfig{river.QueueDefault: {MaxWorkers: workers}},
+		Workers: ws,
 		// Every job has its own timeout (timedWorker); River's default
 		// applies to none, but may not exceed the rescue time.
 		JobTimeout:           min(q.timeout, q.rescue),

@@ -151,6 +151,10 @@ type Jobs interface {
 	// JobCounts counts waiting and running jobs by kind, for the
 	// queue-depth metrics (sluice_jobs_queued, sluice_jobs_running).
 	JobCounts(ctx context.Context) ([]JobCount, error)
+	// DiscardedWaiting lists discarded jobs whose plate or analysis still
+	// waits on them (the worker died during the last attempt), for the
+	// sweep that marks them failed.
+	DiscardedWaiting(ctx context.Context, limit int) ([]Discarded, error)
 }
 
 // Health tells whether the store answers, for probes and metrics.
@@ -183,6 +187,9 @@ type Writer interface {
 	RevokeToken(ctx context.Context, nameOrID string, at time.Time) error
 	InsertAudit(ctx context.Context, e *AuditEntry) error
 	InsertIdempotent(ctx context.Context, r *Idempotent) error
+	// ExpireIdempotent deletes at most limit idempotency records stored
+	// before a time, oldest first, and says how many.
+	ExpireIdempotent(ctx context.Context, before time.Time, limit int) (int64, error)
 
 	InsertLayout(ctx context.Context, l *Layout) error
 	// InsertPlate stores a plate and its wells.

@@ -59,7 +59,25 @@ type serveConfig struct {
 	// start: about 1 min 50 s for a job of up to 3 s of work
 	// (deploy/README.md).
 	JobTimeout, JobRescueAfter time.Duration
+	// IdemRetention (SLUICE_IDEMPOTENCY_RETENTION,
+	// --idempotency-retention) is how long a stored reply is kept under
+	// its Idempotency-Key before the workers' sweep deletes it; range
+	// 1m–2160h (90 days), default 24h. IdemMaxReply
+	// (SLUICE_IDEMPOTENCY_MAX_REPLY, --idempotency-max-reply) caps a stored
+	// reply's body in bytes: over it only the key, status and Location are
+	// kept, and a replay answers 409 saying so; range 1024 – 1 GiB, default
+	// 256 KiB.
+	IdemRetention time.Duration
+	IdemMaxReply  int64
 }
+
+// Bounds of --idempotency-retention and --idempotency-max-reply.
+const (
+	minIdemRetention = time.Minute
+	maxIdemRetention = 90 * 24 * time.Hour
+	minIdemMaxReply  = 1024
+	maxIdemMaxReply  = 1 << 30
+)
 
 // Bounds and defaults of --sync-budget and --work-limit.
 const (
@@ -118,6 +136,14 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	if err != nil {
 		errs = append(errs, fmt.Errorf("SLUICE_JOB_RESCUE_AFTER: %q is not a duration (e.g. 1m)", getenv("SLUICE_JOB_RESCUE_AFTER")))
 	}
+	idemRetention, err := time.ParseDuration(envOr(getenv, "SLUICE_IDEMPOTENCY_RETENTION", service.DefaultIdempotencyRetention.String()))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_IDEMPOTENCY_RETENTION: %q is not a duration (e.g. 24h)", getenv("SLUICE_IDEMPOTENCY_RETENTION")))
+	}
+	idemMaxReply, err := strconv.ParseInt(envOr(getenv, "SLUICE_IDEMPOTENCY_MAX_REPLY", strconv.Itoa(service.DefaultMaxStoredReply)), 10, 64)
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_IDEMPOTENCY_MAX_REPLY: %q is not a whole number of bytes", getenv("SLUICE_IDEMPOTENCY_MAX_REPLY")))
+	}
 	auth := true
 	switch v := strings.ToLower(getenv("SLUICE_AUTH")); v {
 	case "", "on", "true", "1":
@@ -144,6 +170,8 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.DurationVar(&c.WorkLimit, "work-limit", workLimit, "estimated CPU time above which a request is refused with a 422 (SLUICE_WORK_LIMIT)")
 	fs.DurationVar(&c.JobTimeout, "job-timeout", jobTimeout, "ceiling of a queued job's timeout, which scales with its work (30s + 10 × its estimated CPU time); 0 = 10m (SLUICE_JOB_TIMEOUT)")
 	fs.DurationVar(&c.JobRescueAfter, "job-rescue-after", jobRescue, "a job running this long, and longer than its own timeout, is taken for orphaned and retried; 0 = 1m (SLUICE_JOB_RESCUE_AFTER)")
+	fs.DurationVar(&c.IdemRetention, "idempotency-retention", idemRetention, "how long a reply is kept under its Idempotency-Key (SLUICE_IDEMPOTENCY_RETENTION)")
+	fs.Int64Var(&c.IdemMaxReply, "idempotency-max-reply", idemMaxReply, "largest reply body in bytes stored under an Idempotency-Key; a larger one is not replayed (409) (SLUICE_IDEMPOTENCY_MAX_REPLY)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -184,6 +212,12 @@ func (c *serveConfig) validate() []error {
 	}
 	if err := validateJobTiming(c.JobTimeout, c.JobRescueAfter); err != nil {
 		errs = append(errs, err)
+	}
+	if c.IdemRetention < minIdemRetention || c.IdemRetention > maxIdemRetention {
+		errs = append(errs, fmt.Errorf("--idempotency-retention / SLUICE_IDEMPOTENCY_RETENTION: %v is outside %v–%v", c.IdemRetention, minIdemRetention, maxIdemRetention))
+	}
+	if c.IdemMaxReply < minIdemMaxReply || c.IdemMaxReply > maxIdemMaxReply {
+		errs = append(errs, fmt.Errorf("--idempotency-max-reply / SLUICE_IDEMPOTENCY_MAX_REPLY: %d is outside %d–%d bytes", c.IdemMaxReply, minIdemMaxReply, maxIdemMaxReply))
 	}
 	if c.FitWorkers < 0 {
 		errs = append(errs, fmt.Errorf("--fit-workers / SLUICE_FIT_WORKERS: %d is negative", c.FitWorkers))
@@ -249,7 +283,8 @@ func (c *serveConfig) logAttrs() []any {
 		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role,
 		"shutdown_grace", c.ShutdownGrace.String(), "migrate", !c.SkipMigrations,
 		"sync_budget", c.SyncBudget.String(), "work_limit", c.WorkLimit.String(),
-		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String()}
+		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String(),
+		"idempotency_retention", c.IdemRetention.String(), "idempotency_max_reply", c.IdemMaxReply}
 }
 
 // redactURL hides a URL's password.

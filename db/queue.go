@@ -78,6 +78,9 @@ type Job struct {
 	// (JobAnalysis); Analysis is the analysis' kind.
 	Target   string
 	Analysis string
+	// Timeout is the job's own attempt timeout as queued (JobOpts), 0 for
+	// the queue's ceiling.
+	Timeout time.Duration
 }
 
 // WorkFunc does one plate's job; an error makes River retry it.
@@ -258,13 +261,13 @@ func jobOf(row *rivertype.JobRow) (*Job, error) {
 		if err := json.Unmarshal(row.EncodedArgs, &a); err != nil {
 			return nil, fmt.Errorf("job arguments: %w", err)
 		}
-		j.Target = a.PlateID
+		j.Target, j.Timeout = a.PlateID, a.timeout()
 	case JobAnalysis:
 		var a AnalysisArgs
 		if err := json.Unmarshal(row.EncodedArgs, &a); err != nil {
 			return nil, fmt.Errorf("job arguments: %w", err)
 		}
-		j.Target, j.Analysis = a.ID, a.Analysis
+		j.Target, j.Analysis, j.Timeout = a.ID, a.Analysis, a.timeout()
 	}
 	return j, nil
 }

@@ -33,6 +33,10 @@ type serveConfig struct {
 	// replicas skip the store's migrations at start and only check that
 	// `sluice migrate` has run. The zero value (the default) migrates.
 	SkipMigrations bool
+	// SecureCookies (SLUICE_SECURE_COOKIES, --secure-cookies) marks the
+	// dashboard's session cookie Secure on plain HTTP: set it behind a
+	// proxy that terminates TLS (under TLS the cookie is Secure anyway).
+	SecureCookies bool
 	// ShutdownGrace (SLUICE_SHUTDOWN_GRACE, --shutdown-grace) is how long a
 	// SIGTERM or SIGINT lets running plate jobs and HTTP requests finish
 	// before they are cancelled (a cancelled job is retried later, by this
@@ -156,6 +160,10 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	if err != nil {
 		errs = append(errs, fmt.Errorf("SLUICE_MIGRATE: %v", err))
 	}
+	secure, err := parseBool(getenv("SLUICE_SECURE_COOKIES"), false)
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_SECURE_COOKIES: %v", err))
+	}
 	fs.StringVar(&c.Addr, "addr", envOr(getenv, "SLUICE_ADDR", "127.0.0.1:8080"), "listen address (SLUICE_ADDR)")
 	fs.StringVar(&c.DataDir, "data", envOr(getenv, "SLUICE_DATA", "./sluice-data"), "data directory of the embedded store (SLUICE_DATA)")
 	fs.Int64Var(&c.BodyLimit, "body-limit", limit, "largest request body in bytes (SLUICE_BODY_LIMIT)")
@@ -172,6 +180,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.DurationVar(&c.JobRescueAfter, "job-rescue-after", jobRescue, "a job running this long, and longer than its own timeout, is taken for orphaned and retried; 0 = 1m (SLUICE_JOB_RESCUE_AFTER)")
 	fs.DurationVar(&c.IdemRetention, "idempotency-retention", idemRetention, "how long a reply is kept under its Idempotency-Key (SLUICE_IDEMPOTENCY_RETENTION)")
 	fs.Int64Var(&c.IdemMaxReply, "idempotency-max-reply", idemMaxReply, "largest reply body in bytes stored under an Idempotency-Key; a larger one is not replayed (409) (SLUICE_IDEMPOTENCY_MAX_REPLY)")
+	fs.BoolVar(&c.SecureCookies, "secure-cookies", secure, "mark the dashboard's session cookie Secure on plain HTTP, behind a TLS proxy (SLUICE_SECURE_COOKIES)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -284,7 +293,7 @@ func (c *serveConfig) logAttrs() []any {
 		"shutdown_grace", c.ShutdownGrace.String(), "migrate", !c.SkipMigrations,
 		"sync_budget", c.SyncBudget.String(), "work_limit", c.WorkLimit.String(),
 		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String(),
-		"idempotency_retention", c.IdemRetention.String(), "idempotency_max_reply", c.IdemMaxReply}
+		"idempotency_retention", c.IdemRetention.String(), "idempotency_max_reply", c.IdemMaxReply, "secure_cookies", c.SecureCookies}
 }
 
 // redactURL hides a URL's password.

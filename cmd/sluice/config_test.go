@@ -24,7 +24,7 @@ func TestServeConfig(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if c.Addr != "127.0.0.1:9999" || c.BodyLimit != 2048 || c.AuthDisabled || c.ShutdownGrace != 30*time.Second {
+	if c.Addr != "127.0.0.1:9999" || c.BodyLimit != 2048 || c.AuthDisabled || c.ShutdownGrace != 30*time.Second || c.SecureCookies {
 		t.Errorf("flags over environment: %+v", c)
 	}
 	attrs := fmtAttrs(c.logAttrs())
@@ -59,6 +59,7 @@ func TestServeConfigErrorsNameTheField(t *testing.T) {
 		{[]string{"--job-rescue-after", "25h"}, nil, "--job-rescue-after / SLUICE_JOB_RESCUE_AFTER"},
 		{[]string{"--job-timeout", "20s"}, nil, "--job-timeout / SLUICE_JOB_TIMEOUT"}, // below db.MinJobTimeout
 		{[]string{"--job-timeout", "100ms"}, nil, "--job-timeout / SLUICE_JOB_TIMEOUT"},
+		{nil, map[string]string{"SLUICE_SECURE_COOKIES": "sometimes"}, "SLUICE_SECURE_COOKIES"},
 	}
 	for _, c := range cases {
 		fs := flag.NewFlagSet("serve", flag.ContinueOnError)

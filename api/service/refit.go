@@ -58,7 +58,7 @@ func (s *Service) Refit(ctx context.Context, who Caller, idem *Idem, curveID str
 		if work > s.budget.Sync {
 			// Over the synchronous budget (a large bootstrap, typically):
 			// queued like any other analysis, run by RunAnalysis.
-			return s.queue(who, analysisRefit, &queuedRequest{Refit: &queuedRefit{CurveID: curveID, Request: req}})
+			return s.queue(who, analysisRefit, &queuedRequest{Refit: &queuedRefit{CurveID: curveID, Request: req}}, work)
 		}
 		return s.runRefit(ctx, who, old, rp, req.Reason)
 	})

@@ -134,9 +134,11 @@ func checkPlates(t *testing.T, d *demoServer, b *browser, engine string) {
 			t.Errorf("/plates?%s: the error %q does not name %s", c.query, msg, c.name)
 		}
 	}
-	// A date range: the demo's plates LK-384-01…04 are measured on
-	// 2026-10-12, -19, -26 and 11-02; 10-19 to 10-26 (both included) holds two.
-	b.visit("/plates?assay=lgx7-vm-dye&from=2026-10-19&to=2026-10-26")
+	// A date range of days, both included: from the day LK-384-02 was
+	// measured to the day of LK-384-03 (a week later; the demo's
+	// screening plates are a week apart) holds those two.
+	p2, _ := demoPlateByBarcode(t, d, "LK-384-02")
+	b.visit("/plates?assay=lgx7-vm-dye&from=" + p2.MeasuredAt[:10] + "&to=" + v.MeasuredAt[:10])
 	got := eval[[]string](b, `Array.from(document.querySelectorAll("#plate-list tbody tr td:first-child")).map(td => td.textContent.trim())`)
 	var inRange []string
 	for _, bc := range got {
@@ -145,7 +147,7 @@ func checkPlates(t *testing.T, d *demoServer, b *browser, engine string) {
 		}
 	}
 	if strings.Join(inRange, ",") != "LK-384-03,LK-384-02" {
-		t.Errorf("10-19 to 10-26 lists screening plates %v, want LK-384-03 then LK-384-02", inRange)
+		t.Errorf("%s to %s lists screening plates %v, want LK-384-03 then LK-384-02", p2.MeasuredAt[:10], v.MeasuredAt[:10], inRange)
 	}
 }
 

@@ -19,10 +19,12 @@ import (
 // fitted to (molar concentrations, 0 for the vehicle) and the points its
 // refits left out.
 type CurveData struct {
-	ID     string
-	Kind   string // db.KindFit or db.KindPlateCurve
-	Result wire.FitResult
-	Points []fit.Point
+	ID   string
+	Kind string // db.KindFit or db.KindPlateCurve
+	// PlateID is the plate a plate curve comes from; "" for a single fit.
+	PlateID string
+	Result  wire.FitResult
+	Points  []fit.Point
 	// Names name the points as a refit of this version names them: a
 	// single fit's index in its input ("0", "1", …), a plate curve's well
 	// ("B7"); one per point.
@@ -43,7 +45,7 @@ func (s *Service) CurveData(ctx context.Context, id string) (*CurveData, error) 
 	if err != nil {
 		return nil, err
 	}
-	d := &CurveData{ID: id, Kind: c.Kind}
+	d := &CurveData{ID: id, Kind: c.Kind, PlateID: c.PlateID}
 	if err := json.Unmarshal(c.Result, &d.Result); err != nil {
 		return nil, fmt.Errorf("curve %s: result: %w", id, err)
 	}

@@ -13,6 +13,7 @@ import (
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
+	"sluice/fit/cost"
 )
 
 // Kinds of queued analysis (the job's analysis).
@@ -21,6 +22,7 @@ const (
 	analysisSchild      = "schild"
 	analysisPotential   = "potential"
 	analysisOperational = "operational"
+	analysisRefit       = "refit"
 )
 
 // queuedRequest is what a queued analysis stores to run later: the
@@ -31,21 +33,23 @@ type queuedRequest struct {
 	Schild      *wire.SchildRequest      `json:"schild,omitempty"`
 	Potential   *wire.PotentialRequest   `json:"potential,omitempty"`
 	Operational *wire.OperationalRequest `json:"operational,omitempty"`
+	Refit       *queuedRefit             `json:"refit,omitempty"`
 	SVG         bool                     `json:"svg,omitempty"`
 	InputSHA256 string                   `json:"input_sha256,omitempty"`
 }
 
 // queue plans a request over the synchronous budget: the analysis stored
 // with its job in the write's transaction, answered 202 with where to
-// find it. The job runs it through RunAnalysis.
-func (s *Service) queue(who Caller, kind string, q *queuedRequest) (plan, error) {
+// find it. The job runs it through RunAnalysis, with a timeout scaled to
+// work (JobTimeout).
+func (s *Service) queue(who Caller, kind string, q *queuedRequest, work cost.Work) (plan, error) {
 	doc, err := json.Marshal(q)
 	if err != nil {
 		return plan{}, fmt.Errorf("encode queued %s: %w", kind, err)
 	}
 	id, now := s.newID(), s.now()
 	return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
-		job, err := w.EnqueueAnalysis(ctx, kind, id)
+		job, err := w.EnqueueAnalysis(ctx, kind, id, jobOpts(work))
 		if err != nil {
 			return nil, fmt.Errorf("queue %s %s: %w", kind, id, err)
 		}
@@ -117,6 +121,12 @@ func (s *Service) runQueued(ctx context.Context, who Caller, kind string, q *que
 		}
 		r, err := operational(q.Operational, ref, part)
 		return plan{reply: r}, err
+	case kind == analysisRefit && q.Refit != nil && q.Refit.Request != nil:
+		old, rp, _, err := s.prepareRefit(ctx, q.Refit.CurveID, q.Refit.Request)
+		if err != nil {
+			return plan{}, err
+		}
+		return s.runRefit(ctx, who, old, rp, q.Refit.Request.Reason)
 	}
 	return plan{}, &Error{Kind: ErrInvalid, Detail: fmt.Sprintf("no %s request in the queued analysis", kind)}
 }

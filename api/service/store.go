@@ -65,6 +65,8 @@ type Potency interface {
 	AssayCompounds(ctx context.Context, assayID, after string, limit int, desc bool) ([]string, error)
 	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]db.PotencyRow, error)
 	CurvePotency(ctx context.Context, id string) (*db.PotencyRow, error)
+	PotencySummaries(ctx context.Context, p db.PotencyPage) ([]db.PotencySummary, error)
+	PotencyStale(ctx context.Context, assayID string) (bool, error)
 	UnreviewedCurves(ctx context.Context, limit int) ([]db.PotencyRow, error)
 	CurveResult(ctx context.Context, id string) (*db.CurveResult, error)
 	Reviews(ctx context.Context, curveIDs []string) ([]db.Review, error)
@@ -80,8 +82,15 @@ type Drift interface {
 	DriftCharts(ctx context.Context) ([]db.DriftChart, error)
 }
 
+// Sweeps finds the jobs the queue gave up on while their plate or
+// analysis waits (Service.Sweep).
+type Sweeps interface {
+	DiscardedWaiting(ctx context.Context, limit int) ([]db.Discarded, error)
+}
+
 // Store is everything the service reads and writes.
 type Store interface {
+	Sweeps
 	Writes
 	Replies
 	Catalogue

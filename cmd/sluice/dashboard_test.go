@@ -20,6 +20,11 @@ var dashboardChecks = []struct {
 	{"curve-review", checkCurveReview},
 	{"curve-refit", checkCurveRefit},
 	{"curve-refusals", checkCurveRefusals},
+	// Plates and Schild analyses (dashboard_plates_test.go).
+	{"plates", checkPlates},
+	{"plate", checkPlate},
+	{"schild", checkSchild},
+	// End of plates and Schild analyses.
 }
 
 // TestDashboard serves the demo on each store and walks the dashboard in

@@ -76,7 +76,13 @@ var statusTable = []struct {
 	{errNotFoundRoute, http.StatusNotFound},
 	{errMethod, http.StatusMethodNotAllowed},
 	{errUnavailable, http.StatusServiceUnavailable},
+	{db.ErrUnavailable, http.StatusServiceUnavailable},
 }
+
+// retryAfter is the Retry-After (RFC 9110 §10.2.3) of a 503: the database
+// is down or frozen, so try again in a few seconds (after a restart, the
+// pool reconnects within 1–6 s).
+const retryAfter = "5"
 
 func statusOf(err error) int {
 	for _, e := range statusTable {
@@ -122,9 +128,22 @@ func (s *Server) writeProblem(c *gin.Context, err error) {
 	p.Type = problemType + strings.ReplaceAll(strings.ToLower(p.Title), " ", "-")
 	var re *service.Error
 	switch {
+	case status == http.StatusServiceUnavailable:
+		// An outage, not a bug: the client may retry; the operator reads
+		// sluice_server_errors_total{cause="unavailable"} and /readyz.
+		c.Header("Retry-After", retryAfter)
+		s.metrics.serverError(causeUnavailable)
+		if errors.As(err, &re) {
+			p.Detail = re.Detail
+		} else {
+			s.log.Warn("database unavailable", "path", c.Request.URL.Path, "err", err)
+			p.Detail = "the database is unavailable; nothing was changed; try again later"
+		}
 	case status >= 500 && errors.As(err, &re):
+		s.metrics.serverError(causeInternal)
 		p.Detail = re.Detail
 	case status >= 500:
+		s.metrics.serverError(causeInternal)
 		s.log.Error("request failed", "path", c.Request.URL.Path, "err", err)
 		p.Detail = "internal error; the request was not completed"
 	case errors.As(err, &re):

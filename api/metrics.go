@@ -24,6 +24,8 @@ type metrics struct {
 	failedRefits  prometheus.Counter
 	plateDuration prometheus.Histogram
 	serverErrors  *prometheus.CounterVec
+	connsOpen     prometheus.Gauge
+	connsRefused  prometheus.Counter
 	drift         driftMetrics
 }
 
@@ -68,12 +70,18 @@ func newMetrics(reg prometheus.Registerer, store db.Store, log *slog.Logger) (*m
 			Name: "sluice_server_errors_total",
 			Help: "5xx answers by cause: unavailable (503, the database is down or frozen; retry later) or internal (500, a fault to investigate in the logs).",
 		}, []string{"cause"}),
+		connsOpen: prometheus.NewGauge(prometheus.GaugeOpts{
+			Name: "sluice_http_connections_open", Help: "HTTP connections open, counted against the cap (--max-conns).",
+		}),
+		connsRefused: prometheus.NewCounter(prometheus.CounterOpts{
+			Name: "sluice_http_connections_refused_total", Help: "HTTP connections refused with a 503 because the cap (--max-conns) was reached.",
+		}),
 		drift: newDriftMetrics(),
 	}
 	// Both causes exist from the start, so that rate() sees the first one.
 	m.serverErrors.WithLabelValues(causeUnavailable)
 	m.serverErrors.WithLabelValues(causeInternal)
-	cs := []prometheus.Collector{m.requests, m.duration, m.serverErrors, m.fits, m.fitDuration, m.resamples, m.failedRefits, m.plateDuration,
+	cs := []prometheus.Collector{m.requests, m.duration, m.serverErrors, m.connsOpen, m.connsRefused, m.fits, m.fitDuration, m.resamples, m.failedRefits, m.plateDuration,
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{})}
 	cs = append(cs, m.drift.collectors()...)
 	if store != nil {

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"net/http"
 	"strings"
+	"time"
 
 	"github.com/gin-gonic/gin"
 
@@ -45,6 +46,7 @@ var (
 	errNotFoundRoute   = errors.New("no such endpoint")
 	errMethod          = errors.New("method not allowed")
 	errUnavailable     = errors.New("unavailable")
+	errBodyTimeout     = errors.New("request body too slow")
 )
 
 // statusTable is the one place that maps error categories to HTTP status
@@ -72,6 +74,7 @@ var statusTable = []struct {
 	{db.ErrExists, http.StatusConflict},
 	{service.ErrConflict, http.StatusConflict},
 	{errTooLarge, http.StatusRequestEntityTooLarge},
+	{errBodyTimeout, http.StatusRequestTimeout},
 	{errUnsupportedType, http.StatusUnsupportedMediaType},
 	{errNotFoundRoute, http.StatusNotFound},
 	{errMethod, http.StatusMethodNotAllowed},
@@ -124,6 +127,17 @@ func (s *Server) writeProblem(c *gin.Context, err error) {
 		return
 	}
 	status := statusOf(err)
+	if bodyUnread(c) {
+		// Answered before the body was read (401, 403, 413, a bad
+		// parameter, …): close the connection rather than read a body
+		// no one will use, so that a client cannot hold it by sending
+		// slowly. Connection: close stops net/http from draining the body
+		// to reuse the connection, but closing the body after the handler
+		// still reads up to 256 KiB of it: the read deadline, moved to
+		// now, ends that read at once.
+		c.Header("Connection", "close")
+		http.NewResponseController(c.Writer).SetReadDeadline(time.Now())
+	}
 	p := Problem{Status: status, Title: http.StatusText(status), Instance: c.Request.URL.Path}
 	p.Type = problemType + strings.ReplaceAll(strings.ToLower(p.Title), " ", "-")
 	var re *service.Error

@@ -11,7 +11,9 @@ import (
 	"strings"
 	"time"
 
+	"sluice/api"
 	"sluice/api/service"
+	"sluice/db"
 	"sluice/fit/cost"
 )
 
@@ -54,7 +56,23 @@ type serveConfig struct {
 	// store's defaults, 10m and 11m (db.Options). An orphaned job is picked
 	// up again within about rescue + 1 min (deploy/README.md).
 	JobTimeout, JobRescueAfter time.Duration
+	// DBTimeout (SLUICE_DB_TIMEOUT, --db-timeout) bounds every call to the
+	// database (db.Options.CallTimeout): past it the request is answered
+	// 503 with Retry-After, so a frozen database never hangs a request.
+	// Range 100ms–10m; default 15s (db.DefaultCallTimeout).
+	DBTimeout time.Duration
+	// MaxConns (SLUICE_MAX_CONNS, --max-conns) caps the HTTP connections
+	// served at once; one over the cap is answered 503 and closed
+	// (api.LimitListener). Range 16–1 000 000; default 1024
+	// (api.DefaultMaxConns).
+	MaxConns int
 }
+
+// Bounds of --max-conns.
+const (
+	minMaxConns = 16
+	maxMaxConns = 1_000_000
+)
 
 // Bounds and defaults of --sync-budget and --work-limit.
 const (
@@ -113,6 +131,14 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	if err != nil {
 		errs = append(errs, fmt.Errorf("SLUICE_JOB_RESCUE_AFTER: %q is not a duration (e.g. 11m)", getenv("SLUICE_JOB_RESCUE_AFTER")))
 	}
+	dbTimeout, err := time.ParseDuration(envOr(getenv, "SLUICE_DB_TIMEOUT", db.DefaultCallTimeout.String()))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_DB_TIMEOUT: %q is not a duration (e.g. 15s)", getenv("SLUICE_DB_TIMEOUT")))
+	}
+	maxConns, err := strconv.Atoi(envOr(getenv, "SLUICE_MAX_CONNS", strconv.Itoa(api.DefaultMaxConns)))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_MAX_CONNS: %q is not a whole number", getenv("SLUICE_MAX_CONNS")))
+	}
 	auth := true
 	switch v := strings.ToLower(getenv("SLUICE_AUTH")); v {
 	case "", "on", "true", "1":
@@ -139,6 +165,8 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.DurationVar(&c.WorkLimit, "work-limit", workLimit, "estimated CPU time above which a request is refused with a 422 (SLUICE_WORK_LIMIT)")
 	fs.DurationVar(&c.JobTimeout, "job-timeout", jobTimeout, "longest attempt at a queued job; 0 = 10m (SLUICE_JOB_TIMEOUT)")
 	fs.DurationVar(&c.JobRescueAfter, "job-rescue-after", jobRescue, "a job running this long is taken for orphaned and retried; ≥ --job-timeout; 0 = 11m (SLUICE_JOB_RESCUE_AFTER)")
+	fs.DurationVar(&c.DBTimeout, "db-timeout", dbTimeout, "longest call to the database; past it, 503 with Retry-After (SLUICE_DB_TIMEOUT)")
+	fs.IntVar(&c.MaxConns, "max-conns", maxConns, "HTTP connections served at once; more are answered 503 and closed (SLUICE_MAX_CONNS)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -179,6 +207,12 @@ func (c *serveConfig) validate() []error {
 	}
 	if err := validateJobTiming(c.JobTimeout, c.JobRescueAfter); err != nil {
 		errs = append(errs, err)
+	}
+	if c.DBTimeout < db.MinCallTimeout || c.DBTimeout > db.MaxCallTimeout {
+		errs = append(errs, fmt.Errorf("--db-timeout / SLUICE_DB_TIMEOUT: %v is outside %v–%v", c.DBTimeout, db.MinCallTimeout, db.MaxCallTimeout))
+	}
+	if c.MaxConns < minMaxConns || c.MaxConns > maxMaxConns {
+		errs = append(errs, fmt.Errorf("--max-conns / SLUICE_MAX_CONNS: %d is outside %d–%d", c.MaxConns, minMaxConns, maxMaxConns))
 	}
 	if c.FitWorkers < 0 {
 		errs = append(errs, fmt.Errorf("--fit-workers / SLUICE_FIT_WORKERS: %d is negative", c.FitWorkers))
@@ -244,7 +278,8 @@ func (c *serveConfig) logAttrs() []any {
 		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role,
 		"shutdown_grace", c.ShutdownGrace.String(), "migrate", !c.SkipMigrations,
 		"sync_budget", c.SyncBudget.String(), "work_limit", c.WorkLimit.String(),
-		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String()}
+		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String(),
+		"db_timeout", c.DBTimeout.String(), "max_conns", c.MaxConns}
 }
 
 // redactURL hides a URL's password.

@@ -15,6 +15,7 @@ type Store interface {
 	Results
 	Plates
 	Tokens
+	Sessions
 	AuditLog
 	Idempotency
 	Jobs
@@ -75,6 +76,9 @@ type Potency interface {
 	// AssayPotency returns the curves of some compounds in an assay.
 	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]PotencyRow, error)
 	CurvePotency(ctx context.Context, id string) (*PotencyRow, error)
+	// UnreviewedCurves returns the newest curves never reviewed nor
+	// superseded, at most limit.
+	UnreviewedCurves(ctx context.Context, limit int) ([]PotencyRow, error)
 	// Reviews returns the curves' review events, oldest first per curve.
 	Reviews(ctx context.Context, curveIDs []string) ([]Review, error)
 	CurveRefit(ctx context.Context, id string) (*Refit, error)
@@ -181,6 +185,14 @@ type Writer interface {
 	// RevokeToken revokes the unrevoked token whose name or ID is
 	// nameOrID, as of at; ErrNotFound when there is none.
 	RevokeToken(ctx context.Context, nameOrID string, at time.Time) error
+	// InsertSession opens a dashboard session; TouchSession records its
+	// latest use; DeleteSession ends it (no error when there is none);
+	// DeleteSessionsBefore ends every session past its absolute end (now)
+	// or idle since idleSince, and returns how many.
+	InsertSession(ctx context.Context, s *Session) error
+	TouchSession(ctx context.Context, hash string, at time.Time) error
+	DeleteSession(ctx context.Context, hash string) error
+	DeleteSessionsBefore(ctx context.Context, idleSince, now time.Time) (int64, error)
 	InsertAudit(ctx context.Context, e *AuditEntry) error
 	InsertIdempotent(ctx context.Context, r *Idempotent) error
 

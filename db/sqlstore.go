@@ -52,13 +52,13 @@ func (s *sqlStore) StartHandlers(ctx context.Context, h Handlers, workers int) e
 
 func (s *sqlStore) StopWorkers(ctx context.Context) error { return s.q.stop(ctx) }
 
-func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, plateID string) (int64, error) {
+func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, plateID string, o JobOpts) (int64, error) {
 	if w.err != nil {
 		return 0, w.err
 	}
 	ctx, cancel := withinTx(ctx, w.q)
 	defer cancel()
-	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: plateID})
+	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: plateID, TimeoutMS: o.timeoutMS()})
 	err = timedOut(ctx, err)
 	if err != nil {
 		return 0, w.abort(opError("EnqueuePlateFit", plateID, err, w.e.classify))
@@ -66,7 +66,7 @@ func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, plateID string) (int64,
 	return id, nil
 }
 
-func (w *sqlWriter) EnqueueAnalysis(ctx context.Context, analysis, id string) (int64, error) {
+func (w *sqlWriter) EnqueueAnalysis(ctx context.Context, analysis, id string, o JobOpts) (int64, error) {
 	if w.err != nil {
 		return 0, w.err
 	}
@@ -75,7 +75,7 @@ func (w *sqlWriter) EnqueueAnalysis(ctx context.Context, analysis, id string) (i
 	}
 	ctx, cancel := withinTx(ctx, w.q)
 	defer cancel()
-	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id})
+	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id, TimeoutMS: o.timeoutMS()})
 	err = timedOut(ctx, err)
 	if err != nil {
 		return 0, w.abort(opError("EnqueueAnalysis", id, err, w.e.classify))

@@ -14,6 +14,11 @@ var dashboardChecks = []struct {
 }{
 	{"overview", checkOverview},
 	{"security", checkSecurity},
+	// Drift and the membrane-potential calculator (webdrift).
+	{"drift", checkDrift},
+	{"assay-drift", checkAssayDrift},
+	{"potential", checkPotential},
+	{"accessibility", checkAccessibility},
 }
 
 // TestDashboard serves the demo on each store and walks the dashboard in

@@ -11,6 +11,7 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/chromedp/chromedp"
 
@@ -140,15 +141,23 @@ func checkAssayDrift(t *testing.T, d *demoServer, b *browser, engine string) {
 	if y := eval[float64](b, `document.getElementById("z_prime").getBoundingClientRect().top`); math.Abs(y) > 20 {
 		t.Errorf("#z_prime does not scroll its chart to the top (top at %.0f px)", y)
 	}
-	// The demo's control plates run 40 days from 2026-11-09; the first
-	// week shows 7 points on a one-point-per-plate chart.
-	b.visit("/assays/" + assay + "/drift?from=2026-11-09&to=2026-11-15")
+	// A week from the demo's first control plate (demoDriftStart): the
+	// chart shows the points the API gives for that range.
+	first := demoDriftStart.Format(time.DateOnly)
+	last := demoDriftStart.AddDate(0, 0, 6).Format(time.DateOnly)
+	b.visit("/assays/" + assay + "/drift?from=" + first + "&to=" + last)
 	var week wire.DriftChart
-	apiJSON(t, d, "GET", "/v1/assays/"+assay+"/drift?metric=z_prime&from=2026-11-09T00:00:00Z&to=2026-11-16T00:00:00Z", nil, &week)
-	if got := eval[int](b, `document.querySelectorAll("section#z_prime svg circle").length`); len(week.Points) == 0 || got < len(week.Points) {
+	apiJSON(t, d, "GET", "/v1/assays/"+assay+"/drift?metric=z_prime&from="+first+"T00:00:00Z&to="+
+		demoDriftStart.AddDate(0, 0, 7).Format(time.DateOnly)+"T00:00:00Z", nil, &week)
+	// Each point of the Levey–Jennings panel is a circle with its title
+	// (api/plot/drift.go).
+	if got := b.count("section#z_prime svg circle > title"); len(week.Points) == 0 || got != len(week.Points) {
 		t.Errorf("a week of z_prime: %d points drawn, the API has %d", got, len(week.Points))
 	}
-	if got := eval[string](b, `document.getElementById("from").value`); got != "2026-11-09" {
+	if n := b.count("section#z_prime table.violations tbody tr"); n > len(week.Points) {
+		t.Errorf("a week of z_prime lists %d plates breaking rules, more than its %d points", n, len(week.Points))
+	}
+	if got := eval[string](b, `document.getElementById("from").value`); got != first {
 		t.Errorf("the from field shows %q after filtering", got)
 	}
 	b.visitExpect("/assays/"+assay+"/drift?from=yesterday", http.StatusBadRequest)

@@ -35,25 +35,25 @@ func (s *sqlStore) StartHandlers(ctx context.Context, h Handlers, workers int) e
 
 func (s *sqlStore) StopWorkers(ctx context.Context) error { return s.q.stop(ctx) }
 
-func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, plateID string) (int64, error) {
+func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, plateID string, o JobOpts) (int64, error) {
 	if w.err != nil {
 		return 0, w.err
 	}
-	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: plateID})
+	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: plateID, TimeoutMS: o.timeoutMS()})
 	if err != nil {
 		return 0, w.abort(opError("EnqueuePlateFit", plateID, err, w.e.classify))
 	}
 	return id, nil
 }
 
-func (w *sqlWriter) EnqueueAnalysis(ctx context.Context, analysis, id string) (int64, error) {
+func (w *sqlWriter) EnqueueAnalysis(ctx context.Context, analysis, id string, o JobOpts) (int64, error) {
 	if w.err != nil {
 		return 0, w.err
 	}
 	if analysis == "" || checkArgs([]any{analysis, id}) != nil {
 		return 0, w.invalid("EnqueueAnalysis", id, "analysis")
 	}
-	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id})
+	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id, TimeoutMS: o.timeoutMS()})
 	if err != nil {
 		return 0, w.abort(opError("EnqueueAnalysis", id, err, w.e.classify))
 	}

@@ -19,6 +19,11 @@ var dashboardChecks = []struct {
 	{"assay-drift", checkAssayDrift},
 	{"potential", checkPotential},
 	{"accessibility", checkAccessibility},
+	// Plates and Schild analyses (dashboard_plates_test.go).
+	{"plates", checkPlates},
+	{"plate", checkPlate},
+	{"schild", checkSchild},
+	// End of plates and Schild analyses.
 }
 
 // TestDashboard serves the demo on each store and walks the dashboard in

@@ -136,18 +136,6 @@ func (s *Server) recoverer(c *gin.Context) {
 	c.Next()
 }
 
-// limitBody caps every request body (http.MaxBytesReader); reading past
-// the cap fails with a 413 problem.
-func (s *Server) limitBody(c *gin.Context) {
-	if c.Request.ContentLength > s.cfg.BodyLimit {
-		s.writeProblem(c, &service.Error{Kind: errTooLarge, Detail: "the body is larger than the limit of " +
-			strconv.FormatInt(s.cfg.BodyLimit, 10) + " bytes"})
-		return
-	}
-	c.Request.Body = http.MaxBytesReader(c.Writer, c.Request.Body, s.cfg.BodyLimit)
-	c.Next()
-}
-
 // knownParams refuses a query parameter the route does not take
 // (queryParams), and one given more than once.
 func (s *Server) knownParams(c *gin.Context) {

@@ -9,6 +9,10 @@ import (
 // registerPages adds the signed-in pages, one line each (the handlers
 // live in a file per page).
 func (s *Site) registerPages(g *gin.RouterGroup) {
+	// Drift and the membrane-potential calculator (webdrift).
+	g.GET("/drift", s.driftList)
+	g.GET("/assays/:id/drift", s.assayDrift)
+	g.GET("/potential", s.potential)
 	// Curves and compounds (curve.go, compounds.go, compound.go).
 	g.GET("/curves/:id", s.curvePage)
 	g.GET("/curves/:id/plot.svg", s.curvePlot)

@@ -14,6 +14,11 @@ var dashboardChecks = []struct {
 }{
 	{"overview", checkOverview},
 	{"security", checkSecurity},
+	// Drift and the membrane-potential calculator (webdrift).
+	{"drift", checkDrift},
+	{"assay-drift", checkAssayDrift},
+	{"potential", checkPotential},
+	{"accessibility", checkAccessibility},
 	// Curves and compounds (dashboard_curves_test.go).
 	{"compounds", checkCompounds},
 	{"compound", checkCompound},

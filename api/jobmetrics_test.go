@@ -23,7 +23,7 @@ func TestJobMetrics(t *testing.T) {
 		ctx := context.Background()
 		err := s.Write(ctx, func(w db.Writer) error {
 			for _, p := range []string{"p1", "p2", "p3"} {
-				if _, err := w.EnqueuePlateFit(ctx, p); err != nil {
+				if _, err := w.EnqueuePlateFit(ctx, db.PlateJob{PlateID: p}); err != nil {
 					return err
 				}
 			}

@@ -34,7 +34,7 @@ func TestJobCounts(t *testing.T) {
 				return err
 			}
 			for _, p := range []string{"p1", "p2"} {
-				if _, err := w.EnqueuePlateFit(ctx, p); err != nil {
+				if _, err := w.EnqueuePlateFit(ctx, db.PlateJob{PlateID: p}); err != nil {
 					return err
 				}
 			}

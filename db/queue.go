@@ -20,6 +20,21 @@ import (
 // PlateFitArgs is the job that QCs and fits one stored plate.
 type PlateFitArgs struct {
 	PlateID string `json:"plate_id"`
+	// Work is the plate's estimated CPU work in cost units (package
+	// fit/cost), as PlateJob gave it; zero for jobs queued before it was
+	// recorded.
+	Work float64 `json:"work,omitempty"`
+}
+
+// PlateJob is a plate's fit job as EnqueuePlateFit queues it.
+type PlateJob struct {
+	PlateID string
+	// Work is the plate's estimated CPU work in cost units (package
+	// fit/cost: fit.Cost summed over its curves); zero means unknown.
+	Work float64
+	// Small puts the job in the small-job lane (QueueSmall), whose workers
+	// take nothing else, so that it never waits behind large plates.
+	Small bool
 }
 
 // Kind names the job in River's table.
@@ -40,6 +55,19 @@ func (AnalysisArgs) Kind() string { return JobAnalysis }
 const (
 	JobPlateFit = "sluice_plate_fit"
 	JobAnalysis = "sluice_analysis"
+)
+
+// The queue's lanes (River queues). Every job goes to QueueMain except
+// plates marked PlateJob.Small, which go to QueueSmall. Each lane has
+// workers of its own in every worker process (StartHandlers), so a small
+// plate is taken at once even while every main worker runs a large one:
+// with two 1536-well plates of B = 10 000 running, a 96-well plate waited
+// for one of them to finish in a single FIFO queue (db/lane_bench_test.go
+// measures it). Within a lane jobs run first in, first out, so no job
+// starves.
+const (
+	QueueMain  = river.QueueDefault
+	QueueSmall = "sluice_small"
 )
 
 // Job is a queued job's state.
@@ -91,11 +119,16 @@ const (
 	// hardStopWait bounds the wait for cancelled jobs to return after the
 	// caller's grace period (StopWorkers) or on Close.
 	hardStopWait = 10 * time.Second
+	// smallWorkers is the small-job lane's workers per process: one, as
+	// its jobs are short (at most the synchronous budget, about a second
+	// of one core) and it only has to keep them from queueing behind
+	// large ones.
+	smallWorkers = 1
 )
 
 // queue is River on one engine.
 type queue interface {
-	enqueue(ctx context.Context, q querier, args river.JobArgs) (int64, error)
+	enqueue(ctx context.Context, q querier, args river.JobArgs, lane string) (int64, error)
 	job(ctx context.Context, id int64) (*Job, error)
 	start(h Handlers, workers int) error
 	stop(ctx context.Context) error
@@ -162,12 +195,12 @@ func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx],
 	return &riverQueue[TTx]{driver: driver, insert: insert, txOf: txOf, poll: poll, log: o.Logger, timeout: timeout, rescue: rescue}, nil
 }
 
-func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args river.JobArgs) (int64, error) {
+func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args river.JobArgs, lane string) (int64, error) {
 	tx, ok := q.txOf(qr)
 	if !ok {
 		return 0, errors.New("enqueue outside a transaction")
 	}
-	res, err := q.insert.InsertTx(ctx, tx, args, &river.InsertOpts{MaxAttempts: maxAttempts})
+	res, err := q.insert.InsertTx(ctx, tx, args, &river.InsertOpts{MaxAttempts: maxAttempts, Queue: lane})
 	if err != nil {
 		return 0, err
 	}
@@ -231,6 +264,10 @@ func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 			})
 		}))
 	}
+	lanes := map[string]river.QueueConfig{QueueMain: {MaxWorkers: workers}}
+	if h.Plate != nil {
+		lanes[QueueSmall] = river.QueueConfig{MaxWorkers: smallWorkers}
+	}
 	q.mu.Lock()
 	defer q.mu.Unlock()
 	q.cancelling.Store(false)
@@ -238,7 +275,7 @@ func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 		return errors.New("job queue: workers already started")
 	}
 	c, err := river.NewClient(q.driver, &river.Config{
-		Queues:               map[string]river.QueueConfig{river.QueueDefault: {MaxWorkers: workers}},
+		Queues:               lanes,
 		Workers:              ws,
 		JobTimeout:           q.timeout,
 		RescueStuckJobsAfter: q.rescue,

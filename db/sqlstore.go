@@ -1,6 +1,9 @@
 package db
 
-import "context"
+import (
+	"context"
+	"math"
+)
 
 // sqlStore implements Store on either engine with one set of SQL text.
 type sqlStore struct {
@@ -35,13 +38,20 @@ func (s *sqlStore) StartHandlers(ctx context.Context, h Handlers, workers int) e
 
 func (s *sqlStore) StopWorkers(ctx context.Context) error { return s.q.stop(ctx) }
 
-func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, plateID string) (int64, error) {
+func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, job PlateJob) (int64, error) {
 	if w.err != nil {
 		return 0, w.err
 	}
-	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: plateID})
+	if math.IsNaN(job.Work) || math.IsInf(job.Work, 0) || job.Work < 0 {
+		return 0, w.invalid("EnqueuePlateFit", job.PlateID, "work")
+	}
+	lane := QueueMain
+	if job.Small {
+		lane = QueueSmall
+	}
+	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: job.PlateID, Work: job.Work}, lane)
 	if err != nil {
-		return 0, w.abort(opError("EnqueuePlateFit", plateID, err, w.e.classify))
+		return 0, w.abort(opError("EnqueuePlateFit", job.PlateID, err, w.e.classify))
 	}
 	return id, nil
 }
@@ -53,7 +63,7 @@ func (w *sqlWriter) EnqueueAnalysis(ctx context.Context, analysis, id string) (i
 	if analysis == "" || checkArgs([]any{analysis, id}) != nil {
 		return 0, w.invalid("EnqueueAnalysis", id, "analysis")
 	}
-	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id})
+	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id}, QueueMain)
 	if err != nil {
 		return 0, w.abort(opError("EnqueueAnalysis", id, err, w.e.classify))
 	}

@@ -86,6 +86,9 @@ type Potency interface {
 type Plates interface {
 	Plate(ctx context.Context, id string) (*Plate, error)
 	PlateByJob(ctx context.Context, jobID int64) (*Plate, error)
+	// PlateStatuses returns the status of each existing plate of ids, by
+	// ID (one statement per 500 IDs): the shared poll of waiting requests.
+	PlateStatuses(ctx context.Context, ids []string) (map[string]string, error)
 	// Wells lists a plate's wells by row, column.
 	Wells(ctx context.Context, plateID string) ([]WellRow, error)
 	// PlateCurves lists a plate's curves by key.
@@ -188,9 +191,10 @@ type Writer interface {
 	// InsertPlate stores a plate and its wells.
 	InsertPlate(ctx context.Context, p *Plate, wells []WellRow) error
 	// EnqueuePlateFit queues the plate's fit job in this transaction, so
-	// that a stored plate always has its job, and returns the job's ID
-	// (store it as the plate's JobID).
-	EnqueuePlateFit(ctx context.Context, plateID string) (int64, error)
+	// that a stored plate always has its job, in the lane job.Small picks
+	// (QueueSmall or QueueMain), and returns the job's ID (store it as the
+	// plate's JobID). A negative or non-finite Work is ErrInvalid.
+	EnqueuePlateFit(ctx context.Context, job PlateJob) (int64, error)
 	// EnqueueAnalysis queues a single analysis (e.g. "fit", "potential")
 	// of the record id, stored in this transaction, for a worker's
 	// Handlers.Analysis; it returns the job's ID.

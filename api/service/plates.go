@@ -17,6 +17,7 @@ import (
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
+	"sluice/fit/cost"
 	"sluice/fit/plate"
 )
 
@@ -57,6 +58,7 @@ const MaxBarcode = 100
 type validPlate struct {
 	p     db.Plate
 	wells []db.WellRow
+	work  cost.Work // plateWork
 }
 
 // SubmitPlate is POST /v1/plates: it validates the plate with the plate
@@ -100,7 +102,7 @@ func (s *Service) SubmitPlate(ctx context.Context, who Caller, idem *Idem, sub *
 		return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
 			// The job first: the worker can see it only once the plate
 			// below commits with it.
-			jobID, err := w.EnqueuePlateFit(ctx, v.p.ID)
+			jobID, err := w.EnqueuePlateFit(ctx, db.PlateJob{PlateID: v.p.ID, Work: float64(v.work), Small: s.budget.smallPlate(v.work)})
 			if err != nil {
 				return nil, fmt.Errorf("enqueue plate %s: %w", v.p.ID, err)
 			}
@@ -192,11 +194,13 @@ func (s *Service) validatePlate(req *wire.PlateRequest, wells []ingest.WellIn, l
 	if err := fs.Validate(); err != nil {
 		return nil, prefixPointer(err, "/fit")
 	}
+	var boot *fit.BootSettings
 	if b := set.Fit.Bootstrap; b != nil {
 		bs := fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval)}
 		if err := bs.Validate(); err != nil {
 			return nil, prefixPointer(err, "/fit")
 		}
+		boot = &bs
 		if b.Seed == nil {
 			seed := s.newSeed()
 			b.Seed = &seed
@@ -205,7 +209,8 @@ func (s *Service) validatePlate(req *wire.PlateRequest, wells []ingest.WellIn, l
 	if v.p.Settings, err = json.Marshal(set); err != nil {
 		return nil, fmt.Errorf("plate settings: %w", err)
 	}
-	v.p.CurvesTotal = len(plate.Curves(plate.Read(checked), mode, 1, 0))
+	specs := plate.Curves(plate.Read(checked), mode, 1, 0)
+	v.p.CurvesTotal, v.work = len(specs), plateWork(specs, &fs, boot)
 	return v, nil
 }
 

@@ -43,6 +43,7 @@ type Service struct {
 	fitWorkers int
 	budget     Budget
 	obs        Observer
+	watch      *plateWatch // WaitPlate's shared poll
 }
 
 // New builds the service, filling documented defaults.
@@ -73,6 +74,7 @@ func New(d Deps) (*Service, error) {
 	if s.obs == nil {
 		s.obs = noObserver{}
 	}
+	s.watch = newPlateWatch(s.store, s.log, waitTick)
 	return s, nil
 }
 

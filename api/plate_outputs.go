@@ -1,7 +1,6 @@
 package api
 
 import (
-	"bytes"
 	"encoding/csv"
 	"fmt"
 	"math"
@@ -11,9 +10,8 @@ import (
 
 	"github.com/gin-gonic/gin"
 
-	"sluice/api/plot"
+	"sluice/api/figure"
 	"sluice/api/wire"
-	"sluice/fit/plate"
 )
 
 // plateCurvesCSV is GET /v1/plates/{id}/curves.csv: one row per curve.
@@ -69,21 +67,7 @@ func (s *Server) plateHeatmap(c *gin.Context) {
 		s.writeProblem(c, err)
 		return
 	}
-	fig := &plot.Heatmap{Barcode: m.Plate.Barcode, Format: m.Format, Verdict: "QC pending",
-		Footnote: wire.Caution[:strings.Index(wire.Caution, ". ")+1]}
-	if qc := m.QC; qc != nil {
-		fig.Verdict = fmt.Sprintf("QC %s · Z′ %.2f", map[bool]string{true: "pass", false: "FAIL"}[qc.Pass], qc.ZPrime)
-		fig.Reasons = qc.Reasons
-	}
-	for _, r := range m.Wells {
-		fig.Wells = append(fig.Wells, plot.HeatWell{Row: r.Row, Col: r.Col, Name: r.Well, Role: plate.Role(r.Role), Value: r.Value})
-	}
-	var b bytes.Buffer
-	if err := fig.Write(&b); err != nil {
-		s.writeProblem(c, fmt.Errorf("heat map of plate %s: %w", m.Plate.ID, err))
-		return
-	}
-	c.Data(http.StatusOK, "image/svg+xml", b.Bytes())
+	s.writeSVG(c, figure.Heatmap(m))
 }
 
 // deref is the string behind p, "" for nil (a JSON null).

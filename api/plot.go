@@ -6,6 +6,8 @@ import (
 	"io"
 	"net/http"
 
+	"sluice/api/figure"
+
 	"github.com/gin-gonic/gin"
 )
 
@@ -23,21 +25,13 @@ func (s *Server) fitPlot(c *gin.Context) {
 	for i, p := range input.Points {
 		conc[i], resp[i] = unit.ToMolar(*p.Conc), *p.Response
 	}
-	fig := curveFigure(plotTitle(run.CompoundID, run.ID), &res.FitResult, conc, resp)
+	fig := figure.Curve(figure.Title(run.CompoundID, run.ID), &res.FitResult, conc, resp)
 	if run.AssayID != "" {
 		if a, err := s.svc.Assay(c.Request.Context(), run.AssayID); err == nil && a.Units != "" {
 			fig.YLabel = "response (" + a.Units + ")"
 		}
 	}
 	s.writeSVG(c, fig)
-}
-
-// plotTitle names a figure by its compound, else by its run.
-func plotTitle(compound, id string) string {
-	if compound != "" {
-		return compound
-	}
-	return "Fit " + id
 }
 
 // writeSVG renders a figure and sends it.

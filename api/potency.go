@@ -11,7 +11,7 @@ import (
 
 	"github.com/gin-gonic/gin"
 
-	"sluice/api/plot"
+	"sluice/api/figure"
 	"sluice/api/service"
 	"sluice/api/wire"
 	"sluice/db"
@@ -261,24 +261,10 @@ func (s *Server) compoundPotencyPlot(c *gin.Context) {
 		s.writeProblem(c, badParameter("assay_id", "compound %s has curves in %d assays; choose one with assay_id", q.CompoundID, len(out.Assays)))
 		return
 	}
-	h := out.Assays[0]
-	fig := &plot.History{Title: "Potency of " + h.CompoundID + " in " + h.AssayID, Footnote: wire.Caution,
-		Mean: float64(h.Summary.PEC50Mean), MSR: float64(h.Summary.MSR)}
-	fig.Subtitle = fmt.Sprintf("%d usable of %d runs", h.Summary.N, len(h.Runs))
-	if h.Summary.N > 0 {
-		fig.Subtitle += fmt.Sprintf(" · mean pEC50 %.2f", float64(h.Summary.PEC50Mean))
-	}
-	if m := float64(h.Summary.MSR); !math.IsNaN(m) {
-		fig.Subtitle += fmt.Sprintf(" · MSR %.2f over the last %d", m, h.Summary.MSRRuns)
-	}
-	for _, r := range h.Runs {
-		at, err := time.Parse(time.RFC3339Nano, r.MeasuredAt)
-		if err != nil {
-			s.writeProblem(c, fmt.Errorf("run %s: measured_at: %w", r.ID, err))
-			return
-		}
-		fig.Runs = append(fig.Runs, plot.HistoryRun{ID: r.ID, At: at, PEC50: float64(r.PEC50), Lo: -float64(r.LogEC50CI[1]),
-			Hi: -float64(r.LogEC50CI[0]), Excluded: r.Excluded, Qualifier: r.Qualifier})
+	fig, err := figure.History(&out.Assays[0])
+	if err != nil {
+		s.writeProblem(c, err)
+		return
 	}
 	s.writeSVG(c, fig)
 }

@@ -9,12 +9,9 @@ import (
 
 	"github.com/gin-gonic/gin"
 
-	"sluice/api/ingest"
 	"sluice/api/service"
+	"sluice/api/status"
 	"sluice/api/wire"
-	"sluice/db"
-	"sluice/fit"
-	"sluice/fit/plate"
 )
 
 // Problem is an RFC 9457 problem details object with the fields that went
@@ -34,58 +31,21 @@ type Problem struct {
 type FieldError = wire.FieldError
 
 // Error categories. The use cases raise theirs (service.Err…); the
-// handlers add those of HTTP itself. statusOf maps them to HTTP.
+// handlers add those of HTTP itself (api/status). statusOf maps them to HTTP.
 var (
-	errBadRequest      = service.ErrBadRequest         // malformed syntax
-	errInvalid         = service.ErrInvalid            // well-formed but unusable
-	errUnauthenticated = errors.New("unauthenticated") // no valid token
-	errForbidden       = errors.New("forbidden")       // token lacks the scope
-	errTooLarge        = errors.New("request body too large")
-	errUnsupportedType = errors.New("unsupported media type")
-	errNotFoundRoute   = errors.New("no such endpoint")
-	errMethod          = errors.New("method not allowed")
-	errUnavailable     = errors.New("unavailable")
+	errBadRequest      = service.ErrBadRequest     // malformed syntax
+	errInvalid         = service.ErrInvalid        // well-formed but unusable
+	errUnauthenticated = status.ErrUnauthenticated // no valid token
+	errForbidden       = status.ErrForbidden       // token lacks the scope
+	errTooLarge        = status.ErrTooLarge
+	errUnsupportedType = status.ErrUnsupportedType
+	errNotFoundRoute   = status.ErrNotFoundRoute
+	errMethod          = status.ErrMethod
+	errUnavailable     = status.ErrUnavailable
 )
 
-// statusTable is the one place that maps error categories to HTTP status
-// (first match wins).
-var statusTable = []struct {
-	err    error
-	status int
-}{
-	{service.ErrBadRequest, http.StatusBadRequest},
-	{service.ErrInvalid, http.StatusUnprocessableEntity},
-	{service.ErrTooMuchWork, http.StatusUnprocessableEntity},
-	{fit.ErrInvalidInput, http.StatusUnprocessableEntity},
-	{plate.ErrInvalid, http.StatusUnprocessableEntity},
-	{ingest.ErrBadValue, http.StatusUnprocessableEntity},
-	{ingest.ErrNotNumber, http.StatusUnprocessableEntity},
-	{ingest.ErrMissingColumn, http.StatusUnprocessableEntity},
-	{ingest.ErrNoData, http.StatusUnprocessableEntity},
-	{ingest.ErrSyntax, http.StatusBadRequest},
-	{ingest.ErrNoUnit, http.StatusUnprocessableEntity},
-	{db.ErrReference, http.StatusUnprocessableEntity},
-	{db.ErrInvalid, http.StatusUnprocessableEntity},
-	{errUnauthenticated, http.StatusUnauthorized},
-	{errForbidden, http.StatusForbidden},
-	{db.ErrNotFound, http.StatusNotFound},
-	{db.ErrExists, http.StatusConflict},
-	{service.ErrConflict, http.StatusConflict},
-	{errTooLarge, http.StatusRequestEntityTooLarge},
-	{errUnsupportedType, http.StatusUnsupportedMediaType},
-	{errNotFoundRoute, http.StatusNotFound},
-	{errMethod, http.StatusMethodNotAllowed},
-	{errUnavailable, http.StatusServiceUnavailable},
-}
-
-func statusOf(err error) int {
-	for _, e := range statusTable {
-		if errors.Is(err, e.err) {
-			return e.status
-		}
-	}
-	return http.StatusInternalServerError
-}
+// statusOf maps an error to HTTP: the one table in api/status.
+func statusOf(err error) int { return status.Of(err) }
 
 // invalidField is a 422 pointing at a field of the body.
 func invalidField(pointer, format string, a ...any) error {

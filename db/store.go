@@ -15,6 +15,7 @@ type Store interface {
 	Results
 	Plates
 	Tokens
+	Sessions
 	AuditLog
 	Idempotency
 	Jobs
@@ -184,6 +185,14 @@ type Writer interface {
 	// RevokeToken revokes the unrevoked token whose name or ID is
 	// nameOrID, as of at; ErrNotFound when there is none.
 	RevokeToken(ctx context.Context, nameOrID string, at time.Time) error
+	// InsertSession opens a dashboard session; TouchSession records its
+	// latest use; DeleteSession ends it (no error when there is none);
+	// DeleteSessionsBefore ends every session past its absolute end (now)
+	// or idle since idleSince, and returns how many.
+	InsertSession(ctx context.Context, s *Session) error
+	TouchSession(ctx context.Context, hash string, at time.Time) error
+	DeleteSession(ctx context.Context, hash string) error
+	DeleteSessionsBefore(ctx context.Context, idleSince, now time.Time) (int64, error)
 	InsertAudit(ctx context.Context, e *AuditEntry) error
 	InsertIdempotent(ctx context.Context, r *Idempotent) error
 

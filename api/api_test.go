@@ -271,7 +271,7 @@ func TestAuth(t *testing.T) {
 			t.Errorf("%s without a token: %d", path, w.Code)
 		}
 	}
-	if w := ts.do("GET", "/v2/nothing", "", ""); w.Code != 404 {
+	if w := ts.do("GET", "/v1/nothing", "", ""); w.Code != 404 {
 		t.Errorf("unknown route: %d", w.Code)
 	} else {
 		problemOf(t, w)

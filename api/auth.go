@@ -2,9 +2,7 @@ package api
 
 import (
 	"context"
-	"crypto/sha256"
 	"encoding/base64"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"strings"
@@ -17,17 +15,15 @@ import (
 	"sluice/db"
 )
 
-// Scopes, each including the ones before it.
+// Scopes, each including the ones before it (service.Caller.Can).
 const (
-	ScopeRead   = "read"
-	ScopeSubmit = "submit"
-	ScopeAdmin  = "admin"
+	ScopeRead   = service.ScopeRead
+	ScopeSubmit = service.ScopeSubmit
+	ScopeAdmin  = service.ScopeAdmin
 )
 
-var scopeRank = map[string]int{ScopeRead: 1, ScopeSubmit: 2, ScopeAdmin: 3}
-
 // ValidScope reports whether s names a scope.
-func ValidScope(s string) bool { return scopeRank[s] > 0 }
+func ValidScope(s string) bool { return service.ValidScope(s) }
 
 // NewToken returns a new secret and the hash to store. The secret is 32
 // bytes from the system's secure source, base64url, behind a "slc_" prefix
@@ -39,12 +35,8 @@ func NewToken() (secret, hash string) {
 	return secret, HashToken(secret)
 }
 
-// HashToken is the stored form of a secret: hex SHA-256. A slow password
-// hash is unnecessary for 256-bit random secrets.
-func HashToken(secret string) string {
-	h := sha256.Sum256([]byte(secret))
-	return hex.EncodeToString(h[:])
-}
+// HashToken is the stored form of a secret (service.HashToken).
+func HashToken(secret string) string { return service.HashToken(secret) }
 
 const (
 	actorKey = "sluice.actor"
@@ -84,7 +76,7 @@ func (s *Server) authenticate(scope string) gin.HandlerFunc {
 			s.writeProblem(c, fmt.Errorf("token lookup: %w", err))
 			return
 		}
-		if scopeRank[tok.Scope] < scopeRank[scope] {
+		if !(service.Caller{Scope: tok.Scope}).Can(scope) {
 			s.writeProblem(c, &service.Error{Kind: errForbidden,
 				Detail: fmt.Sprintf("token %q has scope %s; this needs %s", tok.Name, tok.Scope, scope)})
 			return

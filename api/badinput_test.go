@@ -113,7 +113,7 @@ func badCatalogue(t *testing.T) []badCase {
 		"/v1/layouts":     {"id", "name", "conc_unit", "wells.0.well", "wells.0.role", "wells.2.compound_id", "wells.2.antagonist_id"},
 		"/v1/plates":      {"barcode", "assay_id", "measured_at", "conc_unit", "mode", "wells.0.well", "wells.0.role", "wells.2.compound_id", "wells.2.antagonist_id", "fit.model"},
 		"/v1/schild":      {"conc_unit", "agonist_id", "antagonist_id"},
-		"/v1/potential":   {"curve_id", "cell.preset", "cell.ions.+k", "cell.resting_conductance_ns.+k", "channel.permeability.+k"},
+		"/v1/potential":   {"conc_unit", "curve_id", "agonist_id", "channel.name", "cell.preset", "cell.ions.+k", "cell.resting_conductance_ns.+k", "channel.permeability.+k"},
 		"/v1/operational": {"conc_unit"},
 	}
 	for path, fields := range texts {
@@ -137,6 +137,13 @@ func badCatalogue(t *testing.T) []badCase {
 			"partial.0.response=null"},
 		"/v1/potential": {"agonist_conc=[null]", "agonist_conc=[-1]", "agonist_conc=[1e999]", "channel.count=-1", "channel.conductance_ps=-5",
 			"channel.mg_mm=-1", "cell.temperature_c=-300", "hill.po_max=2", "hill.po_max=-0.1", "hill.hill=null", "po_max=2", "cell.ions.k.out=-1"},
+	}
+	// A missing or unknown concentration unit on every body that sends
+	// concentrations.
+	for _, path := range []string{"/v1/fits", "/v1/plates", "/v1/layouts", "/v1/schild", "/v1/operational", "/v1/potential"} {
+		for _, lit := range []string{`null`, `""`, `"furlong"`, `"MM"`, `1e-6`} {
+			add(badCase{name: fmt.Sprintf("unit %s conc_unit=%s", path, lit), path: path, scope: scopes[path], body: mutate(t, bodies[path], "conc_unit", lit)})
+		}
 	}
 	for path, sets := range numbers {
 		for _, s := range sets {

@@ -44,7 +44,7 @@ func BenchmarkPotentialStoredMg(b *testing.B) {
 	for i := range concs {
 		concs[i] = fmt.Sprintf("%g", 0.01*math.Pow(10, 4*float64(i)/199))
 	}
-	body := `{"curve_id":"` + fitRes.ID + `","po_max":0.7,"agonist_conc":[` + strings.Join(concs, ",") + `],
+	body := `{"curve_id":"` + fitRes.ID + `","conc_unit":"M","po_max":0.7,"agonist_conc":[` + strings.Join(concs, ",") + `],
 		"channel":{"count":200,"conductance_ps":50,"reversal_mv":0,"mg_mm":1},"cell":{"preset":"neuron"}}`
 	for b.Loop() {
 		if w := ts.do("POST", "/v1/potential", ScopeRead, body); w.Code != 200 {
@@ -77,11 +77,38 @@ func BenchmarkPotentialStoredMgRedraw(b *testing.B) {
 	for i := range concs {
 		concs[i] = fmt.Sprintf("%g", 0.01*math.Pow(10, 4*float64(i)/199))
 	}
-	body := `{"curve_id":"without-draws","po_max":0.7,"agonist_conc":[` + strings.Join(concs, ",") + `],
+	body := `{"conc_unit":"M","curve_id":"without-draws","po_max":0.7,"agonist_conc":[` + strings.Join(concs, ",") + `],
 		"channel":{"count":200,"conductance_ps":50,"reversal_mv":0,"mg_mm":1},"cell":{"preset":"neuron"}}`
 	for b.Loop() {
 		if w := ts.do("POST", "/v1/potential", ScopeRead, body); w.Code != 200 {
 			b.Fatalf("%d %s", w.Code, w.Body)
+		}
+	}
+}
+
+// BenchmarkPotentialFigure is what the figure adds: the same request
+// (a stored fit with B = 300, DNase run 1, seed 4; 8 concentrations; the
+// neuron preset) answered as JSON and as the SVG, whose line and band are
+// found on the figure's grid (potentialGrid) as well, without and with a
+// 1 mM Mg²⁺ block. Compare json and svg within one run.
+func BenchmarkPotentialFigure(b *testing.B) {
+	ts := syncTestServer(b)
+	w := ts.do("POST", "/v1/fits", ScopeSubmit, dnaseBody(b, `,"bootstrap":{"resamples":300,"seed":4}`))
+	var fitRes struct{ ID string }
+	if err := json.Unmarshal(w.Body.Bytes(), &fitRes); err != nil || w.Code != 201 {
+		b.Fatalf("%d %s", w.Code, w.Body)
+	}
+	for _, mg := range []string{"0", "1"} {
+		body := `{"conc_unit":"M","curve_id":"` + fitRes.ID + `","po_max":0.7,"agonist_conc":[0,0.03,0.1,0.3,1,3,10,30],
+			"channel":{"count":200,"conductance_ps":50,"reversal_mv":0,"mg_mm":` + mg + `},"cell":{"preset":"neuron"},"threshold_mv":-60}`
+		for _, format := range []string{"json", "svg"} {
+			b.Run("mg="+mg+"/"+format, func(b *testing.B) {
+				for b.Loop() {
+					if w := ts.do("POST", "/v1/potential?format="+format, ScopeRead, body); w.Code != 200 {
+						b.Fatalf("%d %s", w.Code, w.Body)
+					}
+				}
+			})
 		}
 	}
 }

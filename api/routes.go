@@ -39,9 +39,17 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 	r.HandleMethodNotAllowed = true
 	r.Use(s.recoverer, s.metrics.middleware, s.limitBody, s.knownParams, s.textParams)
 	r.NoRoute(func(c *gin.Context) {
+		if !apiPath(c.Request.URL.Path) {
+			s.site.NotFound(c)
+			return
+		}
 		s.writeProblem(c, &service.Error{Kind: errNotFoundRoute, Detail: "no such endpoint: " + c.Request.URL.Path})
 	})
 	r.NoMethod(func(c *gin.Context) {
+		if !apiPath(c.Request.URL.Path) {
+			s.site.MethodNotAllowed(c)
+			return
+		}
 		s.writeProblem(c, &service.Error{Kind: errMethod, Detail: c.Request.Method + " is not allowed on " + c.Request.URL.Path})
 	})
 
@@ -101,7 +109,16 @@ func (s *Server) routes(reg *prometheus.Registry) *gin.Engine {
 
 	admin := r.Group("/v1", s.authenticate(ScopeAdmin))
 	admin.PUT("/assays/:id/baselines/:metric", s.putBaseline)
+
+	// The dashboard: every path outside the API's.
+	s.site.Register(r)
 	return r
+}
+
+// apiPath reports whether a path is the API's (answered with problem+json)
+// rather than the dashboard's (answered with pages).
+func apiPath(p string) bool {
+	return strings.HasPrefix(p, "/v1/") || p == "/v1" || p == "/healthz" || p == "/readyz" || p == "/metrics"
 }
 
 // recoverer turns a panic into a 500 problem (logged) instead of a dropped
@@ -134,8 +151,8 @@ func (s *Server) limitBody(c *gin.Context) {
 // knownParams refuses a query parameter the route does not take
 // (queryParams).
 func (s *Server) knownParams(c *gin.Context) {
-	if c.FullPath() == "" {
-		c.Next() // no such route: NoRoute or NoMethod answers
+	if c.FullPath() == "" || !apiPath(c.FullPath()) {
+		c.Next() // no such route (NoRoute or NoMethod answers), or a page
 		return
 	}
 	allowed := queryParams[c.Request.Method+" "+c.FullPath()]

@@ -4,9 +4,11 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"regexp"
 	"strings"
 	"testing"
 
+	"sluice/api/figure"
 	"sluice/api/wire"
 	"sluice/db/dbtest"
 	"sluice/fit"
@@ -61,6 +63,14 @@ func TestSchildEndpoint(t *testing.T) {
 	p := ts.do("GET", "/v1/schild/"+r.ID+"/plot.svg", ScopeRead, "")
 	if p.Code != 200 || !strings.Contains(p.Body.String(), "log(DR − 1)") || !strings.Contains(p.Body.String(), "research use only") {
 		t.Errorf("plot: %d", p.Code)
+	}
+	// Titled by its compounds; the run's id only in the subtitle.
+	title := regexp.MustCompile(`<text [^>]*font-weight="bold">([^<]*)</text>`).FindStringSubmatch(p.Body.String())
+	if title == nil || title[1] != "demo-ref vs demo-ant-1" || !strings.Contains(p.Body.String(), "run "+r.ID) {
+		t.Errorf("plot title %q, or no run %s in the subtitle", title, r.ID)
+	}
+	if got := figure.SchildTitle("", "demo-ant-1"); got != "an unnamed agonist vs demo-ant-1" {
+		t.Errorf("title without an agonist: %q", got)
 	}
 	// A depressed maximum: flagged, no pA2 or pKB, a reason, and the
 	// Cheng–Prusoff estimate.

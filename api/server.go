@@ -15,6 +15,7 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 
 	"sluice/api/service"
+	"sluice/api/web"
 	"sluice/db"
 )
 
@@ -28,6 +29,8 @@ type Config struct {
 	// FitWorkers is the goroutines one fit's bootstrap may use; zero
 	// means GOMAXPROCS.
 	FitWorkers int
+	// Web configures the dashboard (its AuthDisabled follows the API's).
+	Web web.Config
 }
 
 // DefaultBodyLimit is the request-body limit when Config.BodyLimit is zero.
@@ -57,6 +60,7 @@ type Server struct {
 	newID   func() string
 	svc     *service.Service
 	tokens  *tokenCache
+	site    *web.Site
 	engine  *gin.Engine
 	ops     *gin.Engine // health and metrics only, for --role worker
 	// draining is cancelled by Drain: requests that wait (POST
@@ -92,6 +96,12 @@ func New(cfg Config, d Deps) (*Server, error) {
 	s.metrics = m
 	s.svc, err = service.New(service.Deps{Store: d.Store, Now: s.now, NewID: s.newID, Log: s.log,
 		FitWorkers: cfg.FitWorkers, Budget: d.Budget, Observer: m})
+	if err != nil {
+		return nil, err
+	}
+	wc := cfg.Web
+	wc.AuthDisabled = cfg.AuthDisabled
+	s.site, err = web.New(wc, web.Deps{Service: s.svc, Store: d.Store, Log: s.log, Now: s.now})
 	if err != nil {
 		return nil, err
 	}

@@ -11,7 +11,7 @@ import (
 )
 
 // Concentrations without a unit are refused wherever they are sent — a
-// single fit, a plate as JSON, as long CSV, and the layout a grid upload
+// single fit, a potential prediction, a plate as JSON, as long CSV, and the layout a grid upload
 // uses — with a 422 that names conc_unit; nothing is stored. A long CSV
 // may carry its unit in the header instead.
 func TestConcentrationUnitRequired(t *testing.T) {
@@ -33,6 +33,7 @@ func TestConcentrationUnitRequired(t *testing.T) {
 		{"fit", "/v1/fits", `{"points":[{"conc":1,"response":1},{"conc":10,"response":5},{"conc":100,"response":50},{"conc":1000,"response":95},{"conc":10000,"response":99}]}`,
 			"application/json", "/conc_unit", "", 0, 0},
 		{"plate JSON", "/v1/plates", string(plateJSON), "application/json", "/conc_unit", "", 0, 0},
+		{"potential", "/v1/potential", strings.Replace(factsPotential, `"conc_unit": "uM",`, ``, 1), "application/json", "/conc_unit", "", 0, 0},
 		{"layout for a grid", "/v1/layouts", string(layoutJSON), "application/json", "/conc_unit", "", 0, 0},
 		{"long CSV", "/v1/plates?format=96&barcode=U2", long, "text/csv", "", "", 1, 4},
 		{"long CSV, header and parameter disagree", "/v1/plates?format=96&barcode=U3&conc_unit=uM",

@@ -10,9 +10,11 @@ import (
 // acts as the API token it was opened with (TokenID, with that token's
 // Name and Scope as read) and ends when the token is revoked.
 type Session struct {
-	Hash    string
+	Hash string
+	// TokenID is "" for a session opened while authentication was off.
 	TokenID string
-	// Name and Scope are the token's, filled in by Session.
+	// Name and Scope are the token's, filled in by Session ("anonymous",
+	// admin, without a token).
 	Name, Scope string
 	// CSRF is the value every form of this session must echo.
 	CSRF      string
@@ -31,8 +33,12 @@ type Sessions interface {
 }
 
 func (w *sqlWriter) InsertSession(ctx context.Context, s *Session) error {
+	var token any
+	if s.TokenID != "" {
+		token = s.TokenID
+	}
 	return w.insert(ctx, "InsertSession", "", "INSERT INTO web_sessions (hash, token_id, csrf, created_at, last_seen, expires_at) "+
-		"VALUES ($1, $2, $3, $4, $5, $6)", s.Hash, s.TokenID, s.CSRF, w.e.timeArg(s.CreatedAt), w.e.timeArg(s.LastSeen),
+		"VALUES ($1, $2, $3, $4, $5, $6)", s.Hash, token, s.CSRF, w.e.timeArg(s.CreatedAt), w.e.timeArg(s.LastSeen),
 		w.e.timeArg(s.ExpiresAt))
 }
 
@@ -54,8 +60,9 @@ func (w *sqlWriter) DeleteSessionsBefore(ctx context.Context, idleSince, now tim
 func (s *sqlStore) Session(ctx context.Context, hash string) (*Session, error) {
 	var out Session
 	var c, l, e dbTime
-	err := s.e.queryRow(ctx, "SELECT w.hash, w.token_id, t.name, t.scope, w.csrf, w.created_at, w.last_seen, w.expires_at "+
-		"FROM web_sessions w JOIN api_tokens t ON t.id = w.token_id WHERE w.hash = $1 AND t.revoked_at IS NULL", hash).
+	err := s.e.queryRow(ctx, "SELECT w.hash, COALESCE(w.token_id, ''), COALESCE(t.name, 'anonymous'), COALESCE(t.scope, 'admin'), "+
+		"w.csrf, w.created_at, w.last_seen, w.expires_at FROM web_sessions w LEFT JOIN api_tokens t ON t.id = w.token_id "+
+		"WHERE w.hash = $1 AND (w.token_id IS NULL OR t.revoked_at IS NULL)", hash).
 		Scan(&out.Hash, &out.TokenID, &out.Name, &out.Scope, &out.CSRF, &c, &l, &e)
 	if err != nil {
 		// The key is a secret's hash: not part of the error's text.

@@ -76,6 +76,9 @@ type Potency interface {
 	// AssayPotency returns the curves of some compounds in an assay.
 	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]PotencyRow, error)
 	CurvePotency(ctx context.Context, id string) (*PotencyRow, error)
+	// UnreviewedCurves returns the newest curves never reviewed nor
+	// superseded, at most limit.
+	UnreviewedCurves(ctx context.Context, limit int) ([]PotencyRow, error)
 	// Reviews returns the curves' review events, oldest first per curve.
 	Reviews(ctx context.Context, curveIDs []string) ([]Review, error)
 	CurveRefit(ctx context.Context, id string) (*Refit, error)

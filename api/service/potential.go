@@ -3,11 +3,14 @@ package service
 import (
 	"bytes"
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"net/http"
+	"slices"
 	"strings"
 
+	"sluice/api/ingest"
 	"sluice/api/plot"
 	"sluice/api/wire"
 	"sluice/fit"
@@ -28,6 +31,20 @@ type potentialModel struct {
 	concs    []float64 // agonist_conc, molar
 	conf     float64
 	cautions []string
+	// flags and notes warn about the request's concentrations or curve
+	// (fit.FlagImplausibleConc), as a fit's do.
+	flags, notes []string
+	// agonist and channel name them in the figure's title; curveID is the
+	// stored fit, if any.
+	agonist, channel, curveID string
+}
+
+// flag adds a flag (once) with its note.
+func (m *potentialModel) flag(f, note string) {
+	if !slices.Contains(m.flags, f) {
+		m.flags = append(m.flags, f)
+	}
+	m.notes = append(m.notes, note)
 }
 
 func finiteNum(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
@@ -139,14 +156,40 @@ func validatePotential(req *wire.PotentialRequest) (*potentialModel, error) {
 	if err := potentialChannel(req, cell, m); err != nil {
 		return nil, err
 	}
-	if len(req.AgonistConc) == 0 || len(req.AgonistConc) > MaxAgonistConcs {
-		return nil, Invalid("/agonist_conc", "give 1–%d concentrations (molar)", MaxAgonistConcs)
+	unit, err := ingest.ParseUnit(req.ConcUnit)
+	if err == nil {
+		unit, err = ingest.RequireUnit(unit, "conc_unit")
 	}
+	if err != nil {
+		return nil, Invalid("/conc_unit", "%v", err)
+	}
+	if len(req.AgonistConc) == 0 || len(req.AgonistConc) > MaxAgonistConcs {
+		return nil, Invalid("/agonist_conc", "give 1–%d concentrations (in conc_unit)", MaxAgonistConcs)
+	}
+	lo, hi := math.Inf(1), math.Inf(-1)
 	for i, c := range req.AgonistConc {
-		if c == nil || !finiteNum(*c) || *c < 0 {
-			return nil, Invalid(fmt.Sprintf("/agonist_conc/%d", i), "concentration must be a finite number ≥ 0 M")
+		// A finite number in a unit can still overflow in molar (pM
+		// does not, but the check costs nothing).
+		if c == nil || !finiteNum(*c) || *c < 0 || !finiteNum(unit.ToMolar(*c)) {
+			return nil, Invalid(fmt.Sprintf("/agonist_conc/%d", i), "concentration must be a finite number ≥ 0 %s", unit)
 		}
-		m.concs = append(m.concs, *c)
+		cm := unit.ToMolar(*c)
+		m.concs = append(m.concs, cm)
+		if cm > 0 {
+			lo, hi = math.Min(lo, cm), math.Max(hi, cm)
+		}
+	}
+	if hi > 0 {
+		if note := fit.ImplausibleConcs(lo, hi); note != "" {
+			m.flag(fit.FlagImplausibleConc, note)
+		}
+	}
+	if err := errors.Join(checkText("/agonist_id", req.AgonistID), checkText("/channel/name", req.Channel.Name)); err != nil {
+		return nil, err
+	}
+	m.agonist, m.channel = req.AgonistID, req.Channel.Name
+	if m.channel == "" {
+		m.channel = fmt.Sprintf("%g × %g pS channels", req.Channel.Count, req.Channel.ConductancePS)
 	}
 	switch {
 	case req.CurveID != "" && req.Hill != nil:
@@ -169,6 +212,12 @@ func validatePotential(req *wire.PotentialRequest) (*potentialModel, error) {
 		theta := make([]float64, len(fit.Hill.Params()))
 		theta[r.Bottom], theta[r.Top], theta[r.LogEC50], theta[r.Hill] = 0, *h.PoMax, *h.LogEC50, *h.Hill
 		m.po = func(c float64) float64 { return fit.Hill.Value(theta, c) }
+		if m.agonist == "" {
+			m.agonist = curveName(*h.LogEC50, *h.Hill)
+		}
+		if note := fit.ImplausibleEC50(math.Pow(10, *h.LogEC50)); note != "" {
+			m.flag(fit.FlagImplausibleConc, note)
+		}
 	case req.CurveID != "":
 		if req.PoMax != nil && (!(*req.PoMax > 0) || *req.PoMax > 1) {
 			return nil, Invalid("/po_max", "po_max must be in (0, 1]")
@@ -180,6 +229,46 @@ func validatePotential(req *wire.PotentialRequest) (*potentialModel, error) {
 		return nil, Invalid("/threshold_mv", "threshold must be within ±300 mV")
 	}
 	return m, nil
+}
+
+// curveName names an agonist known by its curve alone: "agonist (EC50
+// 10 µM, nH 1.5)".
+func curveName(logEC50, hill float64) string {
+	return fmt.Sprintf("agonist (EC50 %s, nH %.3g)", molarText(math.Pow(10, logEC50)), hill)
+}
+
+// molarText writes a molar concentration to three significant digits in
+// the unit that gives it one to three digits before the point: 3e-5 is
+// "30 µM", 9.9996e-4 "1 mM" (not "1e+03 µM").
+func molarText(c float64) string {
+	for _, u := range []struct {
+		name   string
+		factor float64
+	}{{"M", 1}, {"mM", 1e-3}, {"µM", 1e-6}, {"nM", 1e-9}, {"pM", 1e-12}} {
+		if c >= u.factor*(1-5e-4) {
+			return fmt.Sprintf("%.3g %s", c/u.factor, u.name)
+		}
+	}
+	return fmt.Sprintf("%.3g fM", c/1e-15)
+}
+
+// nameCurve names the agonist of a stored curve (its compound, else its
+// fitted EC50 and slope) and carries its implausible-concentration flag
+// over to the prediction.
+func nameCurve(req *wire.PotentialRequest, m *potentialModel, lc *loadedCurve) {
+	res := &lc.sf.Result
+	m.curveID = req.CurveID
+	if m.agonist == "" {
+		m.agonist = res.CompoundID
+	}
+	if m.agonist == "" {
+		theta := res.Params.Estimates()
+		m.agonist = curveName(lc.model.LogEC50(theta), lc.model.HillSlope(theta))
+	}
+	if slices.Contains(res.Flags, fit.FlagImplausibleConc) {
+		m.flag(fit.FlagImplausibleConc, "the stored fit (curve_id) is flagged "+fit.FlagImplausibleConc+
+			": its concentrations or EC50 lie outside the plausible range; check the unit it was sent in")
+	}
 }
 
 // useCurve sets the model's open fraction from a stored curve, scaled to
@@ -200,9 +289,17 @@ func useCurve(req *wire.PotentialRequest, m *potentialModel, sc *storedCurve) {
 }
 
 // potentialWork is the cost of predicting at the request's concentrations
-// with draws bootstrap draws (membrane.Cost).
-func potentialWork(req *wire.PotentialRequest, draws int) cost.Work {
-	return membrane.Cost(len(req.AgonistConc), draws, req.Channel.MgMM > 0)
+// with draws bootstrap draws (membrane.Cost); with the figure, V and its
+// band are also found on the figure's grid, at most potentialGridPoints
+// more concentrations than the request's (potentialGrid):
+//
+//	W = membrane.Cost(n + figure·(n + potentialGridPoints), draws, Mg)
+func potentialWork(req *wire.PotentialRequest, draws int, figure bool) cost.Work {
+	n := len(req.AgonistConc)
+	if figure {
+		n += len(req.AgonistConc) + potentialGridPoints
+	}
+	return membrane.Cost(n, draws, req.Channel.MgMM > 0)
 }
 
 // predictPotential computes the prediction of a validated model: V and ΔV
@@ -213,8 +310,9 @@ func predictPotential(ctx context.Context, req *wire.PotentialRequest, m *potent
 	if err != nil {
 		return nil, err
 	}
-	out := &wire.PotentialResponse{RestMV: pred.Rest, NernstMV: m.nernst, ChannelReversalMV: m.ch.Reversal,
-		Multistable: pred.Multistable}
+	out := &wire.PotentialResponse{ConcUnit: ingest.Molar.String(), RestMV: pred.Rest, NernstMV: m.nernst,
+		ChannelReversalMV: m.ch.Reversal, Multistable: pred.Multistable,
+		Flags: append([]string{}, m.flags...), Notes: append([]string{}, m.notes...)}
 	for _, p := range pred.Points {
 		pp := wire.PotentialPoint{AgonistConc: p.Conc, OpenFraction: p.OpenFraction, GLigandNS: p.G, VMV: p.V, DeltaMV: p.Delta}
 		if m.ch.MgOut > 0 {
@@ -256,25 +354,30 @@ func predictPotential(ctx context.Context, req *wire.PotentialRequest, m *potent
 
 // PredictPotential is `sluice potential`: the prediction of POST
 // /v1/potential for a request with its own Hill curve (no stored fit),
-// with the same validation and numbers, within the hard limit of budget
-// (zero means DefaultHardLimit). A validation error is a *Error naming the
-// field.
-func PredictPotential(ctx context.Context, req *wire.PotentialRequest, budget Budget, workers int) (*wire.PotentialResponse, error) {
+// with the same validation and numbers, and when figure is true the same
+// figure as ?format=svg, within the hard limit of budget (zero means
+// DefaultHardLimit). A validation error is a *Error naming the field.
+func PredictPotential(ctx context.Context, req *wire.PotentialRequest, budget Budget, workers int, figure bool) (*wire.PotentialResponse, *plot.Curve, error) {
 	b, err := budget.resolve()
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	m, err := validatePotential(req)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	if req.CurveID != "" {
-		return nil, Invalid("/curve_id", "stored curves need the service; give hill here")
+		return nil, nil, Invalid("/curve_id", "stored curves need the service; give hill here")
 	}
-	if err := b.admit(potentialWork(req, 0), "/agonist_conc"); err != nil {
-		return nil, err
+	if err := b.admit(potentialWork(req, 0, figure), "/agonist_conc"); err != nil {
+		return nil, nil, err
 	}
-	return predictPotential(ctx, req, m, workers)
+	out, err := predictPotential(ctx, req, m, workers)
+	if err != nil || !figure {
+		return out, nil, err
+	}
+	fig, err := potentialFigure(ctx, req, m, out, workers)
+	return out, fig, err
 }
 
 // Potential is POST /v1/potential: the steady membrane potential across
@@ -284,7 +387,7 @@ func PredictPotential(ctx context.Context, req *wire.PotentialRequest, budget Bu
 // synchronous budget is queued (202).
 func (s *Service) Potential(ctx context.Context, who Caller, idem *Idem, req *wire.PotentialRequest, svg bool) (*Reply, error) {
 	return s.write(ctx, who, idem, func(ctx context.Context) (plan, error) {
-		m, lc, w, err := s.preparePotential(ctx, req)
+		m, lc, w, err := s.preparePotential(ctx, req, svg)
 		if err != nil {
 			return plan{}, err
 		}
@@ -297,20 +400,22 @@ func (s *Service) Potential(ctx context.Context, who Caller, idem *Idem, req *wi
 }
 
 // preparePotential validates a potential request, reads its stored curve
-// and checks the work (membrane.Cost, plus regenerating the curve's draws
-// when they were not stored) against the hard limit.
-func (s *Service) preparePotential(ctx context.Context, req *wire.PotentialRequest) (*potentialModel, *loadedCurve, cost.Work, error) {
+// and checks the work (membrane.Cost, with the figure's grid when figure,
+// plus regenerating the curve's draws when they were not stored) against
+// the hard limit.
+func (s *Service) preparePotential(ctx context.Context, req *wire.PotentialRequest, figure bool) (*potentialModel, *loadedCurve, cost.Work, error) {
 	m, err := validatePotential(req)
 	if err != nil {
 		return nil, nil, 0, err
 	}
 	var lc *loadedCurve
-	w := potentialWork(req, 0)
+	w := potentialWork(req, 0, figure)
 	if req.CurveID != "" {
 		if lc, err = s.loadCurve(ctx, req.CurveID); err != nil {
 			return nil, nil, 0, err
 		}
-		w = lc.redraw + potentialWork(req, lc.draws)
+		nameCurve(req, m, lc)
+		w = lc.redraw + potentialWork(req, lc.draws, figure)
 	}
 	if err := s.budget.admit(w, "/agonist_conc"); err != nil {
 		return nil, nil, 0, err
@@ -334,40 +439,13 @@ func (s *Service) runPotential(ctx context.Context, req *wire.PotentialRequest, 
 	if !svg {
 		return jsonReply(http.StatusOK, out, "")
 	}
+	fig, err := potentialFigure(ctx, req, m, out, s.fitWorkers)
+	if err != nil {
+		return nil, err
+	}
 	var buf bytes.Buffer
-	if err := PotentialFigure(out, req.ThresholdMV).Write(&buf); err != nil {
+	if err := fig.Write(&buf); err != nil {
 		return nil, fmt.Errorf("potential figure: %w", err)
 	}
 	return &Reply{Status: http.StatusOK, ContentType: "image/svg+xml", Body: buf.Bytes()}, nil
-}
-
-// PotentialFigure is V against log concentration, with its interval when
-// there is one, ΔV on the right-hand axis, and the threshold (nil: none)
-// as a dashed line.
-func PotentialFigure(out *wire.PotentialResponse, thresholdMV *float64) *plot.Curve {
-	fig := &plot.Curve{Title: "Predicted steady membrane potential", YLabel: "V (mV)",
-		RightLabel: "ΔV from rest (mV)", RightOffset: out.RestMV, XLabel: "log10 [agonist] (M)",
-		Subtitle: fmt.Sprintf("rest %.1f mV · channel reversal %.1f mV", out.RestMV, out.ChannelReversalMV),
-		Footnote: strings.Join(out.Cautions[:2], " ")}
-	for _, p := range out.Points {
-		if p.AgonistConc <= 0 {
-			continue
-		}
-		fig.LineConc = append(fig.LineConc, p.AgonistConc)
-		fig.Line = append(fig.Line, p.VMV)
-		// The computed concentrations as dots: the line only joins them.
-		fig.PointConc = append(fig.PointConc, p.AgonistConc)
-		fig.PointResp = append(fig.PointResp, p.VMV)
-		if p.CI != nil {
-			fig.BandLo = append(fig.BandLo, p.CI.VMV[0])
-			fig.BandHi = append(fig.BandHi, p.CI.VMV[1])
-		}
-	}
-	if len(fig.BandLo) != len(fig.LineConc) {
-		fig.BandLo, fig.BandHi = nil, nil
-	}
-	if thresholdMV != nil {
-		fig.HLine, fig.HLineLabel = *thresholdMV, fmt.Sprintf("threshold %.1f mV", *thresholdMV)
-	}
-	return fig
 }

@@ -78,7 +78,7 @@ func TestPotentialBandFromStoredDraws(t *testing.T) {
 	potential := func(id string) *Reply {
 		t.Helper()
 		pm := 0.7
-		req := &wire.PotentialRequest{CurveID: id, PoMax: &pm, AgonistConc: floats(1, 4.5, 20),
+		req := &wire.PotentialRequest{ConcUnit: "M", CurveID: id, PoMax: &pm, AgonistConc: floats(1, 4.5, 20),
 			Channel: wire.ChannelIn{Count: 200, ConductancePS: 50, ReversalMV: new(float64)}, Cell: wire.CellIn{Preset: "neuron"}}
 		r, err := s.Potential(ctx, who, nil, req, false)
 		if err != nil {

@@ -104,7 +104,7 @@ func (s *Service) runQueued(ctx context.Context, who Caller, kind string, q *que
 		}
 		return s.runSchild(ctx, who, q.Schild, curves, set, q.InputSHA256)
 	case kind == analysisPotential && q.Potential != nil:
-		m, lc, _, err := s.preparePotential(ctx, q.Potential)
+		m, lc, _, err := s.preparePotential(ctx, q.Potential, q.SVG)
 		if err != nil {
 			return plan{}, err
 		}

@@ -91,7 +91,7 @@ func TestQueuedPotential(t *testing.T) {
 	}
 	ctx := context.Background()
 	lo, h, pm := -5.0, 1.5, 0.8
-	req := &wire.PotentialRequest{Hill: &wire.HillIn{LogEC50: &lo, Hill: &h, PoMax: &pm}, AgonistConc: floats(3e-5, 1e-6),
+	req := &wire.PotentialRequest{ConcUnit: "M", Hill: &wire.HillIn{LogEC50: &lo, Hill: &h, PoMax: &pm}, AgonistConc: floats(3e-5, 1e-6),
 		Channel: wire.ChannelIn{Count: 200, ConductancePS: 50, ReversalMV: new(float64)}, Cell: wire.CellIn{Preset: "neuron"}}
 	r, err := s.Potential(ctx, Caller{Name: "p"}, nil, req, true)
 	if err != nil || r.Status != 202 {

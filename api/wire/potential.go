@@ -1,11 +1,18 @@
 package wire
 
 // PotentialRequest is the body of POST /v1/potential. Ion concentrations
-// are mM, agonist concentrations molar, conductances nS (channels pS).
+// are mM, agonist concentrations in conc_unit, conductances nS (channels
+// pS).
 type PotentialRequest struct {
+	// ConcUnit is the unit of agonist_conc (M, mM, uM or µM, nM, pM);
+	// required: Sluice does not guess whether a number is molar.
+	ConcUnit string `json:"conc_unit,omitempty"`
 	// CurveID names a stored fit; or Hill gives the curve directly.
 	CurveID string  `json:"curve_id,omitempty"`
 	Hill    *HillIn `json:"hill,omitempty"`
+	// AgonistID names the agonist in the figure's title; by default the
+	// stored fit's compound, else the Hill curve's EC50 and slope.
+	AgonistID string `json:"agonist_id,omitempty"`
 	// PoMax is the open probability at the fitted maximum, for CurveID
 	// (Hill carries its own); default 1.
 	PoMax *float64 `json:"po_max,omitempty"`
@@ -26,6 +33,9 @@ type HillIn struct {
 
 // ChannelIn is the ligand-gated channel.
 type ChannelIn struct {
+	// Name names the channel in the figure's title (e.g. "GluN1/GluN2A");
+	// by default its count and conductance.
+	Name          string             `json:"name,omitempty"`
 	Count         float64            `json:"count"`
 	ConductancePS float64            `json:"conductance_ps"`
 	ReversalMV    *float64           `json:"reversal_mv,omitempty"`
@@ -50,15 +60,23 @@ type IonIn struct {
 	In  float64 `json:"in"`
 }
 
-// PotentialResponse is the answer of POST /v1/potential.
+// PotentialResponse is the answer of POST /v1/potential. Its
+// concentrations (points[].agonist_conc, threshold_crossed_at) are molar,
+// whatever the request's unit, as every result of Sluice is; ConcUnit
+// says so ("M").
 type PotentialResponse struct {
+	ConcUnit          string             `json:"conc_unit"`
 	RestMV            float64            `json:"rest_mv"`
 	NernstMV          map[string]float64 `json:"nernst_mv"`
 	ChannelReversalMV float64            `json:"channel_reversal_mv"`
 	Points            []PotentialPoint   `json:"points"`
 	ThresholdCrossed  *float64           `json:"threshold_crossed_at,omitempty"`
 	Multistable       bool               `json:"multistable"`
-	Cautions          []string           `json:"cautions"`
+	// Flags are machine-readable warnings (implausible_concentration);
+	// Notes explain them in sentences. Both are [] when there is none.
+	Flags    []string `json:"flags"`
+	Notes    []string `json:"notes"`
+	Cautions []string `json:"cautions"`
 }
 
 // PotentialPoint is the prediction at one agonist concentration.

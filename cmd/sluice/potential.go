@@ -11,6 +11,7 @@ import (
 	"os"
 	"text/tabwriter"
 
+	"sluice/api/ingest"
 	"sluice/api/service"
 	"sluice/api/wire"
 )
@@ -23,9 +24,11 @@ func runPotential(args []string, stdin io.Reader, stdout, stderr io.Writer) int 
 	fs.Usage = func() {
 		fmt.Fprint(stderr, "Usage: sluice potential REQUEST.json|- [flags]\n\n"+
 			"Predicts the steady membrane potential from a JSON request shaped as for POST /v1/potential\n"+
-			"(with \"hill\": {\"log_ec50\", \"hill\", \"po_max\"}; ions in mM, agonist in M). Flags:\n")
+			"(with \"hill\": {\"log_ec50\", \"hill\", \"po_max\"}; ions in mM, agonist_conc in the request's\n"+
+			"\"conc_unit\" or --unit, answers in M). Flags:\n")
 		fs.PrintDefaults()
 	}
+	unit := fs.String("unit", "", "concentration unit of agonist_conc: M, mM, uM, nM or pM (required unless the request gives conc_unit)")
 	format := fs.String("format", "table", "output: table or json")
 	svg := fs.String("svg", "", "also write the plot of V and ΔV to this file")
 	pos, err := parseInterspersed(fs, args)
@@ -57,10 +60,28 @@ func runPotential(args []string, stdin io.Reader, stdout, stderr io.Writer) int 
 		fmt.Fprintf(stderr, "sluice potential: %s: %v\n", pos[0], err)
 		return 2
 	}
-	out, err := service.PredictPotential(context.Background(), &req, service.Budget{}, 0)
+	if *unit != "" {
+		// The flag gives the unit the request leaves out; two different
+		// units are a contradiction, not a choice.
+		u, err := ingest.ParseUnit(*unit)
+		if err != nil {
+			fmt.Fprintf(stderr, "sluice potential: --unit: %v\n", err)
+			return 2
+		}
+		if r, err := ingest.ParseUnit(req.ConcUnit); req.ConcUnit != "" && (err != nil || r != u) {
+			fmt.Fprintf(stderr, "sluice potential: --unit %s disagrees with the request's conc_unit %q\n", *unit, req.ConcUnit)
+			return 2
+		}
+		req.ConcUnit = u.String()
+	}
+	out, fig, err := service.PredictPotential(context.Background(), &req, service.Budget{}, 0, *svg != "")
 	if err != nil {
 		if fs := service.FieldsOf(err); len(fs) > 0 && fs[0].Pointer != "" {
-			fmt.Fprintf(stderr, "sluice potential: %s: %v\n", fs[0].Pointer, err)
+			hint := ""
+			if fs[0].Pointer == "/conc_unit" {
+				hint = " (in the request, or with --unit)"
+			}
+			fmt.Fprintf(stderr, "sluice potential: %s: %v%s\n", fs[0].Pointer, err, hint)
 		} else {
 			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
 		}
@@ -72,7 +93,7 @@ func runPotential(args []string, stdin io.Reader, stdout, stderr io.Writer) int 
 			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
 			return 1
 		}
-		werr := service.PotentialFigure(out, req.ThresholdMV).Write(f)
+		werr := fig.Write(f)
 		if err := errors.Join(werr, f.Close()); err != nil {
 			fmt.Fprintf(stderr, "sluice potential: %v\n", err)
 			return 1
@@ -102,6 +123,9 @@ func runPotential(args []string, stdin io.Reader, stdout, stderr io.Writer) int 
 		fmt.Fprintf(stdout, "\nthreshold crossed at %.3g M\n", *out.ThresholdCrossed)
 	}
 	fmt.Fprintln(stdout)
+	for _, n := range out.Notes {
+		fmt.Fprintln(stdout, "note: "+n)
+	}
 	for _, c := range out.Cautions {
 		fmt.Fprintln(stdout, c)
 	}

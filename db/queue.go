@@ -59,12 +59,13 @@ const (
 
 // The queue's lanes (River queues). Every job goes to QueueMain except
 // plates marked PlateJob.Small, which go to QueueSmall. Each lane has
-// workers of its own in every worker process (StartHandlers), so a small
-// plate is taken at once even while every main worker runs a large one:
-// with two 1536-well plates of B = 10 000 running, a 96-well plate waited
-// for one of them to finish in a single FIFO queue (db/lane_bench_test.go
-// measures it). Within a lane jobs run first in, first out, so no job
-// starves.
+// workers of its own in every worker process (StartHandlers gives each
+// lane its workers count), so a small plate is taken at once even while
+// every main worker runs a large one: with two 1536-well plates of
+// B = 10 000 running, a 96-well plate waited 66 s for one of them in a
+// single first-in-first-out queue and 0.2 s with the lanes
+// (TestSmallPlateOvertakesLargeOnes in package api). Within a lane jobs
+// run first in, first out, so no job starves.
 const (
 	QueueMain  = river.QueueDefault
 	QueueSmall = "sluice_small"
@@ -119,11 +120,6 @@ const (
 	// hardStopWait bounds the wait for cancelled jobs to return after the
 	// caller's grace period (StopWorkers) or on Close.
 	hardStopWait = 10 * time.Second
-	// smallWorkers is the small-job lane's workers per process: one, as
-	// its jobs are short (at most the synchronous budget, about a second
-	// of one core) and it only has to keep them from queueing behind
-	// large ones.
-	smallWorkers = 1
 )
 
 // queue is River on one engine.
@@ -266,7 +262,10 @@ func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 	}
 	lanes := map[string]river.QueueConfig{QueueMain: {MaxWorkers: workers}}
 	if h.Plate != nil {
-		lanes[QueueSmall] = river.QueueConfig{MaxWorkers: smallWorkers}
+		// As many as the main lane: a burst of small plates alone runs
+		// as many at a time as before the lanes; with both lanes busy a
+		// process runs up to twice workers jobs, the small ones short.
+		lanes[QueueSmall] = river.QueueConfig{MaxWorkers: workers}
 	}
 	q.mu.Lock()
 	defer q.mu.Unlock()

@@ -32,6 +32,10 @@ type serveConfig struct {
 	// replicas skip the store's migrations at start and only check that
 	// `sluice migrate` has run. The zero value (the default) migrates.
 	SkipMigrations bool
+	// SecureCookies (SLUICE_SECURE_COOKIES, --secure-cookies) marks the
+	// dashboard's session cookie Secure on plain HTTP: set it behind a
+	// proxy that terminates TLS (under TLS the cookie is Secure anyway).
+	SecureCookies bool
 	// ShutdownGrace (SLUICE_SHUTDOWN_GRACE, --shutdown-grace) is how long a
 	// SIGTERM or SIGINT lets running plate jobs and HTTP requests finish
 	// before they are cancelled (a cancelled job is retried later, by this
@@ -125,6 +129,10 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	if err != nil {
 		errs = append(errs, fmt.Errorf("SLUICE_MIGRATE: %v", err))
 	}
+	secure, err := parseBool(getenv("SLUICE_SECURE_COOKIES"), false)
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_SECURE_COOKIES: %v", err))
+	}
 	fs.StringVar(&c.Addr, "addr", envOr(getenv, "SLUICE_ADDR", "127.0.0.1:8080"), "listen address (SLUICE_ADDR)")
 	fs.StringVar(&c.DataDir, "data", envOr(getenv, "SLUICE_DATA", "./sluice-data"), "data directory of the embedded store (SLUICE_DATA)")
 	fs.Int64Var(&c.BodyLimit, "body-limit", limit, "largest request body in bytes (SLUICE_BODY_LIMIT)")
@@ -139,6 +147,7 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.DurationVar(&c.WorkLimit, "work-limit", workLimit, "estimated CPU time above which a request is refused with a 422 (SLUICE_WORK_LIMIT)")
 	fs.DurationVar(&c.JobTimeout, "job-timeout", jobTimeout, "longest attempt at a queued job; 0 = 10m (SLUICE_JOB_TIMEOUT)")
 	fs.DurationVar(&c.JobRescueAfter, "job-rescue-after", jobRescue, "a job running this long is taken for orphaned and retried; ≥ --job-timeout; 0 = 11m (SLUICE_JOB_RESCUE_AFTER)")
+	fs.BoolVar(&c.SecureCookies, "secure-cookies", secure, "mark the dashboard's session cookie Secure on plain HTTP, behind a TLS proxy (SLUICE_SECURE_COOKIES)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -244,7 +253,7 @@ func (c *serveConfig) logAttrs() []any {
 		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role,
 		"shutdown_grace", c.ShutdownGrace.String(), "migrate", !c.SkipMigrations,
 		"sync_budget", c.SyncBudget.String(), "work_limit", c.WorkLimit.String(),
-		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String()}
+		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String(), "secure_cookies", c.SecureCookies}
 }
 
 // redactURL hides a URL's password.

@@ -24,7 +24,7 @@ func TestServeConfig(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if c.Addr != "127.0.0.1:9999" || c.BodyLimit != 2048 || c.AuthDisabled || c.ShutdownGrace != 30*time.Second {
+	if c.Addr != "127.0.0.1:9999" || c.BodyLimit != 2048 || c.AuthDisabled || c.ShutdownGrace != 30*time.Second || c.SecureCookies {
 		t.Errorf("flags over environment: %+v", c)
 	}
 	attrs := fmtAttrs(c.logAttrs())
@@ -58,6 +58,7 @@ func TestServeConfigErrorsNameTheField(t *testing.T) {
 		{[]string{"--job-rescue-after", "30s"}, nil, "want rescue ≥ timeout"},
 		{[]string{"--job-timeout", "20s", "--job-rescue-after", "10s"}, nil, "--job-rescue-after / SLUICE_JOB_RESCUE_AFTER"},
 		{[]string{"--job-timeout", "100ms"}, nil, "--job-timeout / SLUICE_JOB_TIMEOUT"},
+		{nil, map[string]string{"SLUICE_SECURE_COOKIES": "sometimes"}, "SLUICE_SECURE_COOKIES"},
 	}
 	for _, c := range cases {
 		fs := flag.NewFlagSet("serve", flag.ContinueOnError)

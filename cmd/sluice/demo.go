@@ -140,7 +140,7 @@ func demoPlate(rng *rand.Rand, week int, mode string, noisyMax bool) wire.PlateR
 	f := plate.Plate384
 	num := func(v float64) *float64 { return &v }
 	req := wire.PlateRequest{AssayID: demoAssay, Barcode: fmt.Sprintf("LK-384-%02d", week), Format: 384, Mode: mode,
-		MeasuredAt: time.Date(2026, 10, 5+7*week, 9, 0, 0, 0, time.UTC).Format(time.RFC3339), ConcUnit: "nM",
+		MeasuredAt: time.Date(2026, 8, 17+7*week, 9, 0, 0, 0, time.UTC).Format(time.RFC3339), ConcUnit: "nM",
 		Fit: &wire.PlateFit{Bootstrap: &wire.BootstrapIn{Resamples: 200, Seed: func() *uint64 { s := uint64(week); return &s }()}}}
 	maxSD := 50.0
 	if noisyMax {

@@ -31,7 +31,7 @@ const (
 
 // demoDriftStart is the first control plate's day: after the screening
 // plates.
-var demoDriftStart = time.Date(2026, 11, 9, 9, 0, 0, 0, time.UTC)
+var demoDriftStart = time.Date(2026, 9, 21, 9, 0, 0, 0, time.UTC)
 
 // loadDemoDrift submits and fits the control plates in order.
 func loadDemoDrift(ctx context.Context, svc *service.Service, who service.Caller, rng *rand.Rand) error {

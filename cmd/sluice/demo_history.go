@@ -47,7 +47,7 @@ func loadDemoHistory(ctx context.Context, svc *service.Service, store db.Store, 
 		seed := uint64(5000 + week)
 		req := &wire.FitRequest{Model: "hill", ConcUnit: "nM", Points: pts, AssayID: demoAssay, CompoundID: ref.id,
 			Bootstrap:  &wire.BootstrapIn{Resamples: 300, Seed: &seed},
-			MeasuredAt: time.Date(2026, 7, 6, 10, 0, 0, 0, time.UTC).AddDate(0, 0, 7*week).Format(time.RFC3339),
+			MeasuredAt: time.Date(2026, 5, 18, 10, 0, 0, 0, time.UTC).AddDate(0, 0, 7*week).Format(time.RFC3339),
 			Labels:     map[string]string{"series": "reference history"}}
 		raw, err := json.Marshal(req)
 		if err != nil {

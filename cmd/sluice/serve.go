@@ -17,6 +17,7 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 
 	"sluice/api"
+	"sluice/api/web"
 	"sluice/db"
 )
 
@@ -85,7 +86,8 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		}
 		log.Info("demo scenario", "fits_loaded", n)
 	}
-	srv, err := api.New(api.Config{BodyLimit: cfg.BodyLimit, AuthDisabled: cfg.AuthDisabled, FitWorkers: cfg.FitWorkers},
+	srv, err := api.New(api.Config{BodyLimit: cfg.BodyLimit, AuthDisabled: cfg.AuthDisabled, FitWorkers: cfg.FitWorkers,
+		Web: web.Config{SecureCookies: cfg.SecureCookies}},
 		api.Deps{Store: store, Registry: prometheus.NewRegistry(), Log: log, Budget: cfg.budget()})
 	if err != nil {
 		log.Error("build server", "err", err)

@@ -33,6 +33,8 @@ var (
 		"Jobs a worker has taken and not finished, by kind.", []string{"kind"}, nil)
 	jobsRetryableDesc = prometheus.NewDesc("sluice_jobs_retryable",
 		"Queued jobs that failed an attempt and wait for the next one, by kind.", []string{"kind"}, nil)
+	jobsOldestDesc = prometheus.NewDesc("sluice_jobs_oldest_running_seconds",
+		"Age of the longest-running job's attempt (0 when none runs), by kind: far past the job timeout means a stuck worker or no rescuer.", []string{"kind"}, nil)
 	jobsDiscardedDesc = prometheus.NewDesc("sluice_jobs_discarded",
 		"Jobs whose last attempt failed (their plate or analysis is marked failed), still kept by the queue, by kind.", []string{"kind"}, nil)
 )
@@ -42,6 +44,7 @@ func (j jobsCollector) Describe(ch chan<- *prometheus.Desc) {
 	ch <- jobsRunningDesc
 	ch <- jobsRetryableDesc
 	ch <- jobsDiscardedDesc
+	ch <- jobsOldestDesc
 }
 
 func (j jobsCollector) Collect(ch chan<- prometheus.Metric) {
@@ -52,7 +55,13 @@ func (j jobsCollector) Collect(ch chan<- prometheus.Metric) {
 		j.log.Warn("metrics: count jobs", "err", err)
 		return
 	}
+	now := time.Now()
 	for _, c := range counts {
+		age := 0.0
+		if !c.OldestRunning.IsZero() {
+			age = max(now.Sub(c.OldestRunning).Seconds(), 0)
+		}
+		ch <- prometheus.MustNewConstMetric(jobsOldestDesc, prometheus.GaugeValue, age, c.Kind)
 		ch <- prometheus.MustNewConstMetric(jobsQueuedDesc, prometheus.GaugeValue, float64(c.Queued), c.Kind)
 		ch <- prometheus.MustNewConstMetric(jobsRunningDesc, prometheus.GaugeValue, float64(c.Running), c.Kind)
 		ch <- prometheus.MustNewConstMetric(jobsRetryableDesc, prometheus.GaugeValue, float64(c.Retryable), c.Kind)

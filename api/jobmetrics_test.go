@@ -8,7 +8,9 @@ import (
 	"net/http/httptest"
 	"strings"
 	"testing"
+	"time"
 
+	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/testutil"
 
 	"sluice/db"
@@ -23,11 +25,11 @@ func TestJobMetrics(t *testing.T) {
 		ctx := context.Background()
 		err := s.Write(ctx, func(w db.Writer) error {
 			for _, p := range []string{"p1", "p2", "p3"} {
-				if _, err := w.EnqueuePlateFit(ctx, db.PlateJob{PlateID: p}); err != nil {
+				if _, err := w.EnqueuePlateFit(ctx, p, db.JobOpts{}); err != nil {
 					return err
 				}
 			}
-			_, err := w.EnqueueAnalysis(ctx, "fit", "a1")
+			_, err := w.EnqueueAnalysis(ctx, "fit", "a1", db.JobOpts{})
 			return err
 		})
 		if err != nil {
@@ -78,5 +80,45 @@ func TestJobMetricsStoreDown(t *testing.T) {
 	}
 	if !strings.Contains(logs.String(), "connection refused") {
 		t.Errorf("log does not say why: %q", logs.String())
+	}
+}
+
+type agedJobs struct{ oldest time.Time }
+
+func (a agedJobs) JobCounts(context.Context) ([]db.JobCount, error) {
+	return []db.JobCount{{Kind: db.JobPlateFit, Running: 2, OldestRunning: a.oldest}, {Kind: db.JobAnalysis}}, nil
+}
+
+// sluice_jobs_oldest_running_seconds is the age of the oldest running
+// attempt of each kind, 0 when none runs (deploy/prometheus/alerts.yml's
+// SluiceJobRunningTooLong watches it).
+func TestJobMetricsOldestRunning(t *testing.T) {
+	reg := prometheus.NewRegistry()
+	reg.MustRegister(jobsCollector{jobs: agedJobs{oldest: time.Now().Add(-90 * time.Second)}, log: slog.New(slog.DiscardHandler)})
+	mfs, err := reg.Gather()
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := map[string]float64{}
+	for _, mf := range mfs {
+		if mf.GetName() != "sluice_jobs_oldest_running_seconds" {
+			continue
+		}
+		for _, m := range mf.GetMetric() {
+			got[m.GetLabel()[0].GetValue()] = m.GetGauge().GetValue()
+		}
+	}
+	if a := got[db.JobPlateFit]; a < 90 || a > 100 {
+		t.Errorf("plate jobs: oldest running %v s, want 90 s (began 90 s before the scrape)", a)
+	}
+	if a, ok := got[db.JobAnalysis]; !ok || a != 0 {
+		t.Errorf("analyses: oldest running %v s (reported %v), want 0 with none running", a, ok)
+	}
+	problems, err := testutil.GatherAndLint(reg, "sluice_jobs_oldest_running_seconds")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, p := range problems {
+		t.Errorf("lint: %s: %s", p.Metric, p.Text)
 	}
 }

@@ -29,6 +29,10 @@ type Config struct {
 	// FitWorkers is the goroutines one fit's bootstrap may use; zero
 	// means GOMAXPROCS.
 	FitWorkers int
+	// IdempotencyRetention and MaxStoredReply are service.Deps' (zero:
+	// 24 h and 256 KiB).
+	IdempotencyRetention time.Duration
+	MaxStoredReply       int
 	// Web configures the dashboard (its AuthDisabled follows the API's).
 	Web web.Config
 }
@@ -95,7 +99,8 @@ func New(cfg Config, d Deps) (*Server, error) {
 	}
 	s.metrics = m
 	s.svc, err = service.New(service.Deps{Store: d.Store, Now: s.now, NewID: s.newID, Log: s.log,
-		FitWorkers: cfg.FitWorkers, Budget: d.Budget, Observer: m})
+		FitWorkers: cfg.FitWorkers, Budget: d.Budget, Observer: m,
+		IdempotencyRetention: cfg.IdempotencyRetention, MaxStoredReply: cfg.MaxStoredReply})
 	if err != nil {
 		return nil, err
 	}

@@ -17,7 +17,7 @@ func TestAnalyses(t *testing.T) {
 		ctx := context.Background()
 		at := time.Date(2026, 12, 2, 7, 0, 0, 123000, time.UTC)
 		err := s.Write(ctx, func(w db.Writer) error {
-			job, err := w.EnqueueAnalysis(ctx, "fit", "an-1")
+			job, err := w.EnqueueAnalysis(ctx, "fit", "an-1", db.JobOpts{})
 			if err != nil {
 				return err
 			}

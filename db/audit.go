@@ -32,17 +32,21 @@ func (s *sqlStore) Audit(ctx context.Context, limit int) ([]AuditEntry, error) {
 }
 
 func (w *sqlWriter) InsertIdempotent(ctx context.Context, r *Idempotent) error {
-	return w.insert(ctx, "InsertIdempotent", r.Key, "INSERT INTO idempotency_keys (actor, key, request_sha256, status, content_type, body, location, created_at) "+
-		"VALUES ($1, $2, $3, $4, $5, $6, $7, $8)",
-		r.Actor, r.Key, r.RequestSHA256, r.Status, r.ContentType, r.Body, r.Location, w.e.timeArg(r.CreatedAt))
+	body := r.Body
+	if body == nil {
+		body = []byte{} // NOT NULL: an omitted body is empty
+	}
+	return w.insert(ctx, "InsertIdempotent", r.Key, "INSERT INTO idempotency_keys (actor, key, request_sha256, status, content_type, body, location, omitted_bytes, created_at) "+
+		"VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9)",
+		r.Actor, r.Key, r.RequestSHA256, r.Status, r.ContentType, body, r.Location, r.OmittedBytes, w.e.timeArg(r.CreatedAt))
 }
 
 func (s *sqlStore) Idempotent(ctx context.Context, actor, key string) (*Idempotent, error) {
 	var r Idempotent
 	var t dbTime
-	err := s.e.queryRow(ctx, "SELECT actor, key, request_sha256, status, content_type, body, location, created_at "+
+	err := s.e.queryRow(ctx, "SELECT actor, key, request_sha256, status, content_type, body, location, omitted_bytes, created_at "+
 		"FROM idempotency_keys WHERE actor = $1 AND key = $2", actor, key).
-		Scan(&r.Actor, &r.Key, &r.RequestSHA256, &r.Status, &r.ContentType, &r.Body, &r.Location, &t)
+		Scan(&r.Actor, &r.Key, &r.RequestSHA256, &r.Status, &r.ContentType, &r.Body, &r.Location, &r.OmittedBytes, &t)
 	if err != nil {
 		return nil, s.read("Idempotent", key, err)
 	}

@@ -20,7 +20,7 @@ func TestLastAttemptReported(t *testing.T) {
 	enqueue := func(target string) int64 {
 		var id int64
 		if err := s.Write(ctx, func(w Writer) error {
-			id, err = w.EnqueueAnalysis(ctx, "fit", target)
+			id, err = w.EnqueueAnalysis(ctx, "fit", target, JobOpts{})
 			return err
 		}); err != nil {
 			t.Fatal(err)

@@ -16,11 +16,16 @@ import (
 func TestJobCounts(t *testing.T) {
 	dbtest.Engines(t, func(t *testing.T, s db.Store) {
 		ctx := context.Background()
+		// oldest holds each kind's OldestRunning, compared apart.
+		var oldest [2]time.Time
 		counts := func() []db.JobCount {
 			t.Helper()
 			c, err := s.JobCounts(ctx)
 			if err != nil {
 				t.Fatal(err)
+			}
+			for i := range c {
+				oldest[i], c[i].OldestRunning = c[i].OldestRunning, time.Time{}
 			}
 			return c
 		}
@@ -30,11 +35,11 @@ func TestJobCounts(t *testing.T) {
 		}
 		// The analysis first, so that two workers take it and one plate.
 		err := s.Write(ctx, func(w db.Writer) error {
-			if _, err := w.EnqueueAnalysis(ctx, "fit", "a1"); err != nil {
+			if _, err := w.EnqueueAnalysis(ctx, "fit", "a1", db.JobOpts{}); err != nil {
 				return err
 			}
 			for _, p := range []string{"p1", "p2"} {
-				if _, err := w.EnqueuePlateFit(ctx, db.PlateJob{PlateID: p}); err != nil {
+				if _, err := w.EnqueuePlateFit(ctx, p, db.JobOpts{}); err != nil {
 					return err
 				}
 			}
@@ -65,6 +70,9 @@ func TestJobCounts(t *testing.T) {
 			t.Fatal(err)
 		}
 		defer s.StopWorkers(ctx)
+		// Both engines stamp an attempt's start; allow 2 s between the
+		// database's clock and the test's.
+		before := time.Now().Add(-2 * time.Second)
 		for range 2 {
 			select {
 			case <-started:
@@ -76,6 +84,12 @@ func TestJobCounts(t *testing.T) {
 		if got := counts(); !slices.Equal(got, want) {
 			t.Errorf("two running: %+v, want %+v", got, want)
 		}
+		after := time.Now().Add(2 * time.Second)
+		for i, o := range oldest {
+			if o.Before(before) || o.After(after) {
+				t.Errorf("kind %s: oldest running attempt began %v, want within [%v, %v]", want[i].Kind, o, before, after)
+			}
+		}
 		close(release)
 		want = []db.JobCount{{Kind: db.JobPlateFit}, {Kind: db.JobAnalysis}}
 		deadline := time.Now().Add(30 * time.Second)
@@ -84,6 +98,9 @@ func TestJobCounts(t *testing.T) {
 				t.Fatalf("after both plates: %+v, want %+v", got, want)
 			}
 			time.Sleep(20 * time.Millisecond)
+		}
+		if !oldest[0].IsZero() || !oldest[1].IsZero() {
+			t.Errorf("nothing runs, yet the oldest running attempts began %v", oldest)
 		}
 	})
 }

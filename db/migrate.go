@@ -26,12 +26,15 @@ type Options struct {
 	// migrate`. The zero value migrates, as Open does.
 	SkipMigrations bool
 
-	// JobTimeout bounds one attempt at a job; RescueAfter is how long a
-	// job may stay running before River takes it for orphaned (its worker
-	// died) and retries it elsewhere. RescueAfter must be at least
-	// JobTimeout, or a job still being worked could run twice. Zero means
-	// the defaults: 10 min and 11 min (jobTimeout, rescueAfter); range
-	// 1s–24h.
+	// JobTimeout is the ceiling of a job's own timeout (JobOpts.Timeout)
+	// and the timeout of a job queued without one; range [MinJobTimeout,
+	// 24h]. RescueAfter is how long a job's attempt may run before River
+	// takes the job for orphaned (its worker died) and retries it
+	// elsewhere — never before the job's own timeout has passed as well,
+	// so a job still being worked does not run twice; range 1s–24h. Zero
+	// means the defaults, DefaultJobTimeout (10 min) and
+	// DefaultRescueAfter (1 min); RescueBound says when an orphaned job is
+	// released.
 	JobTimeout, RescueAfter time.Duration
 
 	// Logger receives the job queue's (River's) logs, so that they join

@@ -24,7 +24,7 @@ func TestPlateJob(t *testing.T) {
 		p := &db.Plate{ID: "p1", CreatedAt: t0, SubmittedBy: "x", Barcode: "LK-1", Format: 384, ConcUnit: "M", Mode: "agonist",
 			Settings: []byte(`{}`), InputSHA256: "h", Status: db.PlateQueued, CurvesTotal: 2}
 		err := s.Write(ctx, func(w db.Writer) error {
-			id, err := w.EnqueuePlateFit(ctx, db.PlateJob{PlateID: p.ID})
+			id, err := w.EnqueuePlateFit(ctx, p.ID, db.JobOpts{})
 			if err != nil {
 				return err
 			}

@@ -20,21 +20,9 @@ import (
 // PlateFitArgs is the job that QCs and fits one stored plate.
 type PlateFitArgs struct {
 	PlateID string `json:"plate_id"`
-	// Work is the plate's estimated CPU work in cost units (package
-	// fit/cost), as PlateJob gave it; zero for jobs queued before it was
-	// recorded.
-	Work float64 `json:"work,omitempty"`
-}
-
-// PlateJob is a plate's fit job as EnqueuePlateFit queues it.
-type PlateJob struct {
-	PlateID string
-	// Work is the plate's estimated CPU work in cost units (package
-	// fit/cost: fit.Cost summed over its curves); zero means unknown.
-	Work float64
-	// Small puts the job in the small-job lane (QueueSmall), whose workers
-	// take nothing else, so that it never waits behind large plates.
-	Small bool
+	// TimeoutMS bounds one attempt (JobOpts.Timeout) in milliseconds; 0,
+	// as in jobs queued before it existed, means the queue's ceiling.
+	TimeoutMS int64 `json:"timeout_ms,omitempty"`
 }
 
 // Kind names the job in River's table.
@@ -46,6 +34,31 @@ func (PlateFitArgs) Kind() string { return JobPlateFit }
 type AnalysisArgs struct {
 	Analysis string `json:"analysis"` // what to run, e.g. "fit", "potential"
 	ID       string `json:"id"`       // what to run it on
+	// TimeoutMS is as in PlateFitArgs.
+	TimeoutMS int64 `json:"timeout_ms,omitempty"`
+}
+
+// JobOpts are a queued job's own settings.
+type JobOpts struct {
+	// Timeout bounds one attempt at the job: River cancels the attempt's
+	// context then, and its rescuer leaves a running job alone until both
+	// this and the rescue time (Options.RescueAfter) have passed since the
+	// attempt began. The caller scales it to the job's work (the service:
+	// service.JobTimeout). Zero means the ceiling Options.JobTimeout;
+	// otherwise it is clamped to [MinJobTimeout, Options.JobTimeout].
+	Timeout time.Duration
+	// Small puts a plate's job in the small-job lane (QueueSmall), whose
+	// workers take nothing else, so that it never waits behind large
+	// plates (the service: Budget.SmallPlate). Analyses ignore it.
+	Small bool
+}
+
+// timeoutMS is o's timeout in whole milliseconds (0: the ceiling).
+func (o JobOpts) timeoutMS() int64 {
+	if o.Timeout <= 0 {
+		return 0
+	}
+	return max(o.Timeout, MinJobTimeout).Milliseconds()
 }
 
 // Kind names the job in River's table.
@@ -58,7 +71,7 @@ const (
 )
 
 // The queue's lanes (River queues). Every job goes to QueueMain except
-// plates marked PlateJob.Small, which go to QueueSmall. Each lane has
+// plates queued with JobOpts.Small, which go to QueueSmall. Each lane has
 // workers of its own in every worker process (StartHandlers gives each
 // lane its workers count), so a small plate is taken at once even while
 // every main worker runs a large one: with two 1536-well plates of
@@ -83,6 +96,9 @@ type Job struct {
 	// (JobAnalysis); Analysis is the analysis' kind.
 	Target   string
 	Analysis string
+	// Timeout is the job's own attempt timeout as queued (JobOpts), 0 for
+	// the queue's ceiling.
+	Timeout time.Duration
 }
 
 // WorkFunc does one plate's job; an error makes River retry it.
@@ -107,12 +123,30 @@ type Handlers struct {
 
 // Queue settings.
 const (
-	// jobTimeout bounds one attempt at a job; a 1536-well plate with
-	// B = 1000 takes about a second.
-	jobTimeout = 10 * time.Minute
-	// rescueAfter is when River hands the job of a worker that died to
-	// another one.
-	rescueAfter = 11 * time.Minute
+	// DefaultJobTimeout is the default ceiling of a job's own timeout
+	// (JobOpts.Timeout), and the timeout of a job queued without one; a
+	// 1536-well plate with B = 1000 takes about a second.
+	DefaultJobTimeout = 10 * time.Minute
+	// MinJobTimeout is the shortest timeout of an attempt, however small
+	// its work: room for a slow database and a loaded machine.
+	MinJobTimeout = 30 * time.Second
+	// DefaultRescueAfter is the default of Options.RescueAfter: a job whose
+	// attempt began this long ago, and longer ago than its own timeout,
+	// is taken for orphaned (its worker died) and retried. River's
+	// rescuer looks every RescuerInterval, so a job whose timeout is at
+	// most DefaultRescueAfter is released within about 1.5 min of its start
+	// (RescueBound).
+	DefaultRescueAfter = time.Minute
+	// RescuerInterval is how often River's rescuer (on the elected leader
+	// among the workers) looks for orphaned jobs: its fixed default in
+	// River v0.51.2 (maintenance.JobRescuerIntervalDefault), which the
+	// client's Config does not expose.
+	RescuerInterval = 30 * time.Second
+	// LeaderFailover bounds how long the workers are without a leader
+	// (so without a rescuer) after the leader dies: River's leadership
+	// TTL (elect interval 5 s + 10 s padding) and one more election with
+	// its jitter (5 s + 1 s), v0.51.2's internal/leadership defaults.
+	LeaderFailover = 21 * time.Second
 	// maxAttempts is how often a failing job is tried.
 	maxAttempts = 5
 	// failedTimeout bounds Handlers.Failed.
@@ -184,11 +218,26 @@ func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx],
 	if err != nil {
 		return nil, fmt.Errorf("job queue: %w", err)
 	}
-	timeout, rescue := cmp.Or(o.JobTimeout, jobTimeout), cmp.Or(o.RescueAfter, rescueAfter)
-	if rescue < timeout {
-		return nil, fmt.Errorf("job queue: rescue after %v is shorter than the job timeout %v", rescue, timeout)
+	timeout, rescue := cmp.Or(o.JobTimeout, DefaultJobTimeout), cmp.Or(o.RescueAfter, DefaultRescueAfter)
+	if timeout < MinJobTimeout {
+		return nil, fmt.Errorf("job queue: the job timeout ceiling %v is below the least timeout %v", timeout, MinJobTimeout)
 	}
 	return &riverQueue[TTx]{driver: driver, insert: insert, txOf: txOf, poll: poll, log: o.Logger, timeout: timeout, rescue: rescue}, nil
+}
+
+// RescueBound is the longest the queue takes to release the job of a
+// worker that died, counted from the start of the job's attempt (so at
+// most this after the death): River's rescuer leaves a running job alone
+// until both its own timeout and the rescue time have passed, looks every
+// RescuerInterval, and runs on the elected leader, which another worker
+// replaces within LeaderFailover when the dead one led:
+//
+//	bound = max(timeout, rescue) + RescuerInterval + LeaderFailover
+//
+// The released job is then retried after River's backoff (attempt⁴ s: 1 s
+// after a first attempt, 16 s after a second) once a worker is free.
+func RescueBound(timeout, rescue time.Duration) time.Duration {
+	return max(timeout, rescue) + RescuerInterval + LeaderFailover
 }
 
 func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args river.JobArgs, lane string) (int64, error) {
@@ -230,13 +279,13 @@ func jobOf(row *rivertype.JobRow) (*Job, error) {
 		if err := json.Unmarshal(row.EncodedArgs, &a); err != nil {
 			return nil, fmt.Errorf("job arguments: %w", err)
 		}
-		j.Target = a.PlateID
+		j.Target, j.Timeout = a.PlateID, a.timeout()
 	case JobAnalysis:
 		var a AnalysisArgs
 		if err := json.Unmarshal(row.EncodedArgs, &a); err != nil {
 			return nil, fmt.Errorf("job arguments: %w", err)
 		}
-		j.Target, j.Analysis = a.ID, a.Analysis
+		j.Target, j.Analysis, j.Timeout = a.ID, a.Analysis, a.timeout()
 	}
 	return j, nil
 }
@@ -247,18 +296,18 @@ func jobOf(row *rivertype.JobRow) (*Job, error) {
 func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 	ws := river.NewWorkers()
 	if h.Plate != nil {
-		river.AddWorker(ws, river.WorkFunc(func(ctx context.Context, job *river.Job[PlateFitArgs]) error {
+		river.AddWorker(ws, &timedWorker[PlateFitArgs]{ceiling: q.timeout, work: func(ctx context.Context, job *river.Job[PlateFitArgs]) error {
 			return q.attempt(ctx, job.JobRow, job.Args.PlateID, h.Failed, func(ctx context.Context) error {
 				return h.Plate(ctx, job.Args.PlateID)
 			})
-		}))
+		}})
 	}
 	if h.Analysis != nil {
-		river.AddWorker(ws, river.WorkFunc(func(ctx context.Context, job *river.Job[AnalysisArgs]) error {
+		river.AddWorker(ws, &timedWorker[AnalysisArgs]{ceiling: q.timeout, work: func(ctx context.Context, job *river.Job[AnalysisArgs]) error {
 			return q.attempt(ctx, job.JobRow, job.Args.ID, h.Failed, func(ctx context.Context) error {
 				return h.Analysis(ctx, job.Args.Analysis, job.Args.ID)
 			})
-		}))
+		}})
 	}
 	lanes := map[string]river.QueueConfig{QueueMain: {MaxWorkers: workers}}
 	if h.Plate != nil {
@@ -274,9 +323,11 @@ func (q *riverQueue[TTx]) start(h Handlers, workers int) error {
 		return errors.New("job queue: workers already started")
 	}
 	c, err := river.NewClient(q.driver, &river.Config{
-		Queues:               lanes,
-		Workers:              ws,
-		JobTimeout:           q.timeout,
+		Queues:  lanes,
+		Workers: ws,
+		// Every job has its own timeout (timedWorker); River's default
+		// applies to none, but may not exceed the rescue time.
+		JobTimeout:           min(q.timeout, q.rescue),
 		RescueStuckJobsAfter: q.rescue,
 		FetchPollInterval:    q.poll,
 		FetchCooldown:        q.poll / 2,
@@ -316,3 +367,30 @@ func (q *riverQueue[TTx]) stop(ctx context.Context) error {
 	}
 	return fmt.Errorf("stop workers: running jobs cancelled after the grace period: %w", soft)
 }
+
+// timedArgs are job arguments that carry their attempt's timeout.
+type timedArgs interface {
+	river.JobArgs
+	timeout() time.Duration
+}
+
+func (a PlateFitArgs) timeout() time.Duration { return time.Duration(a.TimeoutMS) * time.Millisecond }
+func (a AnalysisArgs) timeout() time.Duration { return time.Duration(a.TimeoutMS) * time.Millisecond }
+
+// timedWorker works one kind of job with the timeout its arguments carry
+// (River's per-job Worker.Timeout, which its rescuer honours too), at most
+// the queue's ceiling, the ceiling for a job without one.
+type timedWorker[T timedArgs] struct {
+	river.WorkerDefaults[T]
+	ceiling time.Duration
+	work    func(ctx context.Context, job *river.Job[T]) error
+}
+
+func (w *timedWorker[T]) Timeout(job *river.Job[T]) time.Duration {
+	if t := job.Args.timeout(); t > 0 {
+		return min(max(t, MinJobTimeout), w.ceiling)
+	}
+	return w.ceiling
+}
+
+func (w *timedWorker[T]) Work(ctx context.Context, job *river.Job[T]) error { return w.work(ctx, job) }

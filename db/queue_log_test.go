@@ -40,7 +40,7 @@ func TestQueueLogsThroughLogger(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer s.Close()
-	if err := s.Write(ctx, func(w Writer) error { _, err := w.EnqueueAnalysis(ctx, "fit", "x"); return err }); err != nil {
+	if err := s.Write(ctx, func(w Writer) error { _, err := w.EnqueueAnalysis(ctx, "fit", "x", JobOpts{}); return err }); err != nil {
 		t.Fatal(err)
 	}
 	if err := s.StartHandlers(ctx, Handlers{Analysis: func(context.Context, string, string) error { return errors.New("boom-7") }}, 1); err != nil {

@@ -38,7 +38,7 @@ func TestAnalysisJob(t *testing.T) {
 		var id int64
 		err := s.Write(ctx, func(w db.Writer) error {
 			var err error
-			id, err = w.EnqueueAnalysis(ctx, "potential", "run-7")
+			id, err = w.EnqueueAnalysis(ctx, "potential", "run-7", db.JobOpts{})
 			return err
 		})
 		if err != nil {
@@ -68,7 +68,7 @@ func TestAnalysisJob(t *testing.T) {
 		if st, _ := db.JobStatus(j, nil); st != db.JobDone {
 			t.Errorf("status %s", st)
 		}
-		err = s.Write(ctx, func(w db.Writer) error { _, err := w.EnqueueAnalysis(ctx, "", "x"); return err })
+		err = s.Write(ctx, func(w db.Writer) error { _, err := w.EnqueueAnalysis(ctx, "", "x", db.JobOpts{}); return err })
 		if !errors.Is(err, db.ErrInvalid) {
 			t.Errorf("analysis without a kind: %v", err)
 		}
@@ -84,7 +84,7 @@ func TestStopWorkers(t *testing.T) {
 			var id int64
 			if err := s.Write(ctx, func(w db.Writer) error {
 				var err error
-				id, err = w.EnqueueAnalysis(ctx, "fit", target)
+				id, err = w.EnqueueAnalysis(ctx, "fit", target, db.JobOpts{})
 				return err
 			}); err != nil {
 				t.Fatal(err)

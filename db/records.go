@@ -110,7 +110,11 @@ type Idempotent struct {
 	ContentType   string
 	Body          []byte
 	Location      string // the reply's Location header; "" for none
-	CreatedAt     time.Time
+	// OmittedBytes is the size of a reply body over the service's
+	// stored-reply cap, which is not kept (Body is empty); 0 when the body
+	// is kept.
+	OmittedBytes int64
+	CreatedAt    time.Time
 }
 
 // PoolStats describe the store's connections, for metrics.

@@ -1,9 +1,6 @@
 package db
 
-import (
-	"context"
-	"math"
-)
+import "context"
 
 // sqlStore implements Store on either engine with one set of SQL text.
 type sqlStore struct {
@@ -38,32 +35,29 @@ func (s *sqlStore) StartHandlers(ctx context.Context, h Handlers, workers int) e
 
 func (s *sqlStore) StopWorkers(ctx context.Context) error { return s.q.stop(ctx) }
 
-func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, job PlateJob) (int64, error) {
+func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, plateID string, o JobOpts) (int64, error) {
 	if w.err != nil {
 		return 0, w.err
 	}
-	if math.IsNaN(job.Work) || math.IsInf(job.Work, 0) || job.Work < 0 {
-		return 0, w.invalid("EnqueuePlateFit", job.PlateID, "work")
-	}
 	lane := QueueMain
-	if job.Small {
+	if o.Small {
 		lane = QueueSmall
 	}
-	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: job.PlateID, Work: job.Work}, lane)
+	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: plateID, TimeoutMS: o.timeoutMS()}, lane)
 	if err != nil {
-		return 0, w.abort(opError("EnqueuePlateFit", job.PlateID, err, w.e.classify))
+		return 0, w.abort(opError("EnqueuePlateFit", plateID, err, w.e.classify))
 	}
 	return id, nil
 }
 
-func (w *sqlWriter) EnqueueAnalysis(ctx context.Context, analysis, id string) (int64, error) {
+func (w *sqlWriter) EnqueueAnalysis(ctx context.Context, analysis, id string, o JobOpts) (int64, error) {
 	if w.err != nil {
 		return 0, w.err
 	}
 	if analysis == "" || checkArgs([]any{analysis, id}) != nil {
 		return 0, w.invalid("EnqueueAnalysis", id, "analysis")
 	}
-	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id}, QueueMain)
+	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id, TimeoutMS: o.timeoutMS()}, QueueMain)
 	if err != nil {
 		return 0, w.abort(opError("EnqueueAnalysis", id, err, w.e.classify))
 	}

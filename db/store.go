@@ -158,6 +158,10 @@ type Jobs interface {
 	// JobCounts counts waiting and running jobs by kind, for the
 	// queue-depth metrics (sluice_jobs_queued, sluice_jobs_running).
 	JobCounts(ctx context.Context) ([]JobCount, error)
+	// DiscardedWaiting lists discarded jobs whose plate or analysis still
+	// waits on them (the worker died during the last attempt), for the
+	// sweep that marks them failed.
+	DiscardedWaiting(ctx context.Context, limit int) ([]Discarded, error)
 }
 
 // Health tells whether the store answers, for probes and metrics.
@@ -198,19 +202,23 @@ type Writer interface {
 	DeleteSessionsBefore(ctx context.Context, idleSince, now time.Time) (int64, error)
 	InsertAudit(ctx context.Context, e *AuditEntry) error
 	InsertIdempotent(ctx context.Context, r *Idempotent) error
+	// ExpireIdempotent deletes at most limit idempotency records stored
+	// before a time, oldest first, and says how many.
+	ExpireIdempotent(ctx context.Context, before time.Time, limit int) (int64, error)
 
 	InsertLayout(ctx context.Context, l *Layout) error
 	// InsertPlate stores a plate and its wells.
 	InsertPlate(ctx context.Context, p *Plate, wells []WellRow) error
 	// EnqueuePlateFit queues the plate's fit job in this transaction, so
-	// that a stored plate always has its job, in the lane job.Small picks
-	// (QueueSmall or QueueMain), and returns the job's ID (store it as the
-	// plate's JobID). A negative or non-finite Work is ErrInvalid.
-	EnqueuePlateFit(ctx context.Context, job PlateJob) (int64, error)
+	// that a stored plate always has its job, and returns the job's ID
+	// (store it as the plate's JobID); o.Timeout bounds each attempt, and
+	// o.Small puts it in the small-job lane (QueueSmall).
+	EnqueuePlateFit(ctx context.Context, plateID string, o JobOpts) (int64, error)
 	// EnqueueAnalysis queues a single analysis (e.g. "fit", "potential")
 	// of the record id, stored in this transaction, for a worker's
-	// Handlers.Analysis; it returns the job's ID.
-	EnqueueAnalysis(ctx context.Context, analysis, id string) (int64, error)
+	// Handlers.Analysis; it returns the job's ID. o.Timeout bounds each
+	// attempt.
+	EnqueueAnalysis(ctx context.Context, analysis, id string, o JobOpts) (int64, error)
 	// InsertAnalysis stores a single analysis to queue (with the job
 	// EnqueueAnalysis returned), status queued.
 	InsertAnalysis(ctx context.Context, a *Analysis) error

@@ -64,3 +64,9 @@ func (b Budget) admit(w cost.Work, field string) error {
 	}
 	return nil
 }
+
+// smallPlate tells whether a plate of work w goes to the queue's
+// small-job lane (Budget.SmallPlate).
+func (b Budget) smallPlate(w cost.Work) bool {
+	return b.SmallPlate >= 0 && w <= b.SmallPlate
+}

@@ -196,7 +196,7 @@ func (s *Service) Fit(ctx context.Context, who Caller, idem *Idem, req *wire.Fit
 			return plan{}, err
 		}
 		if in.work > s.budget.Sync {
-			return s.queue(who, analysisFit, &queuedRequest{Fit: req, InputSHA256: inputSHA})
+			return s.queue(who, analysisFit, &queuedRequest{Fit: req, InputSHA256: inputSHA}, in.work)
 		}
 		return s.runFit(ctx, who, req, in, inputSHA)
 	})

@@ -17,6 +17,12 @@ import (
 // MaxIdempotencyKey bounds an Idempotency-Key in bytes.
 const MaxIdempotencyKey = 255
 
+// DefaultMaxStoredReply is the stored-reply cap when Deps.MaxStoredReply
+// is zero: 256 KiB, far above a write's reply (a plate's 202 is about
+// 100 bytes, a stored fit's result a few KiB) and a bound on what one
+// request can add to the idempotency table.
+const DefaultMaxStoredReply = 256 << 10
+
 // Idem is an idempotent request: its key and the hash of what it asks.
 // A nil *Idem is a request without a key.
 type Idem struct {
@@ -100,7 +106,29 @@ type plan struct {
 //     opens no transaction);
 //  4. when a concurrent request with the same key committed first (its key
 //     exists), its reply is returned and nothing of this one is kept.
+//
+// A reply whose body is over the stored-reply cap (Deps.MaxStoredReply)
+// is stored without its body (db.Idempotent.OmittedBytes): the key still
+// guards against doing the write twice, and a replay is a 409 that says
+// what happened (replay).
 func (s *Service) write(ctx context.Context, who Caller, idem *Idem, prepare func(ctx context.Context) (plan, error)) (*Reply, error) {
+	return s.writeKeeping(ctx, who, idem, true, prepare)
+}
+
+// calculate is write for the calculators of read scope (POST
+// /v1/potential, /v1/operational, /v1/qc/rules), which store nothing but
+// their reply: a reply computed at once is not stored under its key —
+// replaying it is as cheap as recomputing it, and a read token then cannot
+// grow the database — so their Idempotency-Key is accepted and checked but
+// ignored. A request over the synchronous budget stores a queued analysis,
+// and its key with it, as write does.
+func (s *Service) calculate(ctx context.Context, who Caller, idem *Idem, prepare func(ctx context.Context) (plan, error)) (*Reply, error) {
+	return s.writeKeeping(ctx, who, idem, false, prepare)
+}
+
+// writeKeeping is write; keepReplies false stores no record for a plan
+// that is only a reply.
+func (s *Service) writeKeeping(ctx context.Context, who Caller, idem *Idem, keepReplies bool, prepare func(ctx context.Context) (plan, error)) (*Reply, error) {
 	if r, err := s.replay(ctx, who, idem); r != nil || err != nil {
 		return r, err
 	}
@@ -108,7 +136,7 @@ func (s *Service) write(ctx context.Context, who Caller, idem *Idem, prepare fun
 	if err != nil {
 		return nil, err
 	}
-	if p.commit == nil && idem == nil {
+	if p.commit == nil && (idem == nil || !keepReplies) {
 		return p.reply, nil
 	}
 	reply := p.reply
@@ -121,9 +149,12 @@ func (s *Service) write(ctx context.Context, who Caller, idem *Idem, prepare fun
 			reply = r
 		}
 		if idem != nil {
-			err := w.InsertIdempotent(ctx, &db.Idempotent{Actor: who.Name, Key: idem.Key, RequestSHA256: idem.Hash,
-				Status: reply.Status, ContentType: reply.ContentType, Body: reply.Body, Location: reply.Location, CreatedAt: s.now()})
-			if err != nil {
+			rec := &db.Idempotent{Actor: who.Name, Key: idem.Key, RequestSHA256: idem.Hash,
+				Status: reply.Status, ContentType: reply.ContentType, Body: reply.Body, Location: reply.Location, CreatedAt: s.now()}
+			if len(rec.Body) > s.maxStoredReply {
+				rec.Body, rec.OmittedBytes = nil, int64(len(reply.Body))
+			}
+			if err := w.InsertIdempotent(ctx, rec); err != nil {
 				return fmt.Errorf("store reply for key %q: %w", idem.Key, err)
 			}
 		}
@@ -156,6 +187,15 @@ func (s *Service) replay(ctx context.Context, who Caller, idem *Idem) (*Reply, e
 	}
 	if rec.RequestSHA256 != idem.Hash {
 		return nil, &Error{Kind: ErrConflict, Detail: "this Idempotency-Key was used for a different request; use a new key"}
+	}
+	if rec.OmittedBytes > 0 {
+		where := ""
+		if rec.Location != "" {
+			where = "; what it stored is at " + rec.Location
+		}
+		return nil, &Error{Kind: ErrConflict, Detail: fmt.Sprintf("the request under this Idempotency-Key was done (status %d), "+
+			"but its reply (%d bytes) was over the %d-byte limit of stored replies and cannot be replayed%s; "+
+			"it will not be done again under this key", rec.Status, rec.OmittedBytes, s.maxStoredReply, where)}
 	}
 	return &Reply{Status: rec.Status, ContentType: rec.ContentType, Body: rec.Body, Location: rec.Location, Replayed: true}, nil
 }

@@ -19,16 +19,17 @@ const operationalApproach = "E = Em·τⁿAⁿ/((KA + A)ⁿ + τⁿAⁿ) fitted 
 
 // Operational is POST /v1/operational: the operational model (Black &
 // Leff 1983) for a partial agonist, Em from the reference's fitted top
-// (schild.OperationalFromReference). It stores nothing but the reply under
-// its key; one over the synchronous budget is queued (202).
+// (schild.OperationalFromReference). It stores nothing, not even its reply
+// under its key (calculate); one over the synchronous budget is queued
+// (202).
 func (s *Service) Operational(ctx context.Context, who Caller, idem *Idem, req *wire.OperationalRequest) (*Reply, error) {
-	return s.write(ctx, who, idem, func(ctx context.Context) (plan, error) {
+	return s.calculate(ctx, who, idem, func(ctx context.Context) (plan, error) {
 		ref, part, w, err := s.prepareOperational(req)
 		if err != nil {
 			return plan{}, err
 		}
 		if w > s.budget.Sync {
-			return s.queue(who, analysisOperational, &queuedRequest{Operational: req})
+			return s.queue(who, analysisOperational, &queuedRequest{Operational: req}, w)
 		}
 		r, err := operational(req, ref, part)
 		return plan{reply: r}, err

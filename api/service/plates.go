@@ -58,7 +58,9 @@ const MaxBarcode = 100
 type validPlate struct {
 	p     db.Plate
 	wells []db.WellRow
-	work  cost.Work // plateWork
+	// work is the cost model's estimate of the plate's job (plateWork),
+	// which scales the job's timeout.
+	work cost.Work
 }
 
 // SubmitPlate is POST /v1/plates: it validates the plate with the plate
@@ -102,7 +104,9 @@ func (s *Service) SubmitPlate(ctx context.Context, who Caller, idem *Idem, sub *
 		return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
 			// The job first: the worker can see it only once the plate
 			// below commits with it.
-			jobID, err := w.EnqueuePlateFit(ctx, db.PlateJob{PlateID: v.p.ID, Work: float64(v.work), Small: s.budget.smallPlate(v.work)})
+			o := jobOpts(v.work)
+			o.Small = s.budget.smallPlate(v.work)
+			jobID, err := w.EnqueuePlateFit(ctx, v.p.ID, o)
 			if err != nil {
 				return nil, fmt.Errorf("enqueue plate %s: %w", v.p.ID, err)
 			}
@@ -194,13 +198,12 @@ func (s *Service) validatePlate(req *wire.PlateRequest, wells []ingest.WellIn, l
 	if err := fs.Validate(); err != nil {
 		return nil, prefixPointer(err, "/fit")
 	}
-	var boot *fit.BootSettings
+	var bs *fit.BootSettings
 	if b := set.Fit.Bootstrap; b != nil {
-		bs := fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval)}
+		bs = &fit.BootSettings{Resamples: b.Resamples, Scheme: fit.Scheme(b.Scheme), Interval: fit.Interval(b.Interval)}
 		if err := bs.Validate(); err != nil {
 			return nil, prefixPointer(err, "/fit")
 		}
-		boot = &bs
 		if b.Seed == nil {
 			seed := s.newSeed()
 			b.Seed = &seed
@@ -209,8 +212,8 @@ func (s *Service) validatePlate(req *wire.PlateRequest, wells []ingest.WellIn, l
 	if v.p.Settings, err = json.Marshal(set); err != nil {
 		return nil, fmt.Errorf("plate settings: %w", err)
 	}
-	specs := plate.Curves(plate.Read(checked), mode, 1, 0)
-	v.p.CurvesTotal, v.work = len(specs), plateWork(specs, &fs, boot)
+	curves := plate.Curves(plate.Read(checked), mode, 1, 0)
+	v.p.CurvesTotal, v.work = len(curves), plateWork(curves, &fs, bs)
 	return v, nil
 }
 

@@ -383,16 +383,16 @@ func PredictPotential(ctx context.Context, req *wire.PotentialRequest, budget Bu
 // Potential is POST /v1/potential: the steady membrane potential across
 // agonist concentrations, with a band when the curve is a stored,
 // bootstrapped fit; as JSON, or as the figure of V and ΔV when svg. It
-// stores nothing but the reply under its key; a prediction over the
-// synchronous budget is queued (202).
+// stores nothing, not even its reply under its key (calculate); a
+// prediction over the synchronous budget is queued (202).
 func (s *Service) Potential(ctx context.Context, who Caller, idem *Idem, req *wire.PotentialRequest, svg bool) (*Reply, error) {
-	return s.write(ctx, who, idem, func(ctx context.Context) (plan, error) {
+	return s.calculate(ctx, who, idem, func(ctx context.Context) (plan, error) {
 		m, lc, w, err := s.preparePotential(ctx, req, svg)
 		if err != nil {
 			return plan{}, err
 		}
 		if w > s.budget.Sync {
-			return s.queue(who, analysisPotential, &queuedRequest{Potential: req, SVG: svg})
+			return s.queue(who, analysisPotential, &queuedRequest{Potential: req, SVG: svg}, w)
 		}
 		r, err := s.runPotential(ctx, req, m, lc, svg)
 		return plan{reply: r}, err

@@ -20,9 +20,9 @@ const MaxQCRulesPoints = 100000
 // QCRules is POST /v1/qc/rules: the drift rules (Westgard, EWMA, CUSUM) on
 // a series the caller keeps elsewhere, against a given baseline or one
 // estimated from the series' first baseline_runs values. It stores
-// nothing but the reply under its key.
+// nothing, not even its reply under its key (calculate).
 func (s *Service) QCRules(ctx context.Context, who Caller, idem *Idem, req *wire.QCRulesRequest) (*Reply, error) {
-	return s.write(ctx, who, idem, func(context.Context) (plan, error) {
+	return s.calculate(ctx, who, idem, func(context.Context) (plan, error) {
 		r, err := qcRules(req)
 		if err != nil {
 			return plan{}, err

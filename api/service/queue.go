@@ -13,6 +13,7 @@ import (
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
+	"sluice/fit/cost"
 )
 
 // Kinds of queued analysis (the job's analysis).
@@ -37,15 +38,16 @@ type queuedRequest struct {
 
 // queue plans a request over the synchronous budget: the analysis stored
 // with its job in the write's transaction, answered 202 with where to
-// find it. The job runs it through RunAnalysis.
-func (s *Service) queue(who Caller, kind string, q *queuedRequest) (plan, error) {
+// find it. The job runs it through RunAnalysis, with a timeout scaled to
+// work (JobTimeout).
+func (s *Service) queue(who Caller, kind string, q *queuedRequest, work cost.Work) (plan, error) {
 	doc, err := json.Marshal(q)
 	if err != nil {
 		return plan{}, fmt.Errorf("encode queued %s: %w", kind, err)
 	}
 	id, now := s.newID(), s.now()
 	return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
-		job, err := w.EnqueueAnalysis(ctx, kind, id)
+		job, err := w.EnqueueAnalysis(ctx, kind, id, jobOpts(work))
 		if err != nil {
 			return nil, fmt.Errorf("queue %s %s: %w", kind, id, err)
 		}

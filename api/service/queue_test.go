@@ -121,7 +121,7 @@ func TestQueuedPotential(t *testing.T) {
 	}
 	// Refused when it runs (here: a stored request edited to be invalid).
 	if err := store.Write(ctx, func(w db.Writer) error {
-		job, err := w.EnqueueAnalysis(ctx, "potential", "bad")
+		job, err := w.EnqueueAnalysis(ctx, "potential", "bad", db.JobOpts{})
 		if err != nil {
 			return err
 		}

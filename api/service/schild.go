@@ -114,7 +114,7 @@ func (s *Service) CreateSchild(ctx context.Context, who Caller, idem *Idem, req 
 			return plan{}, err
 		}
 		if w > s.budget.Sync {
-			return s.queue(who, analysisSchild, &queuedRequest{Schild: req, InputSHA256: inputSHA})
+			return s.queue(who, analysisSchild, &queuedRequest{Schild: req, InputSHA256: inputSHA}, w)
 		}
 		return s.runSchild(ctx, who, req, curves, set, inputSHA)
 	})

@@ -1,6 +1,7 @@
 package service
 
 import (
+	"cmp"
 	"crypto/rand"
 	"encoding/binary"
 	"errors"
@@ -31,6 +32,16 @@ type Deps struct {
 	Budget Budget
 	// Observer is told about fits for metrics; nil observes nothing.
 	Observer Observer
+	// IdempotencyRetention is how long an idempotency record is kept
+	// before Sweep deletes it; zero means DefaultIdempotencyRetention
+	// (24 h), negative is refused.
+	IdempotencyRetention time.Duration
+	// MaxStoredReply bounds the body of a reply stored with its
+	// Idempotency-Key, in bytes: a larger one keeps its key, status and
+	// Location but not its body, and a replay is answered 409 saying so
+	// (idem.go). Zero means DefaultMaxStoredReply (256 KiB), negative is
+	// refused.
+	MaxStoredReply int
 }
 
 // Service runs the use cases. It is safe for concurrent use.
@@ -44,12 +55,18 @@ type Service struct {
 	budget     Budget
 	obs        Observer
 	watch      *plateWatch // WaitPlate's shared poll
+	// idemRetention and maxStoredReply are Deps'.
+	idemRetention  time.Duration
+	maxStoredReply int
 }
 
 // New builds the service, filling documented defaults.
 func New(d Deps) (*Service, error) {
 	if d.Store == nil {
 		return nil, errors.New("service: Deps.Store is required")
+	}
+	if d.IdempotencyRetention < 0 || d.MaxStoredReply < 0 {
+		return nil, errors.New("service: Deps.IdempotencyRetention and MaxStoredReply must be ≥ 0")
 	}
 	if d.FitWorkers < 0 {
 		return nil, errors.New("service: Deps.FitWorkers must be ≥ 0")
@@ -58,7 +75,8 @@ func New(d Deps) (*Service, error) {
 	if err != nil {
 		return nil, err
 	}
-	s := &Service{store: d.Store, now: d.Now, newID: d.NewID, newSeed: d.NewSeed, log: d.Log, fitWorkers: d.FitWorkers, budget: budget, obs: d.Observer}
+	s := &Service{store: d.Store, now: d.Now, newID: d.NewID, newSeed: d.NewSeed, log: d.Log, fitWorkers: d.FitWorkers, budget: budget, obs: d.Observer,
+		idemRetention: cmp.Or(d.IdempotencyRetention, DefaultIdempotencyRetention), maxStoredReply: cmp.Or(d.MaxStoredReply, DefaultMaxStoredReply)}
 	if s.now == nil {
 		s.now = func() time.Time { return time.Now().UTC().Truncate(time.Microsecond) }
 	}

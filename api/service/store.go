@@ -81,8 +81,15 @@ type Drift interface {
 	DriftCharts(ctx context.Context) ([]db.DriftChart, error)
 }
 
+// Sweeps finds the jobs the queue gave up on while their plate or
+// analysis waits (Service.Sweep).
+type Sweeps interface {
+	DiscardedWaiting(ctx context.Context, limit int) ([]db.Discarded, error)
+}
+
 // Store is everything the service reads and writes.
 type Store interface {
+	Sweeps
 	Writes
 	Replies
 	Catalogue

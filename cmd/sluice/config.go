@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"sluice/api/service"
+	"sluice/db"
 	"sluice/fit/cost"
 )
 
@@ -50,15 +51,37 @@ type serveConfig struct {
 	// it with a 422. Range 1ms ≤ sync budget ≤ work limit ≤ 1h; defaults
 	// 1s and 30s (service.DefaultSyncBudget and DefaultHardLimit).
 	SyncBudget, WorkLimit time.Duration
-	// JobTimeout (SLUICE_JOB_TIMEOUT, --job-timeout) bounds one attempt
-	// at a queued job; JobRescueAfter (SLUICE_JOB_RESCUE_AFTER,
-	// --job-rescue-after) is how long a job may stay running before it is
-	// taken for orphaned (its worker died) and retried by another worker.
-	// Range 1s–24h with rescue ≥ timeout; zero (the default) means the
-	// store's defaults, 10m and 11m (db.Options). An orphaned job is picked
-	// up again within about rescue + 1 min (deploy/README.md).
+	// JobTimeout (SLUICE_JOB_TIMEOUT, --job-timeout) is the ceiling of a
+	// queued job's timeout, which is scaled to its work
+	// (service.JobTimeout: 30 s + 10 × its estimated single-core time);
+	// range 30s–24h. JobRescueAfter (SLUICE_JOB_RESCUE_AFTER,
+	// --job-rescue-after) is how long an attempt may run, and longer than
+	// its own timeout, before the job is taken for orphaned (its worker
+	// died) and retried by another worker; range 1s–24h. Zero (the
+	// default) means the store's defaults, 10m and 1m (db.Options). An
+	// orphaned job is released within db.RescueBound of its attempt's
+	// start: about 1 min 50 s for a job of up to 3 s of work
+	// (deploy/README.md).
 	JobTimeout, JobRescueAfter time.Duration
+	// IdemRetention (SLUICE_IDEMPOTENCY_RETENTION,
+	// --idempotency-retention) is how long a stored reply is kept under
+	// its Idempotency-Key before the workers' sweep deletes it; range
+	// 1m–2160h (90 days), default 24h. IdemMaxReply
+	// (SLUICE_IDEMPOTENCY_MAX_REPLY, --idempotency-max-reply) caps a stored
+	// reply's body in bytes: over it only the key, status and Location are
+	// kept, and a replay answers 409 saying so; range 1024 – 1 GiB, default
+	// 256 KiB.
+	IdemRetention time.Duration
+	IdemMaxReply  int64
 }
+
+// Bounds of --idempotency-retention and --idempotency-max-reply.
+const (
+	minIdemRetention = time.Minute
+	maxIdemRetention = 90 * 24 * time.Hour
+	minIdemMaxReply  = 1024
+	maxIdemMaxReply  = 1 << 30
+)
 
 // Bounds and defaults of --sync-budget and --work-limit.
 const (
@@ -115,7 +138,15 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	}
 	jobRescue, err := time.ParseDuration(envOr(getenv, "SLUICE_JOB_RESCUE_AFTER", "0s"))
 	if err != nil {
-		errs = append(errs, fmt.Errorf("SLUICE_JOB_RESCUE_AFTER: %q is not a duration (e.g. 11m)", getenv("SLUICE_JOB_RESCUE_AFTER")))
+		errs = append(errs, fmt.Errorf("SLUICE_JOB_RESCUE_AFTER: %q is not a duration (e.g. 1m)", getenv("SLUICE_JOB_RESCUE_AFTER")))
+	}
+	idemRetention, err := time.ParseDuration(envOr(getenv, "SLUICE_IDEMPOTENCY_RETENTION", service.DefaultIdempotencyRetention.String()))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_IDEMPOTENCY_RETENTION: %q is not a duration (e.g. 24h)", getenv("SLUICE_IDEMPOTENCY_RETENTION")))
+	}
+	idemMaxReply, err := strconv.ParseInt(envOr(getenv, "SLUICE_IDEMPOTENCY_MAX_REPLY", strconv.Itoa(service.DefaultMaxStoredReply)), 10, 64)
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_IDEMPOTENCY_MAX_REPLY: %q is not a whole number of bytes", getenv("SLUICE_IDEMPOTENCY_MAX_REPLY")))
 	}
 	auth := true
 	switch v := strings.ToLower(getenv("SLUICE_AUTH")); v {
@@ -145,8 +176,10 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.DurationVar(&c.ShutdownGrace, "shutdown-grace", grace, "on SIGTERM, how long running plate jobs and requests may finish (SLUICE_SHUTDOWN_GRACE)")
 	fs.DurationVar(&c.SyncBudget, "sync-budget", syncBudget, "estimated CPU time a fit, Schild, potential or operational request may take before it answers; above it, queued (SLUICE_SYNC_BUDGET)")
 	fs.DurationVar(&c.WorkLimit, "work-limit", workLimit, "estimated CPU time above which a request is refused with a 422 (SLUICE_WORK_LIMIT)")
-	fs.DurationVar(&c.JobTimeout, "job-timeout", jobTimeout, "longest attempt at a queued job; 0 = 10m (SLUICE_JOB_TIMEOUT)")
-	fs.DurationVar(&c.JobRescueAfter, "job-rescue-after", jobRescue, "a job running this long is taken for orphaned and retried; ≥ --job-timeout; 0 = 11m (SLUICE_JOB_RESCUE_AFTER)")
+	fs.DurationVar(&c.JobTimeout, "job-timeout", jobTimeout, "ceiling of a queued job's timeout, which scales with its work (30s + 10 × its estimated CPU time); 0 = 10m (SLUICE_JOB_TIMEOUT)")
+	fs.DurationVar(&c.JobRescueAfter, "job-rescue-after", jobRescue, "a job running this long, and longer than its own timeout, is taken for orphaned and retried; 0 = 1m (SLUICE_JOB_RESCUE_AFTER)")
+	fs.DurationVar(&c.IdemRetention, "idempotency-retention", idemRetention, "how long a reply is kept under its Idempotency-Key (SLUICE_IDEMPOTENCY_RETENTION)")
+	fs.Int64Var(&c.IdemMaxReply, "idempotency-max-reply", idemMaxReply, "largest reply body in bytes stored under an Idempotency-Key; a larger one is not replayed (409) (SLUICE_IDEMPOTENCY_MAX_REPLY)")
 	fs.BoolVar(&c.SecureCookies, "secure-cookies", secure, "mark the dashboard's session cookie Secure on plain HTTP, behind a TLS proxy (SLUICE_SECURE_COOKIES)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
@@ -188,6 +221,12 @@ func (c *serveConfig) validate() []error {
 	}
 	if err := validateJobTiming(c.JobTimeout, c.JobRescueAfter); err != nil {
 		errs = append(errs, err)
+	}
+	if c.IdemRetention < minIdemRetention || c.IdemRetention > maxIdemRetention {
+		errs = append(errs, fmt.Errorf("--idempotency-retention / SLUICE_IDEMPOTENCY_RETENTION: %v is outside %v–%v", c.IdemRetention, minIdemRetention, maxIdemRetention))
+	}
+	if c.IdemMaxReply < minIdemMaxReply || c.IdemMaxReply > maxIdemMaxReply {
+		errs = append(errs, fmt.Errorf("--idempotency-max-reply / SLUICE_IDEMPOTENCY_MAX_REPLY: %d is outside %d–%d bytes", c.IdemMaxReply, minIdemMaxReply, maxIdemMaxReply))
 	}
 	if c.FitWorkers < 0 {
 		errs = append(errs, fmt.Errorf("--fit-workers / SLUICE_FIT_WORKERS: %d is negative", c.FitWorkers))
@@ -253,7 +292,8 @@ func (c *serveConfig) logAttrs() []any {
 		"admin_token", admin, "demo", c.Demo, "log_level", c.LogLevel, "fit_workers", c.FitWorkers, "role", c.Role,
 		"shutdown_grace", c.ShutdownGrace.String(), "migrate", !c.SkipMigrations,
 		"sync_budget", c.SyncBudget.String(), "work_limit", c.WorkLimit.String(),
-		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String(), "secure_cookies", c.SecureCookies}
+		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String(),
+		"idempotency_retention", c.IdemRetention.String(), "idempotency_max_reply", c.IdemMaxReply, "secure_cookies", c.SecureCookies}
 }
 
 // redactURL hides a URL's password.
@@ -279,31 +319,21 @@ func durationOf(w cost.Work) time.Duration {
 	return time.Duration(float64(w) * cost.NanosecondsPerUnit).Round(time.Millisecond)
 }
 
-// Bounds of --job-timeout and --job-rescue-after (when not zero), and the
-// store's defaults they replace (db.Options).
+// Bounds of --job-timeout and --job-rescue-after (when not zero).
 const (
-	minJobTiming       = time.Second
-	maxJobTiming       = 24 * time.Hour
-	defaultJobTimeout  = 10 * time.Minute
-	defaultRescueAfter = 11 * time.Minute
+	minRescueAfter = time.Second
+	maxJobTiming   = 24 * time.Hour
 )
 
+// validateJobTiming checks the two settings; they need no order between
+// them, since River's rescuer leaves a job alone until its own timeout
+// has passed too (db.RescueBound).
 func validateJobTiming(timeout, rescue time.Duration) error {
-	const names = "--job-timeout / SLUICE_JOB_TIMEOUT and --job-rescue-after / SLUICE_JOB_RESCUE_AFTER"
-	for _, d := range []time.Duration{timeout, rescue} {
-		if d != 0 && (d < minJobTiming || d > maxJobTiming) {
-			return fmt.Errorf("%s: %v is outside %v–%v (or 0 for the default)", names, d, minJobTiming, maxJobTiming)
-		}
+	if timeout != 0 && (timeout < db.MinJobTimeout || timeout > maxJobTiming) {
+		return fmt.Errorf("--job-timeout / SLUICE_JOB_TIMEOUT: %v is outside %v–%v (or 0 for %v)", timeout, db.MinJobTimeout, maxJobTiming, db.DefaultJobTimeout)
 	}
-	t, r := timeout, rescue
-	if t == 0 {
-		t = defaultJobTimeout
-	}
-	if r == 0 {
-		r = defaultRescueAfter
-	}
-	if r < t {
-		return fmt.Errorf("%s: a job is rescued after %v, before its attempt may time out (%v); want rescue ≥ timeout", names, r, t)
+	if rescue != 0 && (rescue < minRescueAfter || rescue > maxJobTiming) {
+		return fmt.Errorf("--job-rescue-after / SLUICE_JOB_RESCUE_AFTER: %v is outside %v–%v (or 0 for %v)", rescue, minRescueAfter, maxJobTiming, db.DefaultRescueAfter)
 	}
 	return nil
 }

@@ -55,8 +55,9 @@ func TestServeConfigErrorsNameTheField(t *testing.T) {
 		{nil, map[string]string{"SLUICE_SHUTDOWN_GRACE": "soon"}, "SLUICE_SHUTDOWN_GRACE"},
 		{nil, map[string]string{"SLUICE_JOB_TIMEOUT": "later"}, "SLUICE_JOB_TIMEOUT"},
 		{nil, map[string]string{"SLUICE_JOB_RESCUE_AFTER": "later"}, "SLUICE_JOB_RESCUE_AFTER"},
-		{[]string{"--job-rescue-after", "30s"}, nil, "want rescue ≥ timeout"},
-		{[]string{"--job-timeout", "20s", "--job-rescue-after", "10s"}, nil, "--job-rescue-after / SLUICE_JOB_RESCUE_AFTER"},
+		{[]string{"--job-rescue-after", "100ms"}, nil, "--job-rescue-after / SLUICE_JOB_RESCUE_AFTER"},
+		{[]string{"--job-rescue-after", "25h"}, nil, "--job-rescue-after / SLUICE_JOB_RESCUE_AFTER"},
+		{[]string{"--job-timeout", "20s"}, nil, "--job-timeout / SLUICE_JOB_TIMEOUT"}, // below db.MinJobTimeout
 		{[]string{"--job-timeout", "100ms"}, nil, "--job-timeout / SLUICE_JOB_TIMEOUT"},
 		{nil, map[string]string{"SLUICE_SECURE_COOKIES": "sometimes"}, "SLUICE_SECURE_COOKIES"},
 	}

@@ -22,22 +22,27 @@ import (
 	"sluice/db/dbtest"
 )
 
-// Queue timing of the processes of TestMultiProcess: a plate here takes
-// 1–3 s, so a 20 s attempt limit is generous, and the rescue waits no
-// longer than it must (River requires rescue ≥ timeout).
+// Queue timing of the processes of TestMultiProcess: the defaults
+// (--job-timeout 10m as the ceiling of each job's own timeout,
+// --job-rescue-after 1m). A plate here is about 1 s of work, so its own
+// timeout (service.JobTimeout) is under a minute, and an orphaned job is
+// released within the documented bound, db.RescueBound (deploy/README.md):
+// max(timeout, rescue) + River's rescuer interval (30 s) + a new leader's
+// election when the dead worker led (21 s).
 const (
-	mpJobTimeout  = 20 * time.Second
-	mpRescueAfter = 20 * time.Second
-	// mpRescueBound is the most an orphaned job may wait before it is
-	// released for another worker: the rescue time, plus River's rescuer
-	// interval (30 s; the rescuer runs on the elected leader), a new
-	// leader's election when the dead worker led (≤ 15 s TTL + 5 s
-	// interval), the span of the test's kills (≤ 10 s: a worker that led
-	// may be killed again before anyone else is elected), and 5 s to spare
-	// on a loaded machine. Being taken again then also waits for a free
-	// worker: a released job queues behind the plates already waiting.
-	mpRescueBound = mpRescueAfter + 30*time.Second + 20*time.Second + 10*time.Second + 5*time.Second
+	// mpKillSlack is added to the documented bound: the span of the
+	// test's kills (≤ 10 s: a worker that led may be killed again before
+	// anyone else is elected), and 5 s to spare on a loaded machine. Being
+	// taken again then also waits for a free worker: a released job
+	// queues behind the plates already waiting.
+	mpKillSlack = 10*time.Second + 5*time.Second
 )
+
+// mpRescueBound is the documented bound for a job whose attempt has the
+// given timeout, at the default rescue time, with mpKillSlack.
+func mpRescueBound(timeout time.Duration) time.Duration {
+	return db.RescueBound(timeout, db.DefaultRescueAfter) + mpKillSlack
+}
 
 // proc is one running process of the built binary.
 type proc struct {
@@ -64,8 +69,7 @@ func TestMultiProcess(t *testing.T) {
 	if out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput(); err != nil {
 		t.Fatalf("go build: %v\n%s", err, out)
 	}
-	env := append(os.Environ(), "SLUICE_DATABASE_URL="+dbURL, "SLUICE_AUTH=off", "SLUICE_FIT_WORKERS=1",
-		"SLUICE_JOB_TIMEOUT="+mpJobTimeout.String(), "SLUICE_JOB_RESCUE_AFTER="+mpRescueAfter.String())
+	env := append(os.Environ(), "SLUICE_DATABASE_URL="+dbURL, "SLUICE_AUTH=off", "SLUICE_FIT_WORKERS=1")
 	migrate := exec.Command(bin, "migrate")
 	migrate.Env = env
 	if out, err := migrate.CombinedOutput(); err != nil {
@@ -148,8 +152,31 @@ func TestMultiProcess(t *testing.T) {
 		kills = append(kills, k)
 		w1 = start("worker-1", "worker", w1.addr, time.Minute)
 	}
+	// Each plate job's own timeout (service.JobTimeout of its work), as
+	// its arguments carry it: all under the rescue time, so the bound is
+	// the same for all.
+	timeouts := map[int64]time.Duration{}
+	rows, err := conn.Query(ctx, "SELECT id, (args->>'timeout_ms')::bigint FROM river_job WHERE kind = $1", db.JobPlateFit)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for rows.Next() {
+		var job, ms int64
+		if err := rows.Scan(&job, &ms); err != nil {
+			t.Fatal(err)
+		}
+		timeouts[job] = time.Duration(ms) * time.Millisecond
+		if timeouts[job] < db.MinJobTimeout || timeouts[job] > db.DefaultRescueAfter {
+			t.Errorf("job %d: its own timeout %v, want [%v, %v] for a plate of about a second", job, timeouts[job], db.MinJobTimeout, db.DefaultRescueAfter)
+		}
+	}
+	if err := rows.Err(); err != nil || len(timeouts) != 40 {
+		t.Fatalf("%d plate jobs' timeouts read (%v), want 40", len(timeouts), err)
+	}
+	bound := mpRescueBound(db.DefaultRescueAfter)
+	t.Logf("documented rescue bound: %v after the attempt began (db.RescueBound), %v with the test's slack", bound-mpKillSlack, bound)
 	// Every acknowledged plate done.
-	deadline := time.Now().Add(mpRescueBound + 2*time.Minute)
+	deadline := time.Now().Add(bound + 2*time.Minute)
 	for _, id := range plates {
 		for {
 			var status string
@@ -178,7 +205,7 @@ func TestMultiProcess(t *testing.T) {
 	// plate's commit but before River recorded the job leaves a done plate
 	// whose job is rescued later (and then finds the plate done), so wait
 	// for the rescue bound.
-	deadline = time.Now().Add(mpRescueBound + 30*time.Second)
+	deadline = time.Now().Add(bound + 30*time.Second)
 	for {
 		var notDone int
 		if err := conn.QueryRow(ctx, "SELECT count(*) FROM river_job WHERE kind = $1 AND state <> 'completed'", db.JobPlateFit).Scan(&notDone); err != nil {
@@ -208,8 +235,9 @@ func TestMultiProcess(t *testing.T) {
 			}
 			t.Logf("kill %d: job %d (attempt %d) released %.1f s after its worker died, taken again after %.1f s",
 				i+1, job, attempt, released.Sub(k.at).Seconds(), taken.Sub(k.at).Seconds())
-			if wait := released.Sub(k.at); wait > mpRescueBound {
-				t.Errorf("job %d waited %v after its worker died, more than %v", job, wait, mpRescueBound)
+			if wait, b := released.Sub(k.at), mpRescueBound(timeouts[job]); wait > b {
+				t.Errorf("job %d waited %v after its worker died, more than %v (db.RescueBound of its %v timeout, and %v slack)",
+					job, wait, b, timeouts[job], mpKillSlack)
 			}
 		}
 	}

@@ -87,7 +87,7 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		log.Info("demo scenario", "fits_loaded", n)
 	}
 	srv, err := api.New(api.Config{BodyLimit: cfg.BodyLimit, AuthDisabled: cfg.AuthDisabled, FitWorkers: cfg.FitWorkers,
-		Web: web.Config{SecureCookies: cfg.SecureCookies}},
+		IdempotencyRetention: cfg.IdemRetention, MaxStoredReply: int(cfg.IdemMaxReply), Web: web.Config{SecureCookies: cfg.SecureCookies}},
 		api.Deps{Store: store, Registry: prometheus.NewRegistry(), Log: log, Budget: cfg.budget()})
 	if err != nil {
 		log.Error("build server", "err", err)
@@ -110,6 +110,13 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 			return 1
 		}
 		log.Info("workers started")
+		// Every worker sweeps (each step is idempotent): plates whose job
+		// the queue discarded are marked failed, expired idempotency
+		// records deleted.
+		sweepCtx, stopSweeps := context.WithCancel(context.WithoutCancel(ctx))
+		sweepsDone := make(chan struct{})
+		go func() { defer close(sweepsDone); svc.RunSweeps(sweepCtx, 0) }()
+		defer func() { stopSweeps(); <-sweepsDone }()
 	}
 	hs := &http.Server{
 		Handler:           handler,

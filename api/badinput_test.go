@@ -106,6 +106,14 @@ func badCatalogue(t *testing.T) []badCase {
 		bodies[rt.path], scopes[rt.path] = rt.body(0), rt.scope
 	}
 	bodies["/v1/fits"] = mutate(t, bodies["/v1/fits"], "bootstrap", `{"resamples":50,"seed":1}`)
+	// The potency routes act on stored curves: {curve} and {curve2} are
+	// fits of BAD-C in assay BAD-A that TestBadInputCatalogue stores first.
+	delete(bodies, "/v1/curves/{id}/review")
+	delete(bodies, "/v1/curves/{id}/refit")
+	const review, refit, msr = "/v1/curves/{curve}/review", "/v1/curves/{curve}/refit", "/v1/msr-studies"
+	bodies[review], scopes[review] = `{"decision":"rejected","reason":"why"}`, ScopeSubmit
+	bodies[refit], scopes[refit] = `{"exclude":[3],"reason":"why"}`, ScopeSubmit
+	bodies[msr] = `{"assay_id":"BAD-A","pairs":[{"run1":"{curve}","run2":"{curve2}"}]}`
 	texts := map[string][]string{
 		"/v1/assays":      {"id", "name", "target", "readout", "units"},
 		"/v1/compounds":   {"id", "name", "target", "readout", "units"},
@@ -115,6 +123,9 @@ func badCatalogue(t *testing.T) []badCase {
 		"/v1/schild":      {"conc_unit", "agonist_id", "antagonist_id"},
 		"/v1/potential":   {"conc_unit", "curve_id", "agonist_id", "channel.name", "cell.preset", "cell.ions.+k", "cell.resting_conductance_ns.+k", "channel.permeability.+k"},
 		"/v1/operational": {"conc_unit"},
+		review:            {"decision", "reason", "+k"},
+		refit:             {"reason", "exclude.0", "+k"},
+		msr:               {"assay_id", "pairs.0.run1", "pairs.0.run2", "+k"},
 	}
 	for path, fields := range texts {
 		for _, f := range fields {
@@ -137,6 +148,10 @@ func badCatalogue(t *testing.T) []badCase {
 			"partial.0.response=null"},
 		"/v1/potential": {"agonist_conc=[null]", "agonist_conc=[-1]", "agonist_conc=[1e999]", "channel.count=-1", "channel.conductance_ps=-5",
 			"channel.mg_mm=-1", "cell.temperature_c=-300", "hill.po_max=2", "hill.po_max=-0.1", "hill.hill=null", "po_max=2", "cell.ions.k.out=-1"},
+		review: {"decision=1", "decision=null", "reason=2", "reason=[]"},
+		refit: {"exclude=[-1]", "exclude=[16]", "exclude=[1e999]", "exclude=[0.5]", "exclude=[[1]]", "exclude=null", "exclude=[]", "exclude={}",
+			"exclude=[0,0]", "reason=1"},
+		msr: {"pairs=[]", "pairs=null", "pairs.0={}", "pairs.0.run1=1", "run1=[1]", "assay_id=7"},
 	}
 	// A missing or unknown concentration unit on every body that sends
 	// concentrations.
@@ -246,6 +261,63 @@ func badCatalogue(t *testing.T) []badCase {
 		add(badCase{name: "grid layout_id " + v.name, path: "/v1/plates?conc_unit=M&format=96&barcode=G&layout_id=" + v.esc, scope: ScopeSubmit, body: full("1"),
 			hdr: []string{"Content-Type", "text/csv"}})
 	}
+	// PUT a drift baseline (admin): bad numbers, text, unknown members,
+	// broken JSON, an unknown metric.
+	const baseline = "/v1/assays/BAD-A/baselines/z_prime"
+	for _, b := range []string{`{"mean":1e999,"sd":0.05}`, `{"mean":0.7,"sd":-1}`, `{"mean":0.7,"sd":0}`, `{"mean":0.7}`, `{"mean":"x","sd":0.05}`,
+		`{"mean":0.7,"sd":0.05,"colour":"red"}`, `{"plates":[1]}`, `{"plates":[]}`, `{"plates":["no-such-plate"]}`, `{"auto":true,"runs":-1}`,
+		`{"auto":true,"mean":0.7,"sd":0.05}`, `{"mean":0.7,`, `[]`, ` `, "\xff{}"} {
+		add(badCase{name: "body PUT " + baseline + " " + b, method: "PUT", path: baseline, scope: ScopeAdmin, body: b})
+	}
+	for _, v := range badText {
+		add(badCase{name: "text PUT " + baseline + " plates " + v.name, method: "PUT", path: baseline, scope: ScopeAdmin,
+			body: `{"plates":[` + v.lit + `]}`})
+	}
+	for _, v := range badQuery {
+		add(badCase{name: "path PUT baselines metric " + v.name, method: "PUT", path: "/v1/assays/BAD-A/baselines/" + v.esc, scope: ScopeAdmin,
+			body: `{"mean":0.7,"sd":0.05}`})
+	}
+	add(badCase{name: "path PUT baselines unknown metric", method: "PUT", path: "/v1/assays/BAD-A/baselines/zz", scope: ScopeAdmin,
+		body: `{"mean":0.7,"sd":0.05}`})
+	// Path parameters of the potency and drift reads.
+	for _, p := range []string{"/v1/compounds/%s/potency", "/v1/compounds/%s/potency.svg", "/v1/assays/%s/potency", "/v1/plates/%s/wells",
+		"/v1/assays/%s/drift", "/v1/assays/%s/drift.svg", "/v1/curves/%s", "/v1/curves/%s/plot.svg", "/v1/msr-studies/%s"} {
+		for _, v := range badQuery {
+			add(badCase{name: fmt.Sprintf("path %s %s", p, v.name), method: "GET", path: fmt.Sprintf(p, v.esc), scope: ScopeRead})
+		}
+	}
+	// Their query parameters: bad text, bad numbers and times, unknown
+	// and repeated parameters, bad cursors.
+	queries := map[string][]string{
+		"/v1/compounds/BAD-C/potency": {"include=maybe", "from=yesterday", "to=2026-13-45T00:00:00Z", "msr_window=2", "msr_window=abc",
+			"msr_window=1e9", "assay_id=NO-SUCH-ASSAY", "colour=red", "include=all&include=usable"},
+		"/v1/compounds/BAD-C/potency.svg": {"from=yesterday", "msr_window=2", "msr_window=abc", "include=all", "assay_id=NO-SUCH-ASSAY", "colour=red"},
+		"/v1/assays/BAD-A/potency": {"sort=potency", "sort=-", "sort=--n", "sort=msr&msr_window=4", "limit=0", "limit=abc", "limit=1001",
+			"limit=-1", "cursor=garbage", "cursor=bm90LWEtY3Vyc29y", "cursor=eyJzIjoibiIsInYiOm51bGwsImMiOiIifQ", "msr_window=2",
+			"format=xml", "colour=red", "sort=n&sort=-n"},
+		"/v1/plates":                 {"limit=-1", "limit=abc", "limit=1001", "from=yesterday", "to=2026-13-45T00:00:00Z", "cursor=garbage", "colour=red"},
+		"/v1/assays/BAD-A/drift":     {"metric=zz", "from=yesterday", "to=2026-13-45T00:00:00Z", "colour=red"},
+		"/v1/assays/BAD-A/drift.svg": {"metric=zz", "from=yesterday", "colour=red"},
+		"/v1/drift":                  {"colour=red", "assay_id=BAD-A"},
+	}
+	text := map[string][]string{
+		"/v1/compounds/BAD-C/potency":     {"assay_id", "from", "include"},
+		"/v1/compounds/BAD-C/potency.svg": {"assay_id"},
+		"/v1/assays/BAD-A/potency":        {"sort", "cursor", "format"},
+		"/v1/plates":                      {"assay_id", "barcode", "cursor"},
+		"/v1/assays/BAD-A/drift":          {"metric"},
+		"/v1/assays/BAD-A/drift.svg":      {"metric"},
+	}
+	for path, qs := range queries {
+		for _, q := range qs {
+			add(badCase{name: "query " + path + " " + q, method: "GET", path: path + "?" + q, scope: ScopeRead})
+		}
+		for _, q := range text[path] {
+			for _, v := range badQuery {
+				add(badCase{name: fmt.Sprintf("query %s %s %s", path, q, v.name), method: "GET", path: path + "?" + q + "=" + v.esc, scope: ScopeRead})
+			}
+		}
+	}
 	sort.Slice(cs, func(i, j int) bool { return cs[i].name < cs[j].name })
 	return cs
 }
@@ -286,13 +358,25 @@ func TestBadInputCatalogue(t *testing.T) {
 		if w := ts.do("POST", "/v1/layouts", ScopeSubmit, badLayout96()); w.Code != 201 {
 			t.Fatalf("layout: %d %s", w.Code, w.Body)
 		}
+		catalogue(t, ts, "BAD-A", "BAD-C")
+		curve := storeFit(t, ts, `,"assay_id":"BAD-A","compound_id":"BAD-C"`)
+		curve2 := storeFit(t, ts, `,"assay_id":"BAD-A","compound_id":"BAD-C","labels":{"run":"2"}`)
+		subst := strings.NewReplacer("{curve}", curve, "{curve2}", curve2)
 		ctx := context.Background()
 		count := func() string {
 			es, err := store.Audit(ctx, 1<<20)
 			if err != nil {
 				t.Fatal(err)
 			}
-			return fmt.Sprintf("%d audit entries, %d fits", len(es), ts.runs())
+			curves, err := store.CompoundPotency(ctx, db.PotencyFilter{CompoundID: "BAD-C"})
+			if err != nil {
+				t.Fatal(err)
+			}
+			reviews, err := store.Reviews(ctx, []string{curve, curve2})
+			if err != nil {
+				t.Fatal(err)
+			}
+			return fmt.Sprintf("%d audit entries, %d fits, %d curves and %d reviews of BAD-C", len(es), ts.runs(), len(curves), len(reviews))
 		}
 		before := count()
 		got := map[string]int{}
@@ -300,11 +384,11 @@ func TestBadInputCatalogue(t *testing.T) {
 		for i, c := range cases {
 			key := fmt.Sprintf("bad-%d", i)
 			var hdr []string
-			if c.method == "POST" {
+			if c.method == "POST" || c.method == "PUT" {
 				hdr = []string{"Idempotency-Key", key}
 			}
 			hdr = append(hdr, c.hdr...)
-			w := ts.doRaw(c.method, c.path, c.scope, c.body, hdr...)
+			w := ts.doRaw(c.method, subst.Replace(c.path), c.scope, subst.Replace(c.body), hdr...)
 			got[c.name] = w.Code
 			switch {
 			case w.Code >= 500:
@@ -327,8 +411,8 @@ func TestBadInputCatalogue(t *testing.T) {
 				t.Errorf("%s: %d, and the store went from %s to %s", c.name, w.Code, before, after)
 				before = after
 			}
-			if c.method == "POST" {
-				for _, scope := range []string{ScopeRead, ScopeSubmit} {
+			if c.method == "POST" || c.method == "PUT" {
+				for _, scope := range []string{ScopeRead, ScopeSubmit, ScopeAdmin} {
 					if _, err := store.Idempotent(ctx, "test-"+scope, key); !errors.Is(err, db.ErrNotFound) {
 						t.Errorf("%s: idempotency record for %s: %v", c.name, key, err)
 					}
@@ -362,7 +446,7 @@ func (ts *testServer) doRaw(method, path, scope, body string, hdr ...string) *ht
 	}
 	req.URL = u
 	req.RequestURI = path
-	if method == "POST" {
+	if method == "POST" || method == "PUT" {
 		req.Header.Set("Content-Type", "application/json")
 	}
 	if scope != "" {

@@ -84,6 +84,7 @@ func TestMetricLabelsBounded(t *testing.T) {
 		"status": regexp.MustCompile(`^[a-z_]+$`).MatchString, // lm.Status strings
 		"engine": func(v string) bool { return v == "sqlite" || v == "postgres" },
 		"kind":   func(v string) bool { return v == db.JobPlateFit || v == db.JobAnalysis },
+		"cause":  func(v string) bool { return v == causeUnavailable || v == causeInternal },
 		// Drift: assays are created by hand (tens), metrics and rules are
 		// fixed lists.
 		"assay_id": func(v string) bool { _, err := ts.store.Assay(context.Background(), v); return err == nil },

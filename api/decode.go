@@ -9,6 +9,7 @@ import (
 	"fmt"
 	"io"
 	"mime"
+	"net"
 	"net/http"
 	"strconv"
 	"strings"
@@ -23,6 +24,10 @@ func readBody(c *gin.Context) ([]byte, error) {
 	var mbe *http.MaxBytesError
 	if errors.As(err, &mbe) {
 		return nil, &service.Error{Kind: errTooLarge, Detail: fmt.Sprintf("the body is larger than the limit of %d bytes", mbe.Limit)}
+	}
+	var ne net.Error
+	if errors.As(err, &ne) && ne.Timeout() {
+		return nil, &service.Error{Kind: errBodyTimeout, Detail: "the body did not arrive in time: " + bodyPace}
 	}
 	if err != nil {
 		return nil, &service.Error{Kind: errBadRequest, Detail: "reading the body: " + err.Error()}

@@ -17,13 +17,28 @@ func (s *Server) healthz(c *gin.Context) {
 	c.JSON(http.StatusOK, gin.H{"status": "ok"})
 }
 
-// readyz says the database answers within a second.
+// readyTimeout bounds the readiness probe's ping.
+const readyTimeout = time.Second
+
+// readyz says the database answers within readyTimeout; if not, it answers
+// 503 (with Retry-After) saying why: no answer in time (frozen, or
+// overloaded) or no connection at all (refused, reset, starting up). The
+// process itself may be fine: /healthz stays 200, so an orchestrator takes
+// the replica out of service without restarting it.
 func (s *Server) readyz(c *gin.Context) {
-	ctx, cancel := context.WithTimeout(c.Request.Context(), time.Second)
+	ctx, cancel := context.WithTimeout(c.Request.Context(), readyTimeout)
 	defer cancel()
 	if err := s.store.Ping(ctx); err != nil {
+		if c.Request.Context().Err() != nil {
+			s.writeProblem(c, err) // the prober went away: 499
+			return
+		}
+		reason := "cannot be reached (connection refused, lost or not accepted)"
+		if ctx.Err() != nil {
+			reason = "did not answer within " + readyTimeout.String()
+		}
 		s.log.Warn("not ready", "err", err)
-		s.writeProblem(c, &service.Error{Kind: errUnavailable, Detail: "the " + s.store.Engine() + " database does not answer"})
+		s.writeProblem(c, &service.Error{Kind: errUnavailable, Detail: "the " + s.store.Engine() + " database " + reason})
 		return
 	}
 	c.JSON(http.StatusOK, gin.H{"status": "ready", "database": s.store.Engine()})

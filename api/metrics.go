@@ -23,8 +23,22 @@ type metrics struct {
 	resamples     prometheus.Counter
 	failedRefits  prometheus.Counter
 	plateDuration prometheus.Histogram
+	serverErrors  *prometheus.CounterVec
+	connsOpen     prometheus.Gauge
+	connsRefused  prometheus.Counter
 	drift         driftMetrics
 }
+
+// Causes of a server error (the label cause of sluice_server_errors_total):
+// an outage the client may retry (503: the database is unreachable or did
+// not answer within its deadline) or a fault of Sluice itself (500).
+const (
+	causeUnavailable = "unavailable"
+	causeInternal    = "internal"
+)
+
+// serverError counts a 5xx answer by its cause.
+func (m *metrics) serverError(cause string) { m.serverErrors.WithLabelValues(cause).Inc() }
 
 func newMetrics(reg prometheus.Registerer, store db.Store, log *slog.Logger) (*metrics, error) {
 	m := &metrics{
@@ -52,9 +66,22 @@ func newMetrics(reg prometheus.Registerer, store db.Store, log *slog.Logger) (*m
 			Name: "sluice_plate_fit_duration_seconds", Help: "Time to fit every curve of a plate.",
 			Buckets: prometheus.ExponentialBuckets(0.01, 2, 14),
 		}),
+		serverErrors: prometheus.NewCounterVec(prometheus.CounterOpts{
+			Name: "sluice_server_errors_total",
+			Help: "5xx answers by cause: unavailable (503, the database is down or frozen; retry later) or internal (500, a fault to investigate in the logs).",
+		}, []string{"cause"}),
+		connsOpen: prometheus.NewGauge(prometheus.GaugeOpts{
+			Name: "sluice_http_connections_open", Help: "HTTP connections open, counted against the cap (--max-conns).",
+		}),
+		connsRefused: prometheus.NewCounter(prometheus.CounterOpts{
+			Name: "sluice_http_connections_refused_total", Help: "HTTP connections refused with a 503 because the cap (--max-conns) was reached.",
+		}),
 		drift: newDriftMetrics(),
 	}
-	cs := []prometheus.Collector{m.requests, m.duration, m.fits, m.fitDuration, m.resamples, m.failedRefits, m.plateDuration,
+	// Both causes exist from the start, so that rate() sees the first one.
+	m.serverErrors.WithLabelValues(causeUnavailable)
+	m.serverErrors.WithLabelValues(causeInternal)
+	cs := []prometheus.Collector{m.requests, m.duration, m.serverErrors, m.connsOpen, m.connsRefused, m.fits, m.fitDuration, m.resamples, m.failedRefits, m.plateDuration,
 		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{})}
 	cs = append(cs, m.drift.collectors()...)
 	if store != nil {

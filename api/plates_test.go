@@ -115,7 +115,7 @@ func TestPlateJSONEndToEnd(t *testing.T) {
 			t.Errorf("curves.csv: %d, %d lines", csvOut.Code, lines)
 		}
 		hm := ts.do("GET", "/v1/plates/"+v.PlateID+"/heatmap.svg", ScopeRead, "")
-		if hm.Code != 200 || strings.Count(hm.Body.String(), "<rect")-strings.Count(hm.Body.String(), `class="colourbar"`) != 385 || !strings.Contains(hm.Body.String(), "QC pass") {
+		if hm.Code != 200 || strings.Count(hm.Body.String(), `class="well `) != 384 || !strings.Contains(hm.Body.String(), "QC pass") {
 			t.Errorf("heatmap: %d", hm.Code)
 		}
 	})

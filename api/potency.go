@@ -91,15 +91,7 @@ func (s *Server) potencyQuery(c *gin.Context) (service.PotencyQuery, bool) {
 // assayPotency is GET /v1/assays/{id}/potency: the assay's compound table,
 // one page, as JSON or (format=csv or Accept: text/csv) CSV.
 func (s *Server) assayPotency(c *gin.Context) {
-	q := service.AssayPotencyQuery{AssayID: c.Param("id"), Cursor: c.Query("cursor")}
-	switch v := c.DefaultQuery("sort", "compound_id"); v {
-	case "compound_id":
-	case "-compound_id":
-		q.Desc = true
-	default:
-		s.writeProblem(c, badParameter("sort", "sort must be compound_id or -compound_id, got %q", v))
-		return
-	}
+	q := service.AssayPotencyQuery{AssayID: c.Param("id"), Cursor: c.Query("cursor"), Sort: c.Query("sort")}
 	if !s.intParam(c, "limit", 1, db.MaxListLimit, &q.Limit) || !s.intParam(c, "msr_window", 3, 1000, &q.MSRWindow) {
 		return
 	}

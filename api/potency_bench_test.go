@@ -152,6 +152,16 @@ func BenchmarkPotency(b *testing.B) {
 	}
 	hs := httptest.NewServer(srv.Handler())
 	defer hs.Close()
+	// Seeding by COPY leaves every compound's summary stale; the first
+	// read of each assay's table computes them (once), outside the timing.
+	for a := range benchAssays {
+		resp, err := http.Get(fmt.Sprintf("%s/v1/assays/BA-%02d/potency", hs.URL, a))
+		if err != nil {
+			b.Fatal(err)
+		}
+		_, _ = io.Copy(io.Discard, resp.Body)
+		resp.Body.Close()
+	}
 	rng := rand.New(rand.NewPCG(3, 4))
 	for _, c := range []struct {
 		name string

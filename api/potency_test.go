@@ -1,6 +1,7 @@
 package api
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -233,6 +234,20 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 				t.Fatalf("plate: %.600s", w.Body)
 			}
 			plates = append(plates, acc.PlateID)
+		}
+		// Each plate job summarises its compounds for the assay's table
+		// itself, just after the plate is done: no read has to.
+		for deadline := time.Now().Add(20 * time.Second); ; time.Sleep(20 * time.Millisecond) {
+			stale, err := store.PotencyStale(context.Background(), "H-A")
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !stale {
+				break
+			}
+			if time.Now().After(deadline) {
+				t.Fatal("20 s after the plate jobs the table still has stale summaries")
+			}
 		}
 		var fits []string
 		for k, l := range []float64{-7.4, -7.1, -7.3} {

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"net/http"
 	"strings"
+	"time"
 
 	"github.com/gin-gonic/gin"
 
@@ -42,7 +43,13 @@ var (
 	errNotFoundRoute   = status.ErrNotFoundRoute
 	errMethod          = status.ErrMethod
 	errUnavailable     = status.ErrUnavailable
+	errBodyTimeout     = status.ErrBodyTimeout
 )
+
+// retryAfter is the Retry-After (RFC 9110 §10.2.3) of a 503: the database
+// is down or frozen, so try again in a few seconds (after a restart, the
+// pool reconnects within 1–6 s).
+const retryAfter = "5"
 
 // statusOf maps an error to HTTP: the one table in api/status.
 func statusOf(err error) int { return status.Of(err) }
@@ -78,13 +85,37 @@ func (s *Server) writeProblem(c *gin.Context, err error) {
 		return
 	}
 	status := statusOf(err)
+	if bodyUnread(c) {
+		// Answered before the body was read (401, 403, 413, a bad
+		// parameter, …): close the connection rather than read a body
+		// no one will use, so that a client cannot hold it by sending
+		// slowly. Connection: close stops net/http from draining the body
+		// to reuse the connection, but closing the body after the handler
+		// still reads up to 256 KiB of it: the read deadline, moved to
+		// now, ends that read at once.
+		c.Header("Connection", "close")
+		http.NewResponseController(c.Writer).SetReadDeadline(time.Now())
+	}
 	p := Problem{Status: status, Title: http.StatusText(status), Instance: c.Request.URL.Path}
 	p.Type = problemType + strings.ReplaceAll(strings.ToLower(p.Title), " ", "-")
 	var re *service.Error
 	switch {
+	case status == http.StatusServiceUnavailable:
+		// An outage, not a bug: the client may retry; the operator reads
+		// sluice_server_errors_total{cause="unavailable"} and /readyz.
+		c.Header("Retry-After", retryAfter)
+		s.metrics.serverError(causeUnavailable)
+		if errors.As(err, &re) {
+			p.Detail = re.Detail
+		} else {
+			s.log.Warn("database unavailable", "path", c.Request.URL.Path, "err", err)
+			p.Detail = "the database is unavailable; nothing was changed; try again later"
+		}
 	case status >= 500 && errors.As(err, &re):
+		s.metrics.serverError(causeInternal)
 		p.Detail = re.Detail
 	case status >= 500:
+		s.metrics.serverError(causeInternal)
 		s.log.Error("request failed", "path", c.Request.URL.Path, "err", err)
 		p.Detail = "internal error; the request was not completed"
 	case errors.As(err, &re):

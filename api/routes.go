@@ -136,31 +136,29 @@ func (s *Server) recoverer(c *gin.Context) {
 	c.Next()
 }
 
-// limitBody caps every request body (http.MaxBytesReader); reading past
-// the cap fails with a 413 problem.
-func (s *Server) limitBody(c *gin.Context) {
-	if c.Request.ContentLength > s.cfg.BodyLimit {
-		s.writeProblem(c, &service.Error{Kind: errTooLarge, Detail: "the body is larger than the limit of " +
-			strconv.FormatInt(s.cfg.BodyLimit, 10) + " bytes"})
-		return
-	}
-	c.Request.Body = http.MaxBytesReader(c.Writer, c.Request.Body, s.cfg.BodyLimit)
-	c.Next()
-}
-
 // knownParams refuses a query parameter the route does not take
-// (queryParams).
+// (queryParams), and one given more than once.
 func (s *Server) knownParams(c *gin.Context) {
 	if c.FullPath() == "" || !apiPath(c.FullPath()) {
 		c.Next() // no such route (NoRoute or NoMethod answers), or a page
 		return
 	}
 	allowed := queryParams[c.Request.Method+" "+c.FullPath()]
-	var unknown []string
-	for name := range c.Request.URL.Query() {
+	var unknown, repeated []string
+	for name, vs := range c.Request.URL.Query() {
 		if !slices.Contains(allowed, name) {
 			unknown = append(unknown, name)
+		} else if len(vs) > 1 {
+			repeated = append(repeated, name)
 		}
+	}
+	if len(unknown) == 0 && len(repeated) > 0 {
+		// Which one would count is a guess; every parameter takes one value.
+		slices.Sort(repeated)
+		n := len(c.Request.URL.Query()[repeated[0]])
+		d := fmt.Sprintf("query parameter %q is given %d times; give it once", repeated[0], n)
+		s.writeProblem(c, &service.Error{Kind: errBadRequest, Detail: d, Fields: []FieldError{{Parameter: repeated[0], Detail: d}}})
+		return
 	}
 	if len(unknown) == 0 {
 		c.Next()

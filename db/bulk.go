@@ -45,8 +45,10 @@ type bulkCopier interface {
 
 // copyRows bulk-loads rows with COPY.
 func (t pgTx) copyRows(ctx context.Context, table string, cols []string, rows [][]any) error {
+	ctx, cancel := within(ctx, t.at)
+	defer cancel()
 	_, err := t.tx.CopyFrom(ctx, pgx.Identifier{table}, cols, pgx.CopyFromRows(rows))
-	return err
+	return timedOut(ctx, err)
 }
 
 const wellCols = "plate_id, well, row_index, col_index, role, compound_id, conc, value, antagonist_id, antagonist_conc"

@@ -1,8 +1,12 @@
 package db
 
 import (
+	"context"
 	"errors"
+	"io"
+	"net"
 	"strconv"
+	"syscall"
 )
 
 // Errors of the store, whatever the engine. Callers test for them with
@@ -20,6 +24,14 @@ var (
 	// value outside a column's checks (PostgreSQL SQLSTATE class 22, check
 	// and not-null violations; SQLite CHECK and NOT NULL constraints).
 	ErrInvalid = errors.New("invalid value")
+	// ErrUnavailable: the database cannot be reached or did not answer in
+	// time: a refused, reset or lost connection, no pooled connection
+	// free within the call deadline, the server starting up or shutting
+	// down (PostgreSQL SQLSTATE class 08 and 57P01–57P03), too many
+	// connections (53300), a SQLite lock held past busy_timeout, or the
+	// store's own call deadline (Options.CallTimeout). Nothing was
+	// written; the same request may succeed later.
+	ErrUnavailable = errors.New("database unavailable")
 )
 
 // Error is an error of one store operation. Its text names the operation,
@@ -66,7 +78,28 @@ func (e *Error) Unwrap() error { return e.Err }
 func (e *Error) Cause() error { return e.cause }
 
 func isSentinel(err error) bool {
-	return err == ErrNotFound || err == ErrExists || err == ErrReference || err == ErrInvalid
+	return err == ErrNotFound || err == ErrExists || err == ErrReference || err == ErrInvalid || err == ErrUnavailable
+}
+
+// unreachable reports the errors of a database that cannot be reached,
+// whatever the engine: the store's call deadline passed, or the network
+// refused, reset or closed the connection. A call its caller cancelled
+// (a client that went away) is not one, whatever the driver said.
+func unreachable(err error) bool {
+	if errors.Is(err, errCallDeadline) {
+		return true
+	}
+	if errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded) {
+		return false
+	}
+	for _, e := range []error{syscall.ECONNREFUSED, syscall.ECONNRESET, syscall.ECONNABORTED, syscall.EPIPE,
+		syscall.EHOSTUNREACH, syscall.ENETUNREACH, syscall.ETIMEDOUT, io.ErrUnexpectedEOF, io.EOF, net.ErrClosed} {
+		if errors.Is(err, e) {
+			return true
+		}
+	}
+	var ne net.Error
+	return errors.As(err, &ne) && ne.Timeout()
 }
 
 // opError wraps err as the error of op on key: categorised by classify,

@@ -37,6 +37,16 @@ type Options struct {
 	// released.
 	JobTimeout, RescueAfter time.Duration
 
+	// CallTimeout bounds every call to the database: one read, or one
+	// Write's transaction with all its statements. A call still running
+	// at its deadline is cancelled and fails with ErrUnavailable (the API
+	// answers 503), so that a frozen database never holds a caller
+	// forever; a SQLite writer also waits for another's lock at most this
+	// long. Zero means DefaultCallTimeout (15 s); range MinCallTimeout
+	// (100 ms) to MaxCallTimeout (10 min). Migrations and the job queue's
+	// own housekeeping are not bounded by it (River has its own timeouts).
+	CallTimeout time.Duration
+
 	// Logger receives the job queue's (River's) logs, so that they join
 	// the service's own (JSON in `sluice serve`). Nil means River's
 	// default: text on standard output.
@@ -44,6 +54,14 @@ type Options struct {
 
 	// to is the version Migrate migrates to; 0 means the latest.
 	to int64
+}
+
+// callTimeout is CallTimeout or its default.
+func (o Options) callTimeout() time.Duration {
+	if o.CallTimeout == 0 {
+		return DefaultCallTimeout
+	}
+	return o.CallTimeout
 }
 
 // Open opens the store: PostgreSQL when url is a postgres:// URL, else the

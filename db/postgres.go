@@ -18,6 +18,8 @@ import (
 // pgEngine is PostgreSQL through a pgx pool.
 type pgEngine struct {
 	pool *pgxpool.Pool
+	// timeout bounds every call (Options.CallTimeout).
+	timeout time.Duration
 }
 
 // openPostgres connects a pool to url and migrates (or checks) the schema.
@@ -49,7 +51,7 @@ func openPostgres(ctx context.Context, url string, o Options) (*sqlStore, error)
 		pool.Close()
 		return nil, err
 	}
-	return &sqlStore{e: &pgEngine{pool: pool}, q: q}, nil
+	return &sqlStore{e: &pgEngine{pool: pool, timeout: o.callTimeout()}, q: q, timeout: o.callTimeout()}, nil
 }
 
 // migrationLock is the key of the PostgreSQL advisory lock held while
@@ -83,25 +85,42 @@ func pgMigrate(ctx context.Context, pool *pgxpool.Pool, driver riverdriver.Drive
 	return m.up(ctx, o.to)
 }
 
+// exec, queryRow and query each run under a call deadline of their own
+// (deadline.go); pgx's default context handler sets the connection's
+// deadline when it passes, so even a peer that never answers lets go.
 func (e *pgEngine) exec(ctx context.Context, q string, args ...any) (int64, error) {
-	tag, err := e.pool.Exec(ctx, q, args...)
-	return tag.RowsAffected(), err
+	return boundExec(ctx, deadline(e.timeout), func(ctx context.Context) (int64, error) {
+		tag, err := e.pool.Exec(ctx, q, args...)
+		return tag.RowsAffected(), err
+	})
 }
 
 func (e *pgEngine) queryRow(ctx context.Context, q string, args ...any) rowScanner {
-	return e.pool.QueryRow(ctx, q, args...)
+	return boundQueryRow(ctx, deadline(e.timeout), func(ctx context.Context) rowScanner { return e.pool.QueryRow(ctx, q, args...) })
 }
 
 func (e *pgEngine) query(ctx context.Context, q string, args ...any) (rowsScanner, error) {
-	return e.pool.Query(ctx, q, args...)
+	return boundQuery(ctx, deadline(e.timeout), func(ctx context.Context) (rowsScanner, error) { return e.pool.Query(ctx, q, args...) })
 }
 
 // inTx runs fn in one transaction (BEGIN … COMMIT), rolled back when fn
 // returns an error. Each statement's error reaches fn as it happens; bulk
 // rows go out in one round trip inside it (COPY for wells, a pipelined
-// pgx.Batch for curves).
+// pgx.Batch for curves). The transaction, every statement in it included,
+// ends within one call deadline.
 func (e *pgEngine) inTx(ctx context.Context, fn func(querier) error) error {
-	return pgx.BeginFunc(ctx, e.pool, func(tx pgx.Tx) error { return fn(pgTx{tx}) })
+	at := deadline(e.timeout)
+	ctx, cancel := within(ctx, at)
+	defer cancel()
+	var fnErr error
+	err := pgx.BeginFunc(ctx, e.pool, func(tx pgx.Tx) error {
+		fnErr = fn(pgTx{tx: tx, at: at})
+		return fnErr
+	})
+	if fnErr != nil {
+		return err // fn's own, classified by the statement that failed
+	}
+	return timedOut(ctx, err)
 }
 
 // copyWells bulk-loads wells with COPY.
@@ -110,16 +129,23 @@ func (t pgTx) copyWells(ctx context.Context, plateID string, wells []WellRow) er
 	for i, w := range wells {
 		rows[i] = []any{plateID, w.Well, w.Row, w.Col, w.Role, w.CompoundID, w.Conc, w.Value, w.AntagonistID, w.AntagonistConc}
 	}
+	ctx, cancel := within(ctx, t.at)
+	defer cancel()
 	_, err := t.tx.CopyFrom(ctx, pgx.Identifier{"wells"},
 		[]string{"plate_id", "well", "row_index", "col_index", "role", "compound_id", "conc", "value", "antagonist_id", "antagonist_conc"},
 		pgx.CopyFromRows(rows))
-	return err
+	return timedOut(ctx, err)
 }
 
-func (e *pgEngine) ping(ctx context.Context) error { return e.pool.Ping(ctx) }
-func (e *pgEngine) close()                         { e.pool.Close() }
-func (e *pgEngine) name() string                   { return "postgres" }
-func (e *pgEngine) timeArg(t time.Time) any        { return t.UTC() }
+func (e *pgEngine) ping(ctx context.Context) error {
+	ctx, cancel := within(ctx, deadline(e.timeout))
+	defer cancel()
+	return timedOut(ctx, e.pool.Ping(ctx))
+}
+
+func (e *pgEngine) close()                  { e.pool.Close() }
+func (e *pgEngine) name() string            { return "postgres" }
+func (e *pgEngine) timeArg(t time.Time) any { return t.UTC() }
 
 func (e *pgEngine) stats() PoolStats {
 	s := e.pool.Stat()
@@ -127,16 +153,28 @@ func (e *pgEngine) stats() PoolStats {
 }
 
 // classify maps pgx's errors and SQLSTATEs (PostgreSQL documentation,
-// Appendix A, "PostgreSQL Error Codes") to the store's categories.
+// Appendix A, "PostgreSQL Error Codes") to the store's categories. A
+// failed connection attempt (pgconn.ConnectError: refused, the server
+// starting up, too many clients) and a lost connection are ErrUnavailable.
 func (e *pgEngine) classify(err error) error {
 	if errors.Is(err, pgx.ErrNoRows) {
 		return ErrNotFound
+	}
+	var ce *pgconn.ConnectError
+	if unreachable(err) || errors.As(err, &ce) {
+		return ErrUnavailable
 	}
 	var pe *pgconn.PgError
 	if !errors.As(err, &pe) {
 		return nil
 	}
 	switch {
+	case strings.HasPrefix(pe.Code, "08"): // class 08, connection exception
+		return ErrUnavailable
+	case pe.Code == "57P01", pe.Code == "57P02", pe.Code == "57P03": // admin_shutdown, crash_shutdown, cannot_connect_now
+		return ErrUnavailable
+	case pe.Code == "53300": // too_many_connections: the server is full, not the request at fault
+		return ErrUnavailable
 	case pe.Code == "23505": // unique_violation
 		return ErrExists
 	case pe.Code == "23503": // foreign_key_violation
@@ -149,12 +187,20 @@ func (e *pgEngine) classify(err error) error {
 	return nil
 }
 
-// pgTx adapts a transaction.
-type pgTx struct{ tx pgx.Tx }
+// pgTx adapts a transaction; its statements end by the transaction's
+// deadline at.
+type pgTx struct {
+	tx pgx.Tx
+	at time.Time
+}
+
+func (t pgTx) deadline() time.Time { return t.at }
 
 func (t pgTx) exec(ctx context.Context, q string, args ...any) (int64, error) {
-	tag, err := t.tx.Exec(ctx, q, args...)
-	return tag.RowsAffected(), err
+	return boundExec(ctx, t.at, func(ctx context.Context) (int64, error) {
+		tag, err := t.tx.Exec(ctx, q, args...)
+		return tag.RowsAffected(), err
+	})
 }
 
 // execMany runs one statement for many rows as one pipelined batch inside
@@ -164,13 +210,15 @@ func (t pgTx) execMany(ctx context.Context, q string, rows [][]any) error {
 	for _, r := range rows {
 		b.Queue(q, r...)
 	}
-	return t.tx.SendBatch(ctx, &b).Close()
+	ctx, cancel := within(ctx, t.at)
+	defer cancel()
+	return timedOut(ctx, t.tx.SendBatch(ctx, &b).Close())
 }
 
 func (t pgTx) queryRow(ctx context.Context, q string, args ...any) rowScanner {
-	return t.tx.QueryRow(ctx, q, args...)
+	return boundQueryRow(ctx, t.at, func(ctx context.Context) rowScanner { return t.tx.QueryRow(ctx, q, args...) })
 }
 
 func (t pgTx) query(ctx context.Context, q string, args ...any) (rowsScanner, error) {
-	return t.tx.Query(ctx, q, args...)
+	return boundQuery(ctx, t.at, func(ctx context.Context) (rowsScanner, error) { return t.tx.Query(ctx, q, args...) })
 }

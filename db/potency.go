@@ -121,6 +121,12 @@ func (s *sqlStore) AssayPotency(ctx context.Context, assayID string, compoundIDs
 	if len(compoundIDs) == 0 {
 		return nil, nil
 	}
+	q, args := assayPotencyQuery(assayID, compoundIDs)
+	return s.potencyRows(ctx, "AssayPotency", assayID, q, args...)
+}
+
+// assayPotencyQuery is AssayPotency's statement.
+func assayPotencyQuery(assayID string, compoundIDs []string) (string, []any) {
 	args := []any{assayID}
 	marks := make([]string, len(compoundIDs))
 	for i, id := range compoundIDs {
@@ -129,7 +135,7 @@ func (s *sqlStore) AssayPotency(ctx context.Context, assayID string, compoundIDs
 	}
 	q := "SELECT " + potencyCols + potencyFrom + " WHERE c.assay_id = $1 AND c.compound_id IN (" + strings.Join(marks, ", ") + ")" +
 		" ORDER BY c.compound_id, c.measured_at, c.id LIMIT " + strconv.Itoa(MaxPotencyRows+1)
-	return s.potencyRows(ctx, "AssayPotency", assayID, q, args...)
+	return q, args
 }
 
 // CurvePotency returns one curve as a potency row.
@@ -142,21 +148,27 @@ func (s *sqlStore) CurvePotency(ctx context.Context, id string) (*PotencyRow, er
 }
 
 func (s *sqlStore) potencyRows(ctx context.Context, op, key, q string, args ...any) ([]PotencyRow, error) {
-	rows, err := s.e.query(ctx, q, args...)
+	return queryPotencyRows(ctx, s.e, s.e, op, key, q, args...)
+}
+
+// queryPotencyRows runs a potency row query on q (the pool or a
+// transaction), at most MaxPotencyRows rows.
+func queryPotencyRows(ctx context.Context, q querier, e engine, op, key, sql string, args ...any) ([]PotencyRow, error) {
+	rows, err := q.query(ctx, sql, args...)
 	if err != nil {
-		return nil, s.read(op, key, err)
+		return nil, opError(op, key, err, e.classify)
 	}
 	defer rows.Close()
 	var out []PotencyRow
 	for rows.Next() {
 		r, err := scanPotency(rows)
 		if err != nil {
-			return nil, s.read(op, key, err)
+			return nil, opError(op, key, err, e.classify)
 		}
 		if len(out) == MaxPotencyRows {
 			return nil, &Error{Op: op, Key: key, Field: "rows", Err: ErrInvalid}
 		}
 		out = append(out, r)
 	}
-	return out, s.read(op, key, rows.Err())
+	return out, opError(op, key, rows.Err(), e.classify)
 }

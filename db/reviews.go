@@ -32,6 +32,11 @@ func (w *sqlWriter) InsertReview(ctx context.Context, r *Review) error {
 // Reviews returns the review events of the given curves, oldest first per
 // curve (by curve, at, id): the last of a curve's events is its state.
 func (s *sqlStore) Reviews(ctx context.Context, curveIDs []string) ([]Review, error) {
+	return queryReviews(ctx, s.e, s.e, curveIDs)
+}
+
+// queryReviews is Reviews on q (the pool or a transaction).
+func queryReviews(ctx context.Context, q querier, e engine, curveIDs []string) ([]Review, error) {
 	const op = "Reviews"
 	var out []Review
 	// In chunks, so that no statement has too many parameters.
@@ -43,17 +48,17 @@ func (s *sqlStore) Reviews(ctx context.Context, curveIDs []string) ([]Review, er
 		for i, id := range chunk {
 			args[i], marks[i] = id, "$"+strconv.Itoa(i+1)
 		}
-		rows, err := s.e.query(ctx, "SELECT id, curve_id, decision, reason, actor, at FROM curve_reviews WHERE curve_id IN ("+
+		rows, err := q.query(ctx, "SELECT id, curve_id, decision, reason, actor, at FROM curve_reviews WHERE curve_id IN ("+
 			strings.Join(marks, ", ")+") ORDER BY curve_id, at, id", args...)
 		if err != nil {
-			return nil, s.read(op, "", err)
+			return nil, opError(op, "", err, e.classify)
 		}
 		for rows.Next() {
 			var r Review
 			var t dbTime
 			if err := rows.Scan(&r.ID, &r.CurveID, &r.Decision, &r.Reason, &r.Actor, &t); err != nil {
 				rows.Close()
-				return nil, s.read(op, "", err)
+				return nil, opError(op, "", err, e.classify)
 			}
 			r.At = t.t
 			out = append(out, r)
@@ -61,7 +66,7 @@ func (s *sqlStore) Reviews(ctx context.Context, curveIDs []string) ([]Review, er
 		err = rows.Err()
 		rows.Close()
 		if err != nil {
-			return nil, s.read(op, "", err)
+			return nil, opError(op, "", err, e.classify)
 		}
 	}
 	return out, nil

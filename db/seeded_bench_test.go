@@ -81,6 +81,17 @@ func BenchmarkSeededReads(b *testing.B) {
 			qs, err := s.PlateQCSeries(ctx, assays[rng.IntN(len(assays))].ID, "z_prime", time.Time{}, time.Time{})
 			return len(qs), err
 		}},
+		// The first page of an assay's compound table. Its summaries are
+		// filled by the service (a read of the table, or a plate job);
+		// 0 rows means none has run on this database yet.
+		{"PotencySummaries/first-page", func(rng *rand.Rand) (int, error) {
+			rs, err := s.PotencySummaries(ctx, db.PotencyPage{AssayID: assays[rng.IntN(len(assays))].ID, Sort: db.SortCompound, Limit: 51})
+			return len(rs), err
+		}},
+		{"PotencySummaries/-msr-first-page", func(rng *rand.Rand) (int, error) {
+			rs, err := s.PotencySummaries(ctx, db.PotencyPage{AssayID: assays[rng.IntN(len(assays))].ID, Sort: db.SortMSR, Desc: true, Limit: 51})
+			return len(rs), err
+		}},
 	}
 	for _, c := range cases {
 		b.Run(c.name, func(b *testing.B) {

@@ -76,6 +76,11 @@ type Potency interface {
 	// AssayPotency returns the curves of some compounds in an assay.
 	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]PotencyRow, error)
 	CurvePotency(ctx context.Context, id string) (*PotencyRow, error)
+	// PotencySummaries pages through an assay's stored compound summaries.
+	PotencySummaries(ctx context.Context, p PotencyPage) ([]PotencySummary, error)
+	// PotencyStale reports whether a write has left any of the assay's
+	// summaries out of date.
+	PotencyStale(ctx context.Context, assayID string) (bool, error)
 	// UnreviewedCurves returns the newest curves never reviewed nor
 	// superseded, at most limit.
 	UnreviewedCurves(ctx context.Context, limit int) ([]PotencyRow, error)
@@ -238,4 +243,13 @@ type Writer interface {
 	// InsertDriftViolation records a rule violation once: ErrExists when
 	// that plate's rule on that chart is recorded already.
 	InsertDriftViolation(ctx context.Context, v *DriftViolation) error
+	// TakeStalePotency takes up to limit compounds whose summaries in an
+	// assay a write has made out of date off the list and returns them.
+	TakeStalePotency(ctx context.Context, assayID string, limit int) ([]string, error)
+	// AssayPotency and Reviews read as the Store's do, in the write's
+	// transaction (after TakeStalePotency).
+	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]PotencyRow, error)
+	Reviews(ctx context.Context, curveIDs []string) ([]Review, error)
+	// PutPotencySummaries stores compound summaries, replacing older ones.
+	PutPotencySummaries(ctx context.Context, rs []PotencySummary) error
 }

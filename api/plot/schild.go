@@ -30,7 +30,7 @@ var palette = []string{"#08519c", "#d94801", "#238b45", "#6a51a3", "#cb181d", "#
 func (p *Schild) Write(w io.Writer) error {
 	const W, H = 980, 470
 	var b strings.Builder
-	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" width="%d" height="%d" font-family="sans-serif" font-size="12">`+"\n", W, H)
+	fmt.Fprintf(&b, `<svg xmlns="http://www.w3.org/2000/svg" width="%d" height="%d" viewBox="0 0 %d %d" font-family="sans-serif" font-size="12">`+"\n", W, H, W, H)
 	fmt.Fprintf(&b, `<rect width="100%%" height="100%%" fill="white"/>`+"\n")
 	fmt.Fprintf(&b, `<text x="60" y="22" font-size="15" font-weight="bold">%s</text><text x="60" y="40" fill="#444">%s</text>`+"\n", esc(p.Title), esc(p.Subtitle))
 	// Left panel.

@@ -91,6 +91,7 @@ func TestHeatmapSVG(t *testing.T) {
 			{Row: 0, Col: 0, Name: "A01", Role: plate.MaxControl, Value: v(100)},
 			{Row: 0, Col: 11, Name: "A12", Role: plate.MinControl, Value: v(0)},
 			{Row: 7, Col: 5, Name: "H06", Role: plate.Empty},
+			{Row: 7, Col: 6, Name: "H07", Role: plate.Excluded, Value: v(1e6)},
 		}}
 	var b strings.Builder
 	if err := fig.Write(&b); err != nil {
@@ -98,14 +99,28 @@ func TestHeatmapSVG(t *testing.T) {
 	}
 	s := b.String()
 	n := wellFormed(t, s)
-	// The background and one cell per well, besides the colour bar.
-	if n["rect"]-strings.Count(s, `class="colourbar"`) != 4 || strings.Count(s, `class="colourbar"`) < 10 || !strings.Contains(s, "P&lt;1&gt;&amp;&#34;") || !strings.Contains(s, "Z′ 0.100 is below") {
-		t.Errorf("elements %v\n%s", n, s)
+	// The background, one cell per well and a swatch per role in the
+	// legend, besides the colour bar.
+	bar, cells, keys := strings.Count(s, `class="colourbar"`), strings.Count(s, `class="well `), strings.Count(s, `class="legend-key"`)
+	if cells != 4 || keys != 5 || n["rect"]-bar != 1+cells+keys || bar < 10 || !strings.Contains(s, "P&lt;1&gt;&amp;&#34;") || !strings.Contains(s, "Z′ 0.100 is below") {
+		t.Errorf("elements %v, %d cells, %d legend keys\n%s", n, cells, keys, s)
 	}
 	if !strings.Contains(s, `stroke="#d62728"`) || !strings.Contains(s, `stroke="#1f77b4"`) || !strings.Contains(s, "H06 empty no value") {
 		t.Errorf("controls not outlined or empty well not labelled:\n%s", s)
 	}
-	if !strings.Contains(s, `<g class="empty">`) {
-		t.Errorf("the empty well is not drawn apart:\n%s", s)
+	// Empty and excluded wells are drawn apart from the scale and from
+	// each other (dashed outline; grey and crossed).
+	if !strings.Contains(s, `<g class="well empty"><rect`) || !strings.Contains(s, `stroke-dasharray`) || !strings.Contains(s, `<g class="well excluded"><rect`) ||
+		!strings.Contains(s, "H07 excluded 1e+06") {
+		t.Errorf("the empty and excluded wells are not drawn apart:\n%s", s)
+	}
+	// The excluded outlier stays off the colour scale: it runs 0 to 100.
+	if !strings.Contains(s, `text-anchor="middle">100</text>`) {
+		t.Errorf("the scale does not end at the highest kept value, 100:\n%s", s)
+	}
+	for _, want := range []string{"max control", "min control", "excluded", "empty"} {
+		if !strings.Contains(s, ">"+want) {
+			t.Errorf("the legend lacks %q", want)
+		}
 	}
 }

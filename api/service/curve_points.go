@@ -18,9 +18,11 @@ import (
 // CurveData is what a curve's plot shows: its result and the points it
 // was fitted to (molar concentrations, 0 for the vehicle).
 type CurveData struct {
-	ID     string
-	Result wire.FitResult
-	Points []fit.Point
+	ID string
+	// PlateID is the plate a plate curve comes from; "" for a single fit.
+	PlateID string
+	Result  wire.FitResult
+	Points  []fit.Point
 }
 
 // CurveData reads a stored curve of either kind with its points: a single
@@ -31,7 +33,7 @@ func (s *Service) CurveData(ctx context.Context, id string) (*CurveData, error) 
 	if err != nil {
 		return nil, err
 	}
-	d := &CurveData{ID: id}
+	d := &CurveData{ID: id, PlateID: c.PlateID}
 	if err := json.Unmarshal(c.Result, &d.Result); err != nil {
 		return nil, fmt.Errorf("curve %s: result: %w", id, err)
 	}

@@ -162,6 +162,15 @@ func (s *Service) RunPlateJob(ctx context.Context, plateID string) error {
 		return err
 	}
 	s.observeDrift(news)
+	// The plate's compounds are now stale in its assay's compound table:
+	// summarise them here, off any request's path. A failure only leaves
+	// them to the table's next read (the marks stay), so it is logged,
+	// not retried.
+	if p.AssayID != "" {
+		if err := s.refreshPotency(ctx, p.AssayID); err != nil {
+			s.log.Warn("refresh potency summaries", "plate", plateID, "assay", p.AssayID, "err", err)
+		}
+	}
 	return nil
 }
 

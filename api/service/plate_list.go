@@ -3,6 +3,7 @@ package service
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 
 	"sluice/api/wire"
@@ -13,6 +14,15 @@ import (
 // Plates is GET /v1/plates: plates newest experiment first, one page, each
 // as GET /v1/plates/{id} shows it without its curves.
 func (s *Service) Plates(ctx context.Context, f db.PlateFilter) (*wire.PlateList, error) {
+	if f.Cursor != "" {
+		// The cursor is the last plate of the previous page; one that
+		// names no plate would silently give an empty page.
+		if _, err := s.store.Plate(ctx, f.Cursor); errors.Is(err, db.ErrNotFound) {
+			return nil, BadParameter("cursor", "%q is not a cursor of this list; use next_cursor of the previous page as it is", f.Cursor)
+		} else if err != nil {
+			return nil, err
+		}
+	}
 	ps, next, err := s.store.PlateList(ctx, f)
 	if err != nil {
 		return nil, err

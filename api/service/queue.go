@@ -22,6 +22,7 @@ const (
 	analysisSchild      = "schild"
 	analysisPotential   = "potential"
 	analysisOperational = "operational"
+	analysisRefit       = "refit"
 )
 
 // queuedRequest is what a queued analysis stores to run later: the
@@ -32,6 +33,7 @@ type queuedRequest struct {
 	Schild      *wire.SchildRequest      `json:"schild,omitempty"`
 	Potential   *wire.PotentialRequest   `json:"potential,omitempty"`
 	Operational *wire.OperationalRequest `json:"operational,omitempty"`
+	Refit       *queuedRefit             `json:"refit,omitempty"`
 	SVG         bool                     `json:"svg,omitempty"`
 	InputSHA256 string                   `json:"input_sha256,omitempty"`
 }
@@ -119,6 +121,12 @@ func (s *Service) runQueued(ctx context.Context, who Caller, kind string, q *que
 		}
 		r, err := operational(q.Operational, ref, part)
 		return plan{reply: r}, err
+	case kind == analysisRefit && q.Refit != nil && q.Refit.Request != nil:
+		old, rp, _, err := s.prepareRefit(ctx, q.Refit.CurveID, q.Refit.Request)
+		if err != nil {
+			return plan{}, err
+		}
+		return s.runRefit(ctx, who, old, rp, q.Refit.Request.Reason)
 	}
 	return plan{}, &Error{Kind: ErrInvalid, Detail: fmt.Sprintf("no %s request in the queued analysis", kind)}
 }

@@ -17,6 +17,7 @@ import (
 	"sluice/api/wire"
 	"sluice/db"
 	"sluice/fit"
+	"sluice/fit/cost"
 	"sluice/fit/plate"
 )
 
@@ -44,52 +45,83 @@ type refitPlan struct {
 // A single fit's refit stores the remaining points as its input, so the
 // indices of a refit of a refit count in that input; a plate curve's
 // exclusions accumulate (the well names of every version).
+//
+// A refit whose work (fit.CostOf, with the curve's stored bootstrap) is
+// over the synchronous budget is queued like any other analysis: 202 with
+// GET /v1/analyses/{id}, whose result is then the 201 reply.
 func (s *Service) Refit(ctx context.Context, who Caller, idem *Idem, curveID string, req *wire.RefitRequest) (*Reply, error) {
 	return s.write(ctx, who, idem, func(ctx context.Context) (plan, error) {
-		if len(req.Exclude) == 0 {
-			return plan{}, Invalid("/exclude", "name at least one point index or well to leave out")
-		}
-		if len(req.Exclude) > MaxExclusions {
-			return plan{}, Invalid("/exclude", "more than %d exclusions", MaxExclusions)
-		}
-		if err := checkReason(req.Reason, true, "to refit a curve without some of its points"); err != nil {
-			return plan{}, err
-		}
-		old, err := s.store.CurveResult(ctx, curveID)
+		old, rp, work, err := s.prepareRefit(ctx, curveID, req)
 		if err != nil {
 			return plan{}, err
 		}
-		var rp *refitPlan
-		if old.Kind == db.KindFit {
-			rp, err = s.fitRefitPlan(old, req.Exclude)
-		} else {
-			rp, err = s.plateRefitPlan(ctx, old, req.Exclude)
+		if work > s.budget.Sync {
+			// Over the synchronous budget (a large bootstrap, typically):
+			// queued like any other analysis, run by RunAnalysis.
+			return s.queue(who, analysisRefit, &queuedRequest{Refit: &queuedRefit{CurveID: curveID, Request: req}}, work)
 		}
-		if err != nil {
-			return plan{}, err
-		}
-		free := len(rp.settings.Model.Params()) - len(rp.settings.Fixed)
-		if len(rp.curve.Points) <= free {
-			return plan{}, Invalid("/exclude", "too few points left: %d points remain and %s with %d free parameters needs more points than parameters (at least %d)",
-				len(rp.curve.Points), rp.settings.Model, free, free+1)
-		}
-		if err := s.budget.admit(fit.CostOf([]fit.Curve{rp.curve}, free, rp.boot), "/exclude"); err != nil {
-			return plan{}, err
-		}
-		res, err := fit.Fit(rp.curve, &rp.settings)
-		if err == nil && rp.boot != nil {
-			err = fit.Bootstrap(ctx, res, rp.boot)
-		}
-		if err != nil {
-			var pe *fit.PointError
-			if errors.As(err, &pe) {
-				return plan{}, Invalid("/exclude", "the points left cannot be fitted: %v", pe)
-			}
-			return plan{}, err
-		}
-		p, err := s.refitCommit(who, old, rp, res, req.Reason)
-		return p, err
+		return s.runRefit(ctx, who, old, rp, req.Reason)
 	})
+}
+
+// queuedRefit is a refit waiting for its job: the curve and the request.
+type queuedRefit struct {
+	CurveID string             `json:"curve_id"`
+	Request *wire.RefitRequest `json:"request"`
+}
+
+// prepareRefit validates a refit request against the stored curve and
+// returns the curve, its refit plan and the refit's work (refused over
+// the hard limit).
+func (s *Service) prepareRefit(ctx context.Context, curveID string, req *wire.RefitRequest) (*db.CurveResult, *refitPlan, cost.Work, error) {
+	if len(req.Exclude) == 0 {
+		return nil, nil, 0, Invalid("/exclude", "name at least one point index or well to leave out")
+	}
+	if len(req.Exclude) > MaxExclusions {
+		return nil, nil, 0, Invalid("/exclude", "more than %d exclusions", MaxExclusions)
+	}
+	if err := checkReason(req.Reason, true, "to refit a curve without some of its points"); err != nil {
+		return nil, nil, 0, err
+	}
+	old, err := s.store.CurveResult(ctx, curveID)
+	if err != nil {
+		return nil, nil, 0, err
+	}
+	var rp *refitPlan
+	if old.Kind == db.KindFit {
+		rp, err = s.fitRefitPlan(old, req.Exclude)
+	} else {
+		rp, err = s.plateRefitPlan(ctx, old, req.Exclude)
+	}
+	if err != nil {
+		return nil, nil, 0, err
+	}
+	free := len(rp.settings.Model.Params()) - len(rp.settings.Fixed)
+	if len(rp.curve.Points) <= free {
+		return nil, nil, 0, Invalid("/exclude", "too few points left: %d points remain and %s with %d free parameters needs more points than parameters (at least %d)",
+			len(rp.curve.Points), rp.settings.Model, free, free+1)
+	}
+	work := fit.CostOf([]fit.Curve{rp.curve}, free, rp.boot)
+	if err := s.budget.admit(work, "/exclude"); err != nil {
+		return nil, nil, 0, err
+	}
+	return old, rp, work, nil
+}
+
+// runRefit fits a prepared refit and plans its records and reply.
+func (s *Service) runRefit(ctx context.Context, who Caller, old *db.CurveResult, rp *refitPlan, reason string) (plan, error) {
+	res, err := fit.Fit(rp.curve, &rp.settings)
+	if err == nil && rp.boot != nil {
+		err = fit.Bootstrap(ctx, res, rp.boot)
+	}
+	if err != nil {
+		var pe *fit.PointError
+		if errors.As(err, &pe) {
+			return plan{}, Invalid("/exclude", "the points left cannot be fitted: %v", pe)
+		}
+		return plan{}, err
+	}
+	return s.refitCommit(who, old, rp, res, reason)
 }
 
 // fitRefitPlan prepares a single fit's refit: exclusions are indices of

@@ -66,6 +66,8 @@ type Potency interface {
 	AssayCompounds(ctx context.Context, assayID, after string, limit int, desc bool) ([]string, error)
 	AssayPotency(ctx context.Context, assayID string, compoundIDs []string) ([]db.PotencyRow, error)
 	CurvePotency(ctx context.Context, id string) (*db.PotencyRow, error)
+	PotencySummaries(ctx context.Context, p db.PotencyPage) ([]db.PotencySummary, error)
+	PotencyStale(ctx context.Context, assayID string) (bool, error)
 	UnreviewedCurves(ctx context.Context, limit int) ([]db.PotencyRow, error)
 	CurveResult(ctx context.Context, id string) (*db.CurveResult, error)
 	Reviews(ctx context.Context, curveIDs []string) ([]db.Review, error)

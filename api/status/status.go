@@ -24,6 +24,7 @@ var (
 	ErrNotFoundRoute   = errors.New("no such endpoint")
 	ErrMethod          = errors.New("method not allowed")
 	ErrUnavailable     = errors.New("unavailable")
+	ErrBodyTimeout     = errors.New("request body too slow") // it did not arrive within its read deadline
 )
 
 // table maps error categories to HTTP status (first match wins).
@@ -50,10 +51,14 @@ var table = []struct {
 	{db.ErrExists, http.StatusConflict},
 	{service.ErrConflict, http.StatusConflict},
 	{ErrTooLarge, http.StatusRequestEntityTooLarge},
+	{ErrBodyTimeout, http.StatusRequestTimeout},
 	{ErrUnsupportedType, http.StatusUnsupportedMediaType},
 	{ErrNotFoundRoute, http.StatusNotFound},
 	{ErrMethod, http.StatusMethodNotAllowed},
 	{ErrUnavailable, http.StatusServiceUnavailable},
+	// The database is unreachable or did not answer within its deadline:
+	// an outage, answered with Retry-After.
+	{db.ErrUnavailable, http.StatusServiceUnavailable},
 }
 
 // Of is the HTTP status of err: its category's, else 500.

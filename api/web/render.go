@@ -75,6 +75,14 @@ func (s *Site) fail(c *gin.Context, err error) {
 	}
 	code := status.Of(err)
 	msg := err.Error()
+	if code == http.StatusServiceUnavailable {
+		// An outage (the database is unreachable or too slow), not a
+		// fault of the page: try again shortly, as the API's 503 says.
+		s.log.Warn("page unavailable", "path", c.Request.URL.Path, "err", err)
+		c.Header("Retry-After", "5")
+		s.errorPage(c, code, "The database is not answering at the moment; nothing was changed. Try again in a few seconds.")
+		return
+	}
 	if code >= 500 {
 		s.log.Error("page failed", "path", c.Request.URL.Path, "err", err)
 		msg = "Something went wrong on the server; the page could not be shown. Nothing was changed."

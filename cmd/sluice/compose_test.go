@@ -188,7 +188,7 @@ func TestDockerCompose(t *testing.T) {
 	// Every sluice_ metric an alert uses is one the service exports.
 	exported := []string{"sluice_http_requests_total", "sluice_http_request_duration_seconds_bucket", "sluice_fits_total",
 		"sluice_db_connections_in_use", "sluice_db_connections_max", "sluice_jobs_discarded", "sluice_jobs_retryable", "sluice_jobs_queued", "sluice_jobs_running",
-		"sluice_jobs_oldest_running_seconds",
+		"sluice_jobs_oldest_running_seconds", "sluice_server_errors_total", "sluice_http_connections_refused_total",
 		"sluice_drift_violations_total", "sluice_assay_out_of_control"}
 	name := regexp.MustCompile(`sluice_[a-z_]+`)
 	for _, r := range rules.Groups[0].Rules {

@@ -11,6 +11,7 @@ import (
 	"strings"
 	"time"
 
+	"sluice/api"
 	"sluice/api/service"
 	"sluice/db"
 	"sluice/fit/cost"
@@ -73,6 +74,16 @@ type serveConfig struct {
 	// 256 KiB.
 	IdemRetention time.Duration
 	IdemMaxReply  int64
+	// DBTimeout (SLUICE_DB_TIMEOUT, --db-timeout) bounds every call to the
+	// database (db.Options.CallTimeout): past it the request is answered
+	// 503 with Retry-After, so a frozen database never hangs a request.
+	// Range 100ms–10m; default 15s (db.DefaultCallTimeout).
+	DBTimeout time.Duration
+	// MaxConns (SLUICE_MAX_CONNS, --max-conns) caps the HTTP connections
+	// served at once; one over the cap is answered 503 and closed
+	// (api.LimitListener). Range 16–1 000 000; default 1024
+	// (api.DefaultMaxConns).
+	MaxConns int
 }
 
 // Bounds of --idempotency-retention and --idempotency-max-reply.
@@ -81,6 +92,12 @@ const (
 	maxIdemRetention = 90 * 24 * time.Hour
 	minIdemMaxReply  = 1024
 	maxIdemMaxReply  = 1 << 30
+)
+
+// Bounds of --max-conns.
+const (
+	minMaxConns = 16
+	maxMaxConns = 1_000_000
 )
 
 // Bounds and defaults of --sync-budget and --work-limit.
@@ -148,6 +165,14 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	if err != nil {
 		errs = append(errs, fmt.Errorf("SLUICE_IDEMPOTENCY_MAX_REPLY: %q is not a whole number of bytes", getenv("SLUICE_IDEMPOTENCY_MAX_REPLY")))
 	}
+	dbTimeout, err := time.ParseDuration(envOr(getenv, "SLUICE_DB_TIMEOUT", db.DefaultCallTimeout.String()))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_DB_TIMEOUT: %q is not a duration (e.g. 15s)", getenv("SLUICE_DB_TIMEOUT")))
+	}
+	maxConns, err := strconv.Atoi(envOr(getenv, "SLUICE_MAX_CONNS", strconv.Itoa(api.DefaultMaxConns)))
+	if err != nil {
+		errs = append(errs, fmt.Errorf("SLUICE_MAX_CONNS: %q is not a whole number", getenv("SLUICE_MAX_CONNS")))
+	}
 	auth := true
 	switch v := strings.ToLower(getenv("SLUICE_AUTH")); v {
 	case "", "on", "true", "1":
@@ -181,6 +206,8 @@ func loadServeConfig(args []string, getenv func(string) string, fs *flag.FlagSet
 	fs.DurationVar(&c.IdemRetention, "idempotency-retention", idemRetention, "how long a reply is kept under its Idempotency-Key (SLUICE_IDEMPOTENCY_RETENTION)")
 	fs.Int64Var(&c.IdemMaxReply, "idempotency-max-reply", idemMaxReply, "largest reply body in bytes stored under an Idempotency-Key; a larger one is not replayed (409) (SLUICE_IDEMPOTENCY_MAX_REPLY)")
 	fs.BoolVar(&c.SecureCookies, "secure-cookies", secure, "mark the dashboard's session cookie Secure on plain HTTP, behind a TLS proxy (SLUICE_SECURE_COOKIES)")
+	fs.DurationVar(&c.DBTimeout, "db-timeout", dbTimeout, "longest call to the database; past it, 503 with Retry-After (SLUICE_DB_TIMEOUT)")
+	fs.IntVar(&c.MaxConns, "max-conns", maxConns, "HTTP connections served at once; more are answered 503 and closed (SLUICE_MAX_CONNS)")
 	if err := fs.Parse(args); err != nil {
 		return nil, err
 	}
@@ -227,6 +254,12 @@ func (c *serveConfig) validate() []error {
 	}
 	if c.IdemMaxReply < minIdemMaxReply || c.IdemMaxReply > maxIdemMaxReply {
 		errs = append(errs, fmt.Errorf("--idempotency-max-reply / SLUICE_IDEMPOTENCY_MAX_REPLY: %d is outside %d–%d bytes", c.IdemMaxReply, minIdemMaxReply, maxIdemMaxReply))
+	}
+	if c.DBTimeout < db.MinCallTimeout || c.DBTimeout > db.MaxCallTimeout {
+		errs = append(errs, fmt.Errorf("--db-timeout / SLUICE_DB_TIMEOUT: %v is outside %v–%v", c.DBTimeout, db.MinCallTimeout, db.MaxCallTimeout))
+	}
+	if c.MaxConns < minMaxConns || c.MaxConns > maxMaxConns {
+		errs = append(errs, fmt.Errorf("--max-conns / SLUICE_MAX_CONNS: %d is outside %d–%d", c.MaxConns, minMaxConns, maxMaxConns))
 	}
 	if c.FitWorkers < 0 {
 		errs = append(errs, fmt.Errorf("--fit-workers / SLUICE_FIT_WORKERS: %d is negative", c.FitWorkers))
@@ -293,7 +326,8 @@ func (c *serveConfig) logAttrs() []any {
 		"shutdown_grace", c.ShutdownGrace.String(), "migrate", !c.SkipMigrations,
 		"sync_budget", c.SyncBudget.String(), "work_limit", c.WorkLimit.String(),
 		"job_timeout", c.JobTimeout.String(), "job_rescue_after", c.JobRescueAfter.String(),
-		"idempotency_retention", c.IdemRetention.String(), "idempotency_max_reply", c.IdemMaxReply, "secure_cookies", c.SecureCookies}
+		"idempotency_retention", c.IdemRetention.String(), "idempotency_max_reply", c.IdemMaxReply, "secure_cookies", c.SecureCookies,
+		"db_timeout", c.DBTimeout.String(), "max_conns", c.MaxConns}
 }
 
 // redactURL hides a URL's password.

@@ -187,7 +187,10 @@ func (b *browser) listen(ev any) {
 		b.problems = append(b.problems, fmt.Sprintf("uncaught exception: %s (%s:%d)", e.ExceptionDetails.Text,
 			e.ExceptionDetails.URL, e.ExceptionDetails.LineNumber))
 	case *cdplog.EventEntryAdded:
-		if e.Entry.Level == cdplog.EntryLevelError {
+		// The expected document status (visitExpect) is logged too;
+		// only that one is not a problem.
+		expected := b.expect != 0 && e.Entry.Source == cdplog.EntrySourceNetwork && strings.Contains(e.Entry.Text, fmt.Sprintf("status of %d ", b.expect))
+		if e.Entry.Level == cdplog.EntryLevelError && !expected {
 			b.problems = append(b.problems, fmt.Sprintf("browser log error (%s): %s %s", e.Entry.Source, e.Entry.Text, e.Entry.URL))
 		}
 	case *network.EventLoadingFailed:

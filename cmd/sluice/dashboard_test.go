@@ -14,6 +14,11 @@ var dashboardChecks = []struct {
 }{
 	{"overview", checkOverview},
 	{"security", checkSecurity},
+	// Plates and Schild analyses (dashboard_plates_test.go).
+	{"plates", checkPlates},
+	{"plate", checkPlate},
+	{"schild", checkSchild},
+	// End of plates and Schild analyses.
 }
 
 // TestDashboard serves the demo on each store and walks the dashboard in

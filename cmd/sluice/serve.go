@@ -62,7 +62,7 @@ func runServe(args []string, getenv func(string) string, stderr io.Writer) int {
 func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Logger) int {
 	defer ln.Close() // closed already by Shutdown, unless serving never began
 	store, err := db.OpenWith(ctx, cfg.DatabaseURL, cfg.DataDir, db.Options{SkipMigrations: cfg.SkipMigrations, Logger: log,
-		JobTimeout: cfg.JobTimeout, RescueAfter: cfg.JobRescueAfter})
+		JobTimeout: cfg.JobTimeout, RescueAfter: cfg.JobRescueAfter, CallTimeout: cfg.DBTimeout})
 	if err != nil {
 		log.Error("open store", "err", err)
 		return 1
@@ -118,18 +118,28 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 		go func() { defer close(sweepsDone); svc.RunSweeps(sweepCtx, 0) }()
 		defer func() { stopSweeps(); <-sweepsDone }()
 	}
+	// Slow clients are bounded: the headers must arrive within
+	// ReadHeaderTimeout, a body within api.BodyReadTimeout of its size
+	// (ReadTimeout is the ceiling, for the largest body allowed), an idle
+	// keep-alive connection is closed after IdleTimeout, and at most
+	// cfg.MaxConns connections are served at once (api.LimitListener).
+	// net/http itself answers a request it cannot parse (400) or whose
+	// headers exceed MaxHeaderBytes (431) in plain text, before any handler
+	// runs: http.Server has no hook to shape those answers, so they stay
+	// text (deploy/README.md).
 	hs := &http.Server{
 		Handler:           handler,
 		ReadHeaderTimeout: 10 * time.Second,
-		ReadTimeout:       60 * time.Second,
+		ReadTimeout:       api.BodyReadTimeout(cfg.BodyLimit),
 		WriteTimeout:      5 * time.Minute, // a large bootstrap is computed before the reply
-		IdleTimeout:       2 * time.Minute,
+		IdleTimeout:       time.Minute,
+		MaxHeaderBytes:    maxHeaderBytes,
 		ErrorLog:          slog.NewLogLogger(log.Handler(), slog.LevelWarn),
 	}
 	hs.RegisterOnShutdown(srv.Drain) // waiting requests answer 202 at once
 	log.Info("listening", "addr", ln.Addr().String(), "store", store.Engine(), "role", cfg.Role)
 	errc := make(chan error, 1)
-	go func() { errc <- hs.Serve(ln) }()
+	go func() { errc <- hs.Serve(srv.LimitListener(ln, cfg.MaxConns)) }()
 	code := 0
 	select {
 	case err := <-errc:
@@ -163,6 +173,11 @@ func serve(ctx context.Context, cfg *serveConfig, ln net.Listener, log *slog.Log
 	log.Info("stopped")
 	return code
 }
+
+// maxHeaderBytes bounds a request's header section (net/http's default is
+// 1 MiB): Sluice's requests carry a token, an Idempotency-Key and a few
+// standard headers.
+const maxHeaderBytes = 64 << 10
 
 // seedAdminToken makes SLUICE_ADMIN_TOKEN a valid admin token named
 // "env-admin", replacing the one seeded before, unless that one was

@@ -60,3 +60,31 @@ func (s *Service) DriftOverview(ctx context.Context) (*wire.DriftOverview, error
 	}
 	return out, nil
 }
+
+// DriftCharts is every chart of an assay (the metrics in the order GET
+// /v1/drift lists them, then r4s), each as DriftChart answers, from one
+// read of the assay's series: the dashboard's assay drift page.
+func (s *Service) DriftCharts(ctx context.Context, assayID string, from, to time.Time) ([]*wire.DriftChart, error) {
+	if _, err := s.store.Assay(ctx, assayID); err != nil {
+		return nil, err
+	}
+	var zero time.Time
+	plates, err := s.store.DriftPlates(ctx, assayID, zero, zero)
+	if err != nil {
+		return nil, fmt.Errorf("drift series of assay %s: %w", assayID, err)
+	}
+	stored, err := s.store.AssayDriftCharts(ctx, assayID)
+	if err != nil {
+		return nil, fmt.Errorf("drift charts of assay %s: %w", assayID, err)
+	}
+	byMetric := chartsByMetric(stored)
+	var out []*wire.DriftChart
+	for _, metric := range allMetrics() {
+		ev, err := evaluateMetric(metric, plates, byMetric)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, ev.wireChart(assayID, from, to))
+	}
+	return out, nil
+}

@@ -47,20 +47,7 @@ func (s *Site) overview(c *gin.Context) {
 		s.fail(c, err)
 		return
 	}
-	byAssay := map[string][]wire.DriftStatus{}
-	for _, ch := range drift.Charts {
-		byAssay[ch.AssayID] = append(byAssay[ch.AssayID], ch)
-	}
-	var d overviewData
-	for _, a := range assays {
-		as := assayStatus{CatalogueEntry: a, Charts: byAssay[a.ID]}
-		for _, ch := range as.Charts {
-			if statusRank[ch.Status] > statusRank[as.Worst] {
-				as.Worst = ch.Status
-			}
-		}
-		d.Assays = append(d.Assays, as)
-	}
+	d := overviewData{Assays: withCharts(assays, drift.Charts)}
 	list, err := s.svc.Plates(ctx, db.PlateFilter{Limit: overviewPlates})
 	if err != nil {
 		s.fail(c, err)

@@ -14,6 +14,11 @@ var dashboardChecks = []struct {
 }{
 	{"overview", checkOverview},
 	{"security", checkSecurity},
+	// Drift and the membrane-potential calculator (webdrift).
+	{"drift", checkDrift},
+	{"assay-drift", checkAssayDrift},
+	{"potential", checkPotential},
+	{"accessibility", checkAccessibility},
 	// Plates and Schild analyses (dashboard_plates_test.go).
 	{"plates", checkPlates},
 	{"plate", checkPlate},

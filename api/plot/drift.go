@@ -217,9 +217,10 @@ func (d *Drift) Write(w io.Writer) error {
 func yAxis(b *strings.Builder, x0, x1, y0, y1, lo, hi float64, label string) {
 	py := func(v float64) float64 { return y0 - (v-lo)/(hi-lo)*(y0-y1) }
 	fmt.Fprintf(b, `<path d="M%.1f,%.1f V%.1f H%.1f" fill="none" stroke="black"/>`+"\n", x0, y1, y0, x1)
-	for _, t := range ticks(lo, hi) {
-		fmt.Fprintf(b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f" text-anchor="end">%g</text>`+"\n",
-			x0-5, py(t), x0, py(t), x0-8, py(t)+4, t)
+	ts := ticks(lo, hi)
+	for _, t := range ts {
+		fmt.Fprintf(b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="black"/><text x="%.1f" y="%.1f" text-anchor="end">%s</text>`+"\n",
+			x0-5, py(t), x0, py(t), x0-8, py(t)+4, tickLabel(t, ts))
 	}
 	fmt.Fprintf(b, `<text transform="translate(%.1f,%.1f) rotate(-90)" text-anchor="middle">%s</text>`+"\n", x0-55, (y0+y1)/2, esc(label))
 }

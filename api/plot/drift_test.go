@@ -3,6 +3,7 @@ package plot
 import (
 	"bytes"
 	"math"
+	"regexp"
 	"strings"
 	"testing"
 )
@@ -45,5 +46,20 @@ func TestDriftSVG(t *testing.T) {
 	wellFormed(t, buf.String())
 	if strings.Contains(buf.String(), "SD<") || !strings.Contains(buf.String(), "no baseline yet") {
 		t.Error("a chart without a baseline draws SD lines")
+	}
+}
+
+// Drift axis ticks print with the decimals their step needs: a range
+// whose ticks fall on 0.6 prints "0.6", never "0.60000000001".
+func TestDriftTickLabels(t *testing.T) {
+	d := &Drift{Title: "t", YLabel: "z_prime", Mean: 0.62, SD: 0.03, Points: []DriftPoint{
+		{Label: "a", Value: 0.55, EWMA: 0.58, EWMALo: 0.5, EWMAHi: 0.7}, {Label: "b", Value: 0.69, EWMA: 0.6, EWMALo: 0.5, EWMAHi: 0.7}}}
+	var b strings.Builder
+	if err := d.Write(&b); err != nil {
+		t.Fatal(err)
+	}
+	long := regexp.MustCompile(`>-?\d+\.\d{4,}<`)
+	if m := long.FindString(b.String()); m != "" {
+		t.Errorf("a tick label with spurious digits: %s", m)
 	}
 }

@@ -56,9 +56,13 @@ func (w *sqlWriter) EnqueuePlateFit(ctx context.Context, plateID string, o JobOp
 	if w.err != nil {
 		return 0, w.err
 	}
+	lane := QueueMain
+	if o.Small {
+		lane = QueueSmall
+	}
 	ctx, cancel := withinTx(ctx, w.q)
 	defer cancel()
-	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: plateID, TimeoutMS: o.timeoutMS()})
+	id, err := w.queue.enqueue(ctx, w.q, PlateFitArgs{PlateID: plateID, TimeoutMS: o.timeoutMS()}, lane)
 	err = timedOut(ctx, err)
 	if err != nil {
 		return 0, w.abort(opError("EnqueuePlateFit", plateID, err, w.e.classify))
@@ -75,7 +79,7 @@ func (w *sqlWriter) EnqueueAnalysis(ctx context.Context, analysis, id string, o 
 	}
 	ctx, cancel := withinTx(ctx, w.q)
 	defer cancel()
-	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id, TimeoutMS: o.timeoutMS()})
+	jobID, err := w.queue.enqueue(ctx, w.q, AnalysisArgs{Analysis: analysis, ID: id, TimeoutMS: o.timeoutMS()}, QueueMain)
 	err = timedOut(ctx, err)
 	if err != nil {
 		return 0, w.abort(opError("EnqueueAnalysis", id, err, w.e.classify))

@@ -95,6 +95,9 @@ type Potency interface {
 type Plates interface {
 	Plate(ctx context.Context, id string) (*Plate, error)
 	PlateByJob(ctx context.Context, jobID int64) (*Plate, error)
+	// PlateStatuses returns the status of each existing plate of ids, by
+	// ID (one statement per 500 IDs): the shared poll of waiting requests.
+	PlateStatuses(ctx context.Context, ids []string) (map[string]string, error)
 	// Wells lists a plate's wells by row, column.
 	Wells(ctx context.Context, plateID string) ([]WellRow, error)
 	// PlateCurves lists a plate's curves by key.
@@ -213,7 +216,8 @@ type Writer interface {
 	InsertPlate(ctx context.Context, p *Plate, wells []WellRow) error
 	// EnqueuePlateFit queues the plate's fit job in this transaction, so
 	// that a stored plate always has its job, and returns the job's ID
-	// (store it as the plate's JobID); o.Timeout bounds each attempt.
+	// (store it as the plate's JobID); o.Timeout bounds each attempt, and
+	// o.Small puts it in the small-job lane (QueueSmall).
 	EnqueuePlateFit(ctx context.Context, plateID string, o JobOpts) (int64, error)
 	// EnqueueAnalysis queues a single analysis (e.g. "fit", "potential")
 	// of the record id, stored in this transaction, for a worker's

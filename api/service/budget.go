@@ -18,6 +18,14 @@ type Budget struct {
 	// is refused with ErrTooMuchWork naming the field that drives the
 	// cost. Zero means DefaultHardLimit; range [Sync, +Inf).
 	Hard cost.Work
+	// SmallPlate is the most work (plateWork: fit.Cost over the plate's
+	// curves) of a plate whose job waits in the queue's small-job lane
+	// (db.QueueSmall), which has workers of its own, so that small plates
+	// never queue behind large ones. Zero means Sync (a plate no larger
+	// than a synchronous request: a 384-well plate of 32 curves with
+	// B = 1000 is about 1.1e7 units, a 1536-well one of 128 curves about
+	// 4.7e7); negative sends every plate to the main lane.
+	SmallPlate cost.Work
 }
 
 // Default budgets, at cost.NanosecondsPerUnit = 40: about 1 s of one core
@@ -37,6 +45,9 @@ func (b Budget) resolve() (Budget, error) {
 	if b.Hard == 0 {
 		b.Hard = DefaultHardLimit
 	}
+	if b.SmallPlate == 0 {
+		b.SmallPlate = b.Sync
+	}
 	if !(b.Sync > 0) || !(b.Hard >= b.Sync) {
 		return b, errors.New("service: Budget: want 0 < Sync ≤ Hard")
 	}
@@ -52,4 +63,10 @@ func (b Budget) admit(w cost.Work, field string) error {
 			"reduce %s", float64(w), w.Seconds(), float64(b.Hard), field)
 	}
 	return nil
+}
+
+// smallPlate tells whether a plate of work w goes to the queue's
+// small-job lane (Budget.SmallPlate).
+func (b Budget) smallPlate(w cost.Work) bool {
+	return b.SmallPlate >= 0 && w <= b.SmallPlate
 }

@@ -53,41 +53,6 @@ func (s *Service) Plate(ctx context.Context, id string) (*wire.PlateView, error)
 	return v, nil
 }
 
-// MaxWait bounds how long a caller may wait for a plate (POST
-// /v1/plates?wait=).
-const MaxWait = 5 * time.Minute
-
-// waitTick is how often WaitPlate looks at the plate: a tenth of a second
-// adds at most that to a wait, and a plate takes seconds.
-const waitTick = 100 * time.Millisecond
-
-// WaitPlate waits until the plate's job has finished (done or failed), d
-// has passed, or ctx is done (the caller went away), looking at the plate
-// every waitTick. It returns the plate's view when the job finished, nil
-// when it did not finish in time; a cancelled ctx is its error.
-func (s *Service) WaitPlate(ctx context.Context, id string, d time.Duration) (*wire.PlateView, error) {
-	timer := time.NewTimer(d)
-	defer timer.Stop()
-	tick := time.NewTicker(waitTick)
-	defer tick.Stop()
-	for {
-		p, err := s.store.Plate(ctx, id)
-		if err != nil {
-			return nil, err // db's error names the plate
-		}
-		if p.Status == db.PlateDone || p.Status == db.PlateFailed {
-			return s.Plate(ctx, id)
-		}
-		select {
-		case <-ctx.Done():
-			return nil, fmt.Errorf("wait for plate %s: %w", id, ctx.Err())
-		case <-timer.C:
-			return nil, nil
-		case <-tick.C:
-		}
-	}
-}
-
 // PlateCurves is GET /v1/plates/{id}/curves.csv: the plate and its curves,
 // by key.
 func (s *Service) PlateCurves(ctx context.Context, id string) (*db.Plate, []wire.PlateCurve, error) {

@@ -104,7 +104,9 @@ func (s *Service) SubmitPlate(ctx context.Context, who Caller, idem *Idem, sub *
 		return plan{commit: func(ctx context.Context, w db.Writer) (*Reply, error) {
 			// The job first: the worker can see it only once the plate
 			// below commits with it.
-			jobID, err := w.EnqueuePlateFit(ctx, v.p.ID, jobOpts(v.work))
+			o := jobOpts(v.work)
+			o.Small = s.budget.smallPlate(v.work)
+			jobID, err := w.EnqueuePlateFit(ctx, v.p.ID, o)
 			if err != nil {
 				return nil, fmt.Errorf("enqueue plate %s: %w", v.p.ID, err)
 			}

@@ -54,6 +54,7 @@ type Service struct {
 	fitWorkers int
 	budget     Budget
 	obs        Observer
+	watch      *plateWatch // WaitPlate's shared poll
 	// idemRetention and maxStoredReply are Deps'.
 	idemRetention  time.Duration
 	maxStoredReply int
@@ -91,6 +92,7 @@ func New(d Deps) (*Service, error) {
 	if s.obs == nil {
 		s.obs = noObserver{}
 	}
+	s.watch = newPlateWatch(s.store, s.log, waitTick)
 	return s, nil
 }
 

@@ -49,6 +49,7 @@ type Analyses interface {
 type Plates interface {
 	Plate(ctx context.Context, id string) (*db.Plate, error)
 	PlateByJob(ctx context.Context, jobID int64) (*db.Plate, error)
+	PlateStatuses(ctx context.Context, ids []string) (map[string]string, error)
 	Wells(ctx context.Context, plateID string) ([]db.WellRow, error)
 	PlateCurves(ctx context.Context, plateID string) ([]db.PlateCurve, error)
 	PlateSchildRuns(ctx context.Context, plateID string) ([]db.SchildRun, error)

@@ -15,5 +15,5 @@ func (s *Server) curvePlot(c *gin.Context) {
 		s.writeProblem(c, err)
 		return
 	}
-	s.writeSVG(c, figure.StoredCurve(d.ID, &d.Result, d.Points, d.Excluded))
+	s.writeSVG(c, figure.StoredCurve(d))
 }

@@ -329,6 +329,10 @@ func TestPotencyHistoryFromPlatesAndFits(t *testing.T) {
 		if hollow := strings.Count(svgNew, `<circle class="excluded"`); hollow != 1 || nNew != nOld-1 || nOld < 5 {
 			t.Errorf("plate refit plot: %d filled and %d hollow points; the original has %d filled", nNew, hollow, nOld)
 		}
+		// A stored curve's plot is titled with its compound, not its ID.
+		if !strings.Contains(svgNew, ">demo-cpd-205</text>") || strings.Contains(svgNew, "Curve "+refit.ID) {
+			t.Errorf("the plate curve's plot is not titled demo-cpd-205")
+		}
 		if after := ts.do("GET", "/v1/fits/"+fits[0], ScopeRead, "").Body.String(); after != before {
 			t.Errorf("a stored fit changed:\n%s\n%s", before, after)
 		}

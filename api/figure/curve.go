@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"sluice/api/plot"
+	"sluice/api/service"
 	"sluice/api/wire"
 	"sluice/fit"
 )
@@ -65,16 +66,20 @@ func Title(compound, id string) string {
 	return "Fit " + id
 }
 
-// StoredCurve is a stored curve's drawing, either kind: Curve with the
-// points its refits left out drawn hollow (excluded), so that what a
-// refit removed stays in view.
-func StoredCurve(id string, res *wire.FitResult, pts, excluded []fit.Point) *plot.Curve {
-	conc, resp := make([]float64, len(pts)), make([]float64, len(pts))
-	for i, p := range pts {
+// StoredCurve is a stored curve's drawing: Curve titled with its compound
+// (its ID when it names none), with the points its refits left out drawn
+// hollow.
+func StoredCurve(d *service.CurveData) *plot.Curve {
+	conc, resp := make([]float64, len(d.Points)), make([]float64, len(d.Points))
+	for i, p := range d.Points {
 		conc[i], resp[i] = p.Conc, p.Response
 	}
-	fig := Curve("Curve "+id, res, conc, resp)
-	for _, p := range excluded {
+	title := d.CompoundID
+	if title == "" {
+		title = "Curve " + d.ID
+	}
+	fig := Curve(title, &d.Result, conc, resp)
+	for _, p := range d.Excluded {
 		fig.ExcludedConc, fig.ExcludedResp = append(fig.ExcludedConc, p.Conc), append(fig.ExcludedResp, p.Response)
 	}
 	return fig

@@ -23,6 +23,8 @@ type CurveData struct {
 	Kind string // db.KindFit or db.KindPlateCurve
 	// PlateID is the plate a plate curve comes from; "" for a single fit.
 	PlateID string
+	// CompoundID is the curve's compound; "" when the fit named none.
+	CompoundID string
 	Result  wire.FitResult
 	Points  []fit.Point
 	// Names name the points as a refit of this version names them: a
@@ -45,7 +47,7 @@ func (s *Service) CurveData(ctx context.Context, id string) (*CurveData, error) 
 	if err != nil {
 		return nil, err
 	}
-	d := &CurveData{ID: id, Kind: c.Kind, PlateID: c.PlateID}
+	d := &CurveData{ID: id, Kind: c.Kind, PlateID: c.PlateID, CompoundID: c.CompoundID}
 	if err := json.Unmarshal(c.Result, &d.Result); err != nil {
 		return nil, fmt.Errorf("curve %s: result: %w", id, err)
 	}

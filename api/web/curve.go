@@ -13,6 +13,7 @@ import (
 	"github.com/gin-gonic/gin"
 
 	"sluice/api/figure"
+	"sluice/api/service"
 	"sluice/api/status"
 	"sluice/api/wire"
 )
@@ -21,8 +22,12 @@ import (
 // its result read, its points named as a refit names them, the flags in
 // words, and the version that replaced it.
 type curveData struct {
-	Curve  *wire.Curve
-	Result wire.FitResult
+	// FormKey is a fresh key per drawn page: its forms send it as their
+	// idempotency key, so a double click or a resent form stores one
+	// review or one refit, not two.
+	FormKey string
+	Curve   *wire.Curve
+	Result  wire.FitResult
 	// Points can be left out by a refit; Excluded were left out before.
 	Points, Excluded []curvePoint
 	Flags            []flagNote
@@ -68,7 +73,7 @@ func (s *Site) curveData(c *gin.Context, id string) (*curveData, error) {
 	if err != nil {
 		return nil, err
 	}
-	d := &curveData{Curve: cv, Result: pts.Result, ConfidencePct: percent(float64(pts.Result.Confidence))}
+	d := &curveData{FormKey: "web-" + secret(), Curve: cv, Result: pts.Result, ConfidencePct: percent(float64(pts.Result.Confidence))}
 	if !cv.Usable {
 		d.ExcludedWhy = wire.ExclusionMeanings[cv.Excluded]
 		if d.ExcludedWhy == "" {
@@ -107,7 +112,7 @@ func (s *Site) curvePlot(c *gin.Context) {
 		s.fail(c, err)
 		return
 	}
-	s.writeFigure(c, figure.StoredCurve(d.ID, &d.Result, d.Points, d.Excluded))
+	s.writeFigure(c, figure.StoredCurve(d))
 }
 
 // writeFigure sends a figure as SVG; a drawing error is a 500 page.
@@ -127,7 +132,12 @@ func (s *Site) writeFigure(c *gin.Context, fig interface{ Write(io.Writer) error
 func (s *Site) curveReview(c *gin.Context) {
 	id := c.Param("id")
 	req := &wire.ReviewRequest{Decision: c.PostForm("decision"), Reason: c.PostForm("reason")}
-	if _, err := s.svc.Review(c.Request.Context(), viewer(c), nil, id, req); err != nil {
+	idem, err := formIdem(c, "POST /v1/curves/:id/review", id, req)
+	if err != nil {
+		s.fail(c, err)
+		return
+	}
+	if _, err := s.svc.Review(c.Request.Context(), viewer(c), idem, id, req); err != nil {
 		s.refused(c, id, err, func(d *curveData) { d.Decision, d.Reason = req.Decision, req.Reason })
 		return
 	}
@@ -144,7 +154,12 @@ func (s *Site) curveRefit(c *gin.Context) {
 	for _, n := range names {
 		req.Exclude = append(req.Exclude, excludeName(n))
 	}
-	r, err := s.svc.Refit(c.Request.Context(), viewer(c), nil, id, req)
+	idem, err := formIdem(c, "POST /v1/curves/:id/refit", id, req)
+	if err != nil {
+		s.fail(c, err)
+		return
+	}
+	r, err := s.svc.Refit(c.Request.Context(), viewer(c), idem, id, req)
 	if err != nil {
 		s.refused(c, id, err, func(d *curveData) {
 			d.Reason = req.Reason
@@ -167,6 +182,17 @@ func (s *Site) curveRefit(c *gin.Context) {
 		return
 	}
 	c.Redirect(http.StatusSeeOther, "/curves/"+next)
+}
+
+// formIdem is a form's idempotency: its key field (FormKey) over the
+// route, the curve and the request as the API's idempotency would hash
+// them; nil when the form sent no key.
+func formIdem(c *gin.Context, route, id string, req any) (*service.Idem, error) {
+	body, err := json.Marshal(req)
+	if err != nil {
+		return nil, err
+	}
+	return service.NewIdem(c.PostForm("key"), route, map[string]string{"id": id}, body)
 }
 
 // queuedData is the page for a refit left to the job queue.

@@ -144,12 +144,7 @@ func (s *Site) plateCurvePlot(c *gin.Context) {
 		s.errorPage(c, http.StatusNotFound, "Plate "+c.Param("id")+" has no curve "+c.Param("curve")+".")
 		return
 	}
-	conc := make([]float64, len(d.Points))
-	resp := make([]float64, len(d.Points))
-	for i, p := range d.Points {
-		conc[i], resp[i] = p.Conc, p.Response
-	}
-	s.svg(c, figure.Curve("Curve "+d.ID, &d.Result, conc, resp))
+	s.svg(c, figure.StoredCurve(d))
 }
 
 // svg answers a figure drawn into a buffer, so that a drawing error is a

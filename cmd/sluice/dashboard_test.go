@@ -23,6 +23,7 @@ var dashboardChecks = []struct {
 	{"compounds", checkCompounds},
 	{"compound", checkCompound},
 	{"curve-review", checkCurveReview},
+	{"form-resend", checkFormResend},
 	{"curve-refit", checkCurveRefit},
 	{"curve-refusals", checkCurveRefusals},
 	// Plates and Schild analyses (dashboard_plates_test.go).

@@ -25,8 +25,8 @@ type CurveData struct {
 	PlateID string
 	// CompoundID is the curve's compound; "" when the fit named none.
 	CompoundID string
-	Result  wire.FitResult
-	Points  []fit.Point
+	Result     wire.FitResult
+	Points     []fit.Point
 	// Names name the points as a refit of this version names them: a
 	// single fit's index in its input ("0", "1", …), a plate curve's well
 	// ("B7"); one per point.

@@ -44,10 +44,12 @@ const seed1mVar = "SLUICE_BENCH_SEED1M_URL"
 func BenchmarkPages(b *testing.B) {
 	ctx := context.Background()
 	b.Run("sqlite", func(b *testing.B) {
-		benchPages(b, benchDemoStore(b, "", b.TempDir()), benchPagePaths)
+		store := benchDemoStore(b, "", b.TempDir())
+		benchPages(b, store, append(benchPagePaths, demoPlatePaths(b, store)...))
 	})
 	b.Run("postgres", func(b *testing.B) {
-		benchPages(b, benchDemoStore(b, dbtest.PostgresURL(b), ""), benchPagePaths)
+		store := benchDemoStore(b, dbtest.PostgresURL(b), "")
+		benchPages(b, store, append(benchPagePaths, demoPlatePaths(b, store)...))
 	})
 	b.Run("seed1m", func(b *testing.B) {
 		u := os.Getenv(seed1mVar)
@@ -65,6 +67,22 @@ func BenchmarkPages(b *testing.B) {
 		}
 		benchPages(b, store, []string{"/", "/compounds/" + url.PathEscape(cs[len(cs)/2].ID)})
 	})
+}
+
+// demoPlatePaths are the pages of the demo's 384-well plate LK-384-03 and
+// of its first curve, whose IDs the demo generates.
+func demoPlatePaths(b *testing.B, store db.Store) []string {
+	b.Helper()
+	ctx := context.Background()
+	ps, _, err := store.PlateList(ctx, db.PlateFilter{Barcode: "LK-384-03", Limit: 1})
+	if err != nil || len(ps) != 1 {
+		b.Fatalf("the demo plate LK-384-03: %d plates, %v", len(ps), err)
+	}
+	cs, err := store.PlateCurves(ctx, ps[0].ID)
+	if err != nil || len(cs) == 0 {
+		b.Fatalf("curves of LK-384-03: %d, %v", len(cs), err)
+	}
+	return []string{"/plates/" + url.PathEscape(ps[0].ID), "/curves/" + url.PathEscape(cs[0].ID)}
 }
 
 // benchDemoStore opens a store (dbURL, else SQLite in dir) with the demo
@@ -128,6 +146,12 @@ func benchPages(b *testing.B, store db.Store, paths []string) {
 // benchName names a path's sub-benchmark: the path, and "form" for the
 // calculator with its query.
 func benchName(p string) string {
+	// Generated IDs would make every run's names differ.
+	for _, pre := range []string{"/plates/", "/curves/"} {
+		if strings.HasPrefix(p, pre) {
+			return pre + "demo"
+		}
+	}
 	if i := strings.IndexByte(p, '?'); i >= 0 {
 		return p[:i] + "-form"
 	}

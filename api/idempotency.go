@@ -43,12 +43,27 @@ func writeReply(c *gin.Context, r *service.Reply) {
 // decode the body into a T, build the request's idempotency (idemOf), call
 // the use case, send its reply.
 func handleJSONWrite[T any](s *Server, c *gin.Context, call func(context.Context, service.Caller, *service.Idem, *T) (*service.Reply, error)) {
+	writeJSONBody(s, c, nil, call)
+}
+
+// handleIDWrite is handleJSONWrite for a use case that also takes the
+// route's {id}; the id joins the idempotency hash.
+func handleIDWrite[T any](s *Server, c *gin.Context, call func(context.Context, service.Caller, *service.Idem, string, *T) (*service.Reply, error)) {
+	id := c.Param("id")
+	writeJSONBody(s, c, []string{"id", id}, func(ctx context.Context, who service.Caller, idem *service.Idem, req *T) (*service.Reply, error) {
+		return call(ctx, who, idem, id, req)
+	})
+}
+
+// writeJSONBody decodes, builds the idempotency over the body and the
+// route parameters also (name, value pairs), calls and replies.
+func writeJSONBody[T any](s *Server, c *gin.Context, also []string, call func(context.Context, service.Caller, *service.Idem, *T) (*service.Reply, error)) {
 	var req T
 	body, ok := s.readJSON(c, &req)
 	if !ok {
 		return
 	}
-	idem, err := idemOf(c, body)
+	idem, err := idemOf(c, body, also...)
 	if err != nil {
 		s.writeProblem(c, err)
 		return

@@ -160,44 +160,10 @@ func (s *Server) getCurve(c *gin.Context) {
 }
 
 // reviewCurve is POST /v1/curves/{id}/review.
-func (s *Server) reviewCurve(c *gin.Context) {
-	var req wire.ReviewRequest
-	body, ok := s.readJSON(c, &req)
-	if !ok {
-		return
-	}
-	idem, err := idemOf(c, body, "id", c.Param("id"))
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	r, err := s.svc.Review(c.Request.Context(), callerOf(c), idem, c.Param("id"), &req)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	writeReply(c, r)
-}
+func (s *Server) reviewCurve(c *gin.Context) { handleIDWrite(s, c, s.svc.Review) }
 
 // refitCurve is POST /v1/curves/{id}/refit.
-func (s *Server) refitCurve(c *gin.Context) {
-	var req wire.RefitRequest
-	body, ok := s.readJSON(c, &req)
-	if !ok {
-		return
-	}
-	idem, err := idemOf(c, body, "id", c.Param("id"))
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	r, err := s.svc.Refit(c.Request.Context(), callerOf(c), idem, c.Param("id"), &req)
-	if err != nil {
-		s.writeProblem(c, err)
-		return
-	}
-	writeReply(c, r)
-}
+func (s *Server) refitCurve(c *gin.Context) { handleIDWrite(s, c, s.svc.Refit) }
 
 // createMSRStudy is POST /v1/msr-studies.
 func (s *Server) createMSRStudy(c *gin.Context) { handleJSONWrite(s, c, s.svc.CreateMSRStudy) }

@@ -80,8 +80,8 @@ func New(cfg Config, d Deps) (*Site, error) {
 	return s, nil
 }
 
-// parsePages parses each page template (templates/*.html but the layout)
-// with the layout around it.
+// parsePages parses each page template (templates/*.html but the layout
+// and the shared parts) with the layout and parts.html around it.
 func parsePages() (map[string]*template.Template, error) {
 	names, err := fs.Glob(assets, "templates/*.html")
 	if err != nil {
@@ -89,10 +89,10 @@ func parsePages() (map[string]*template.Template, error) {
 	}
 	pages := map[string]*template.Template{}
 	for _, n := range names {
-		if n == "templates/layout.html" {
+		if n == "templates/layout.html" || n == "templates/parts.html" {
 			continue
 		}
-		t, err := template.New("layout.html").Funcs(funcs).ParseFS(assets, "templates/layout.html", n)
+		t, err := template.New("layout.html").Funcs(funcs).ParseFS(assets, "templates/layout.html", "templates/parts.html", n)
 		if err != nil {
 			return nil, fmt.Errorf("template %s: %w", n, err)
 		}

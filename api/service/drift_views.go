@@ -6,6 +6,7 @@ import (
 	"time"
 
 	"sluice/api/wire"
+	"sluice/db"
 )
 
 // DriftChart is GET /v1/assays/{id}/drift: one metric of an assay over
@@ -26,19 +27,30 @@ func (s *Service) evaluateChart(ctx context.Context, assayID, metric string) (*e
 	if !validMetric(metric) {
 		return nil, BadParameter("metric", "metric %q is not charted; want one of %s", metric, metricNames)
 	}
-	if _, err := s.store.Assay(ctx, assayID); err != nil {
+	plates, byMetric, err := s.assaySeries(ctx, assayID)
+	if err != nil {
 		return nil, err
+	}
+	return evaluateMetric(metric, plates, byMetric)
+}
+
+// assaySeries reads what charting an assay needs: its assessed plates
+// (the whole series: limits and rules run from the first plate) and its
+// stored charts by metric; ErrNotFound naming the assay when there is none.
+func (s *Service) assaySeries(ctx context.Context, assayID string) ([]db.DriftPlate, map[string]*db.DriftChart, error) {
+	if _, err := s.store.Assay(ctx, assayID); err != nil {
+		return nil, nil, err
 	}
 	var zero time.Time
 	plates, err := s.store.DriftPlates(ctx, assayID, zero, zero)
 	if err != nil {
-		return nil, fmt.Errorf("drift series of assay %s: %w", assayID, err)
+		return nil, nil, fmt.Errorf("drift series of assay %s: %w", assayID, err)
 	}
 	stored, err := s.store.AssayDriftCharts(ctx, assayID)
 	if err != nil {
-		return nil, fmt.Errorf("drift charts of assay %s: %w", assayID, err)
+		return nil, nil, fmt.Errorf("drift charts of assay %s: %w", assayID, err)
 	}
-	return evaluateMetric(metric, plates, chartsByMetric(stored))
+	return plates, chartsByMetric(stored), nil
 }
 
 // DriftOverview is GET /v1/drift: every charted assay and metric with its
@@ -65,19 +77,10 @@ func (s *Service) DriftOverview(ctx context.Context) (*wire.DriftOverview, error
 // /v1/drift lists them, then r4s), each as DriftChart answers, from one
 // read of the assay's series: the dashboard's assay drift page.
 func (s *Service) DriftCharts(ctx context.Context, assayID string, from, to time.Time) ([]*wire.DriftChart, error) {
-	if _, err := s.store.Assay(ctx, assayID); err != nil {
+	plates, byMetric, err := s.assaySeries(ctx, assayID)
+	if err != nil {
 		return nil, err
 	}
-	var zero time.Time
-	plates, err := s.store.DriftPlates(ctx, assayID, zero, zero)
-	if err != nil {
-		return nil, fmt.Errorf("drift series of assay %s: %w", assayID, err)
-	}
-	stored, err := s.store.AssayDriftCharts(ctx, assayID)
-	if err != nil {
-		return nil, fmt.Errorf("drift charts of assay %s: %w", assayID, err)
-	}
-	byMetric := chartsByMetric(stored)
 	var out []*wire.DriftChart
 	for _, metric := range allMetrics() {
 		ev, err := evaluateMetric(metric, plates, byMetric)

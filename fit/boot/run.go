@@ -80,12 +80,13 @@ func RunChunked(ctx context.Context, n, workers, chunk int, newWorker func() fun
 		b := -1
 		defer func() {
 			if v := recover(); v != nil {
+				// Stop the others first: capturing the stack is slow.
+				stopped.Store(true)
 				mu.Lock()
 				if perr == nil || b < perr.Index {
 					perr = &PanicError{Index: b, Value: v, Stack: debug.Stack()}
 				}
 				mu.Unlock()
-				stopped.Store(true)
 			}
 		}()
 		do := newWorker()

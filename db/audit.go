@@ -7,9 +7,8 @@ func (w *sqlWriter) InsertAudit(ctx context.Context, e *AuditEntry) error {
 	if !ok {
 		return w.invalid("InsertAudit", e.Target, "detail")
 	}
-	_, err := w.exec(ctx, "InsertAudit", e.Target, "INSERT INTO audit_log (at, actor, action, target, detail) VALUES ($1, $2, $3, $4, $5)",
+	return w.later(ctx, "InsertAudit", e.Target, "INSERT INTO audit_log (at, actor, action, target, detail) VALUES ($1, $2, $3, $4, $5)",
 		w.e.timeArg(e.At), e.Actor, e.Action, e.Target, detail)
-	return err
 }
 
 func (s *sqlStore) Audit(ctx context.Context, limit int) ([]AuditEntry, error) {
@@ -36,7 +35,7 @@ func (w *sqlWriter) InsertIdempotent(ctx context.Context, r *Idempotent) error {
 	if body == nil {
 		body = []byte{} // NOT NULL: an omitted body is empty
 	}
-	return w.insert(ctx, "InsertIdempotent", r.Key, "INSERT INTO idempotency_keys (actor, key, request_sha256, status, content_type, body, location, omitted_bytes, created_at) "+
+	return w.later(ctx, "InsertIdempotent", r.Key, "INSERT INTO idempotency_keys (actor, key, request_sha256, status, content_type, body, location, omitted_bytes, created_at) "+
 		"VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9)",
 		r.Actor, r.Key, r.RequestSHA256, r.Status, r.ContentType, body, r.Location, r.OmittedBytes, w.e.timeArg(r.CreatedAt))
 }

@@ -6,8 +6,6 @@ import (
 	"math"
 	"strconv"
 	"strings"
-
-	"github.com/jackc/pgx/v5"
 )
 
 // Bulk is a batch of records loaded by Store.Load in one transaction:
@@ -41,14 +39,6 @@ type Loader interface {
 // bulkCopier is a querier that can COPY rows into a table (PostgreSQL).
 type bulkCopier interface {
 	copyRows(ctx context.Context, table string, cols []string, rows [][]any) error
-}
-
-// copyRows bulk-loads rows with COPY.
-func (t pgTx) copyRows(ctx context.Context, table string, cols []string, rows [][]any) error {
-	ctx, cancel := within(ctx, t.at)
-	defer cancel()
-	_, err := t.tx.CopyFrom(ctx, pgx.Identifier{table}, cols, pgx.CopyFromRows(rows))
-	return timedOut(ctx, err)
 }
 
 const wellCols = "plate_id, well, row_index, col_index, role, compound_id, conc, value, antagonist_id, antagonist_conc"

@@ -60,9 +60,9 @@ func TestWriteErrorVisibility(t *testing.T) {
 			if err := w.InsertCompound(ctx, &db.Compound{ID: "c3", Name: "c3", CreatedAt: t0}); err != nil {
 				return err
 			}
-			ref := w.InsertFitRun(ctx, run("r1", t0, "nope", ""))
+			ref := w.InsertReview(ctx, &db.Review{ID: "v1", CurveID: "nope", Decision: db.ReviewRejected, Reason: "x", Actor: "a", At: t0})
 			if !errors.Is(ref, db.ErrReference) {
-				t.Errorf("unknown assay: %v", ref)
+				t.Errorf("unknown curve: %v", ref)
 			}
 			if err := w.InsertCompound(ctx, &db.Compound{ID: "c4", Name: "c4", CreatedAt: t0}); !errors.Is(err, db.ErrReference) {
 				t.Errorf("call after an aborting error: %v, want that error again", err)
@@ -76,6 +76,68 @@ func TestWriteErrorVisibility(t *testing.T) {
 			if _, err := s.Compound(ctx, id); !errors.Is(err, db.ErrNotFound) {
 				t.Errorf("compound %s of an aborted write: %v", id, err)
 			}
+		}
+	})
+}
+
+// A held-back call (InsertFitRun, InsertAudit, InsertIdempotent) reports
+// its error from the next call or from Write, as its own operation's
+// error, and the write keeps nothing: on PostgreSQL it travels with the
+// next round trip, on SQLite it runs at once.
+func TestHeldBackErrors(t *testing.T) {
+	dbtest.Engines(t, func(t *testing.T, s db.Store) {
+		ctx := context.Background()
+		// The error comes from the next call.
+		err := s.Write(ctx, func(w db.Writer) error {
+			if err := w.InsertCompound(ctx, &db.Compound{ID: "c1", Name: "c1", CreatedAt: t0}); err != nil {
+				return err
+			}
+			first := w.InsertFitRun(ctx, run("r1", t0, "nope", ""))
+			next := w.InsertCompound(ctx, &db.Compound{ID: "c2", Name: "c2", CreatedAt: t0})
+			if !errors.Is(errors.Join(first, next), db.ErrReference) {
+				t.Errorf("held-back fit of an unknown assay: %v, then %v; want ErrReference from one of them", first, next)
+			}
+			if !strings.Contains(next.Error(), `InsertFitRun("r1")`) {
+				t.Errorf("the next call's error %q does not name the held-back call", next)
+			}
+			return nil
+		})
+		if !errors.Is(err, db.ErrReference) || !strings.Contains(err.Error(), `InsertFitRun("r1")`) {
+			t.Errorf("Write = %v, want the fit's ErrReference", err)
+		}
+		// The error comes from Write: nothing follows the held-back call.
+		err = s.Write(ctx, func(w db.Writer) error {
+			if err := w.InsertCompound(ctx, &db.Compound{ID: "c3", Name: "c3", CreatedAt: t0}); err != nil {
+				return err
+			}
+			return w.InsertAudit(ctx, &db.AuditEntry{At: t0, Actor: "a", Action: "x", Target: "t", Detail: []byte(`{"a":`)})
+		})
+		if !errors.Is(err, db.ErrInvalid) || !strings.Contains(err.Error(), "InsertAudit") {
+			t.Errorf("Write with an invalid audit entry = %v, want InsertAudit's ErrInvalid", err)
+		}
+		rec := &db.Idempotent{Actor: "x", Key: "k", RequestSHA256: "h", Status: 201, ContentType: "application/json", Body: []byte("{}"), CreatedAt: t0}
+		if err := s.Write(ctx, func(w db.Writer) error { return w.InsertIdempotent(ctx, rec) }); err != nil {
+			t.Fatal(err)
+		}
+		err = s.Write(ctx, func(w db.Writer) error {
+			if err := w.InsertCompound(ctx, &db.Compound{ID: "c5", Name: "c5", CreatedAt: t0}); err != nil {
+				return err
+			}
+			return w.InsertIdempotent(ctx, rec)
+		})
+		if !errors.Is(err, db.ErrExists) || !strings.Contains(err.Error(), `InsertIdempotent("k")`) {
+			t.Errorf("Write with a taken key = %v, want InsertIdempotent's ErrExists", err)
+		}
+		for _, id := range []string{"c1", "c2", "c3", "c5"} {
+			if _, err := s.Compound(ctx, id); !errors.Is(err, db.ErrNotFound) {
+				t.Errorf("compound %s of a failed write: %v", id, err)
+			}
+		}
+		if _, err := s.FitRun(ctx, "r1"); !errors.Is(err, db.ErrNotFound) {
+			t.Errorf("fit r1 of a failed write: %v", err)
+		}
+		if n, err := s.Audit(ctx, 10); err != nil || len(n) != 0 {
+			t.Errorf("audit entries of failed writes: %v, %v", n, err)
 		}
 	})
 }

@@ -22,7 +22,7 @@ func (w *sqlWriter) InsertFitRun(ctx context.Context, r *FitRun) error {
 	if field != "" {
 		return w.invalid(op, r.ID, field)
 	}
-	return w.insert(ctx, op, r.ID, resultInsert, args...)
+	return w.later(ctx, op, r.ID, resultInsert, args...)
 }
 
 func fitRunOf(c *CurveResult) *FitRun {

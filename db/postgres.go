@@ -43,9 +43,12 @@ func openPostgres(ctx context.Context, url string, o Options) (*sqlStore, error)
 		pool.Close()
 		return nil, err
 	}
-	q, err := newRiverQueue(ctx, driver, func(q querier) (pgx.Tx, bool) {
-		t, ok := q.(pgTx)
-		return t.tx, ok
+	q, err := newRiverQueue(ctx, driver, func(ctx context.Context, q querier) (pgx.Tx, error) {
+		t, ok := q.(*pgTx)
+		if !ok {
+			return nil, errors.New("enqueue outside a transaction")
+		}
+		return t.pgxTx(ctx)
 	}, 200*time.Millisecond, o)
 	if err != nil {
 		pool.Close()
@@ -104,37 +107,30 @@ func (e *pgEngine) query(ctx context.Context, q string, args ...any) (rowsScanne
 }
 
 // inTx runs fn in one transaction (BEGIN … COMMIT), rolled back when fn
-// returns an error. Each statement's error reaches fn as it happens; bulk
-// rows go out in one round trip inside it (COPY for wells, a pipelined
-// pgx.Batch for curves). The transaction, every statement in it included,
-// ends within one call deadline.
+// returns an error, pipelined to save round trips (pgTx). Each statement
+// that answers something (rows touched, rows read) reaches fn with its
+// error as it happens; bulk rows go out in one round trip inside it (COPY
+// for wells, a pipelined batch for curves). The transaction, every
+// statement in it included, ends within one call deadline.
 func (e *pgEngine) inTx(ctx context.Context, fn func(querier) error) error {
 	at := deadline(e.timeout)
 	ctx, cancel := within(ctx, at)
 	defer cancel()
-	var fnErr error
-	err := pgx.BeginFunc(ctx, e.pool, func(tx pgx.Tx) error {
-		fnErr = fn(pgTx{tx: tx, at: at})
-		return fnErr
-	})
-	if fnErr != nil {
+	conn, err := e.pool.Acquire(ctx)
+	if err != nil {
+		return timedOut(ctx, err)
+	}
+	defer conn.Release()
+	t := &pgTx{conn: conn.Conn(), at: at, classify: e.classify}
+	if err := fn(t); err != nil {
+		t.rollback(ctx)
 		return err // fn's own, classified by the statement that failed
 	}
-	return timedOut(ctx, err)
-}
-
-// copyWells bulk-loads wells with COPY.
-func (t pgTx) copyWells(ctx context.Context, plateID string, wells []WellRow) error {
-	rows := make([][]any, len(wells))
-	for i, w := range wells {
-		rows[i] = []any{plateID, w.Well, w.Row, w.Col, w.Role, w.CompoundID, w.Conc, w.Value, w.AntagonistID, w.AntagonistConc}
+	if err := t.commit(ctx); err != nil {
+		t.rollback(ctx)
+		return timedOut(ctx, err)
 	}
-	ctx, cancel := within(ctx, t.at)
-	defer cancel()
-	_, err := t.tx.CopyFrom(ctx, pgx.Identifier{"wells"},
-		[]string{"plate_id", "well", "row_index", "col_index", "role", "compound_id", "conc", "value", "antagonist_id", "antagonist_conc"},
-		pgx.CopyFromRows(rows))
-	return timedOut(ctx, err)
+	return nil
 }
 
 func (e *pgEngine) ping(ctx context.Context) error {
@@ -185,40 +181,4 @@ func (e *pgEngine) classify(err error) error {
 		return ErrInvalid
 	}
 	return nil
-}
-
-// pgTx adapts a transaction; its statements end by the transaction's
-// deadline at.
-type pgTx struct {
-	tx pgx.Tx
-	at time.Time
-}
-
-func (t pgTx) deadline() time.Time { return t.at }
-
-func (t pgTx) exec(ctx context.Context, q string, args ...any) (int64, error) {
-	return boundExec(ctx, t.at, func(ctx context.Context) (int64, error) {
-		tag, err := t.tx.Exec(ctx, q, args...)
-		return tag.RowsAffected(), err
-	})
-}
-
-// execMany runs one statement for many rows as one pipelined batch inside
-// the transaction: one round trip, and the first failing row's error.
-func (t pgTx) execMany(ctx context.Context, q string, rows [][]any) error {
-	var b pgx.Batch
-	for _, r := range rows {
-		b.Queue(q, r...)
-	}
-	ctx, cancel := within(ctx, t.at)
-	defer cancel()
-	return timedOut(ctx, t.tx.SendBatch(ctx, &b).Close())
-}
-
-func (t pgTx) queryRow(ctx context.Context, q string, args ...any) rowScanner {
-	return boundQueryRow(ctx, t.at, func(ctx context.Context) rowScanner { return t.tx.QueryRow(ctx, q, args...) })
-}
-
-func (t pgTx) query(ctx context.Context, q string, args ...any) (rowsScanner, error) {
-	return boundQuery(ctx, t.at, func(ctx context.Context) (rowsScanner, error) { return t.tx.Query(ctx, q, args...) })
 }

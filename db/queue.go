@@ -172,7 +172,7 @@ type queue interface {
 type riverQueue[TTx any] struct {
 	driver riverdriver.Driver[TTx]
 	insert *river.Client[TTx]
-	txOf   func(querier) (TTx, bool)
+	txOf   func(context.Context, querier) (TTx, error)
 	poll   time.Duration
 	log    *slog.Logger // nil: River's default
 	// timeout and rescue are River's JobTimeout and RescueStuckJobsAfter.
@@ -213,7 +213,7 @@ func (q *riverQueue[TTx]) attempt(ctx context.Context, row *rivertype.JobRow, ta
 	return work(ctx)
 }
 
-func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(querier) (TTx, bool), poll time.Duration, o Options) (*riverQueue[TTx], error) {
+func newRiverQueue[TTx any](ctx context.Context, driver riverdriver.Driver[TTx], txOf func(context.Context, querier) (TTx, error), poll time.Duration, o Options) (*riverQueue[TTx], error) {
 	insert, err := river.NewClient(driver, &river.Config{Logger: o.Logger})
 	if err != nil {
 		return nil, fmt.Errorf("job queue: %w", err)
@@ -241,9 +241,9 @@ func RescueBound(timeout, rescue time.Duration) time.Duration {
 }
 
 func (q *riverQueue[TTx]) enqueue(ctx context.Context, qr querier, args river.JobArgs, lane string) (int64, error) {
-	tx, ok := q.txOf(qr)
-	if !ok {
-		return 0, errors.New("enqueue outside a transaction")
+	tx, err := q.txOf(ctx, qr)
+	if err != nil {
+		return 0, err
 	}
 	res, err := q.insert.InsertTx(ctx, tx, args, &river.InsertOpts{MaxAttempts: maxAttempts, Queue: lane})
 	if err != nil {

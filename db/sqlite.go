@@ -57,9 +57,12 @@ func openSQLite(ctx context.Context, dir string, o Options) (*sqlStore, error) {
 		db.Close()
 		return nil, err
 	}
-	q, err := newRiverQueue(ctx, driver, func(q querier) (*sql.Tx, bool) {
+	q, err := newRiverQueue(ctx, driver, func(_ context.Context, q querier) (*sql.Tx, error) {
 		t, ok := q.(sqlTx)
-		return t.tx, ok
+		if !ok {
+			return nil, errors.New("enqueue outside a transaction")
+		}
+		return t.tx, nil
 	}, 100*time.Millisecond, o)
 	if err != nil {
 		db.Close()

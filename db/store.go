@@ -30,10 +30,13 @@ type Transactor interface {
 	// Write runs fn once, in one transaction on either engine, committed
 	// when fn returns nil and rolled back otherwise. Each Writer call's
 	// error reaches fn as it happens, with the same category and text on
-	// both engines. An ErrExists from an Insert* call (the key is taken;
-	// nothing was written) leaves the write usable: fn may go on or give
-	// up. Any other error aborts the write: later calls return it again,
-	// and Write returns it and rolls back even if fn swallowed it.
+	// both engines, except for the calls marked "held back" below, whose
+	// error may come from a later call or from Write itself (PostgreSQL
+	// sends them with the next round trip). An ErrExists from any other
+	// Insert* call (the key is taken; nothing was written) leaves the
+	// write usable: fn may go on or give up. Any other error aborts the
+	// write: later calls return it again, and Write returns it and rolls
+	// back even if fn swallowed it.
 	Write(ctx context.Context, fn func(Writer) error) error
 }
 
@@ -178,10 +181,13 @@ type Health interface {
 }
 
 // Writer holds the writes allowed inside a transaction. Insert* calls
-// fail with ErrExists, without aborting the write, when the key is taken.
+// fail with ErrExists, without aborting the write, when the key is taken;
+// those marked "held back" fail with ErrExists and abort it.
 type Writer interface {
 	InsertAssay(ctx context.Context, a *Assay) error
 	InsertCompound(ctx context.Context, c *Compound) error
+	// InsertFitRun is held back: a fit's ID is new, so a taken one is a
+	// failure.
 	InsertFitRun(ctx context.Context, r *FitRun) error
 	// InsertReview appends a review event to a curve.
 	InsertReview(ctx context.Context, r *Review) error
@@ -205,7 +211,10 @@ type Writer interface {
 	TouchSession(ctx context.Context, hash string, at time.Time) error
 	DeleteSession(ctx context.Context, hash string) error
 	DeleteSessionsBefore(ctx context.Context, idleSince, now time.Time) (int64, error)
+	// InsertAudit is held back.
 	InsertAudit(ctx context.Context, e *AuditEntry) error
+	// InsertIdempotent is held back: a taken key (a concurrent request
+	// under it committed first) fails the write with ErrExists.
 	InsertIdempotent(ctx context.Context, r *Idempotent) error
 	// ExpireIdempotent deletes at most limit idempotency records stored
 	// before a time, oldest first, and says how many.

@@ -69,6 +69,33 @@ func (w *sqlWriter) insert(ctx context.Context, op, key, q string, args ...any) 
 	return nil
 }
 
+// later runs a statement whose only outcome is an error: an insert that
+// nothing reads back within the write and whose taken key is a failure,
+// not a choice (an audit entry, a record under a fresh key). PostgreSQL
+// holds it back to send it with the next statement or with COMMIT
+// (pgTx); its error then comes from that call or from Write, as op's
+// error. Like any error but a per-call ErrExists, it aborts the write.
+func (w *sqlWriter) later(ctx context.Context, op, key, q string, args ...any) error {
+	if w.err != nil {
+		return w.err
+	}
+	if err := checkArgs(args); err != nil {
+		return w.abort(&Error{Op: op, Key: key, Err: ErrInvalid})
+	}
+	if h, ok := w.q.(holder); ok {
+		h.hold(op, key, q, args)
+		return nil
+	}
+	_, err := w.exec(ctx, op, key, q, args...)
+	return err
+}
+
+// holder is a querier that can hold a statement back until its next
+// round trip (PostgreSQL's pgTx).
+type holder interface {
+	hold(op, key, q string, args []any)
+}
+
 // abort records err as the error that ends the write.
 func (w *sqlWriter) abort(err error) error {
 	if w.err == nil {

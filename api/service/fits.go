@@ -157,7 +157,7 @@ func (s *Service) checkRefs(ctx context.Context, req *wire.FitRequest, in *fitIn
 	for _, ref := range []struct{ ptr, id, kind string }{
 		{"/assay_id", req.AssayID, "assay"}, {"/compound_id", req.CompoundID, "compound"}, {"/refit_of", req.RefitOf, "fit"},
 	} {
-		if ref.id == "" {
+		if ref.id == "" || s.known.has(ref.kind, ref.id) {
 			continue
 		}
 		var err error
@@ -178,6 +178,9 @@ func (s *Service) checkRefs(ctx context.Context, req *wire.FitRequest, in *fitIn
 		}
 		if err != nil {
 			return fmt.Errorf("look up %s %q: %w", ref.kind, ref.id, err)
+		}
+		if ref.kind != "fit" {
+			s.known.add(ref.kind, ref.id)
 		}
 	}
 	return nil

@@ -55,6 +55,7 @@ type Service struct {
 	budget     Budget
 	obs        Observer
 	watch      *plateWatch // WaitPlate's shared poll
+	known      knownRefs   // assays and compounds seen in the store
 	// idemRetention and maxStoredReply are Deps'.
 	idemRetention  time.Duration
 	maxStoredReply int

@@ -7,6 +7,7 @@ import (
 
 	"github.com/jackc/pgx/v5"
 	"github.com/jackc/pgx/v5/pgconn"
+	"github.com/jackc/pgx/v5/pgxpool"
 )
 
 // pgTx is one Write's transaction on PostgreSQL, pipelined. On a busy
@@ -19,18 +20,22 @@ import (
 //   - a statement whose only outcome is an error (later: an audit entry, a
 //     record with a fresh key) is held back and sent with the next
 //     statement that needs an answer, or with COMMIT;
-//   - COMMIT goes out with what is held back.
+//   - COMMIT goes out with what is held back;
+//   - a write that sent nothing before COMMIT takes no connection of its
+//     own: it is committed in a group with others (groupcommit.go).
 //
 // A stored fit — BEGIN, its curve, its audit entry, its idempotency
-// record, COMMIT — is one round trip instead of five. Nothing changes in
+// record, COMMIT — is one round trip instead of five (shared with the
+// other writes of its group). Nothing changes in
 // what is stored: every statement still runs in the transaction, in the
 // order it was given. A held-back statement's error is reported by the
 // call that sends it (a later statement, or Write), as the error of the
 // operation that held it back; PostgreSQL aborts the transaction at it,
 // so nothing is committed.
 type pgTx struct {
-	conn     *pgx.Conn
-	at       time.Time // the Write's deadline
+	pool     *pgxpool.Pool
+	conn     *pgxpool.Conn // nil until the first round trip
+	at       time.Time     // the Write's deadline
 	classify func(error) error
 	tx       pgx.Tx // nil until BEGIN has been sent
 	held     []heldStmt
@@ -57,17 +62,34 @@ func (t *pgTx) hold(op, key, q string, args []any) {
 }
 
 // send runs, in one round trip, BEGIN when the transaction has not begun,
-// the held statements and then tail, and returns tail's command tags. The
-// first error is returned: a held statement's as its operation's *Error,
-// any other as the driver's.
+// the held statements and then tail, and returns tail's command tags.
 func (t *pgTx) send(ctx context.Context, tail []stmt) ([]pgconn.CommandTag, error) {
 	held := t.held
 	t.held = nil
-	begin := t.tx == nil
-	if !begin && len(held) == 0 && len(tail) == 0 {
+	if t.tx != nil && len(held) == 0 && len(tail) == 0 {
 		return nil, nil
 	}
+	ctx, cancel := within(ctx, t.at)
+	defer cancel()
+	if t.conn == nil {
+		c, err := t.pool.Acquire(ctx)
+		if err != nil {
+			return nil, timedOut(ctx, err)
+		}
+		t.conn = c
+	}
+	tx, tags, err := pipeline(ctx, t.conn.Conn(), t.tx, held, tail, t.classify)
+	t.tx = tx
+	return tags, err
+}
+
+// pipeline sends, in one round trip on conn, BEGIN when tx is nil (and
+// returns the transaction it begins), then held and tail, and returns
+// tail's command tags. The first error is returned: a held statement's
+// as its operation's *Error, any other as the driver's.
+func pipeline(ctx context.Context, conn *pgx.Conn, tx pgx.Tx, held []heldStmt, tail []stmt, classify func(error) error) (pgx.Tx, []pgconn.CommandTag, error) {
 	var b pgx.Batch
+	begin := tx == nil
 	if begin {
 		b.BeginTx(pgx.TxOptions{})
 	}
@@ -77,14 +99,12 @@ func (t *pgTx) send(ctx context.Context, tail []stmt) ([]pgconn.CommandTag, erro
 	for _, s := range tail {
 		b.Queue(s.q, s.args...)
 	}
-	ctx, cancel := within(ctx, t.at)
-	defer cancel()
 	var br pgx.BatchResults
 	if begin {
-		br = t.conn.SendBatch(ctx, &b)
-		t.tx = br.Tx()
+		br = conn.SendBatch(ctx, &b)
+		tx = br.Tx()
 	} else {
-		br = t.tx.SendBatch(ctx, &b)
+		br = tx.SendBatch(ctx, &b)
 	}
 	var first error
 	var firstOf *heldStmt
@@ -111,9 +131,9 @@ func (t *pgTx) send(ctx context.Context, tail []stmt) ([]pgconn.CommandTag, erro
 	}
 	err := timedOut(ctx, first)
 	if err != nil && firstOf != nil {
-		err = opError(firstOf.op, firstOf.key, err, t.classify)
+		err = opError(firstOf.op, firstOf.key, err, classify)
 	}
-	return tags, err
+	return tx, tags, err
 }
 
 // flush sends what is held back (and BEGIN), so that a statement that
@@ -129,27 +149,42 @@ func (t *pgTx) commit(ctx context.Context) error {
 	if t.tx == nil && len(t.held) == 0 {
 		return nil
 	}
-	tags, err := t.send(ctx, []stmt{{q: "commit"}})
+	return committed(t.send(ctx, []stmt{commitStmt}))
+}
+
+// commitStmt ends a transaction.
+var commitStmt = stmt{q: "commit"}
+
+// committed is the outcome of a round trip that ended with COMMIT, given
+// the round trip's tags and error.
+func committed(tags []pgconn.CommandTag, err error) error {
 	if err != nil {
 		return err
 	}
 	// COMMIT of a transaction that an error aborted answers ROLLBACK.
-	if tags[0].String() == "ROLLBACK" {
+	if tags[len(tags)-1].String() == "ROLLBACK" {
 		return pgx.ErrTxCommitRollback
 	}
 	return nil
 }
 
-// rollback ends a begun transaction that is still open. A rollback that
-// fails leaves the connection broken, and the pool discards it.
+// rollback ends a begun transaction that is still open.
 func (t *pgTx) rollback(ctx context.Context) {
 	t.held = nil
-	if t.tx == nil || t.conn.PgConn().TxStatus() == 'I' {
+	if t.conn == nil {
 		return
 	}
 	ctx, cancel := within(ctx, t.at)
 	defer cancel()
-	t.tx.Rollback(ctx)
+	rollback(ctx, t.conn.Conn(), t.tx)
+}
+
+// rollback ends tx on conn if it is still open. A rollback that fails
+// leaves the connection broken, and the pool discards it.
+func rollback(ctx context.Context, conn *pgx.Conn, tx pgx.Tx) {
+	if tx != nil && conn.PgConn().TxStatus() != 'I' {
+		tx.Rollback(ctx)
+	}
 }
 
 // pgxTx is the transaction as a pgx.Tx, begun and up to date, for River
@@ -222,3 +257,11 @@ func (t *pgTx) copyWells(ctx context.Context, plateID string, wells []WellRow) e
 type failedRow struct{ err error }
 
 func (r failedRow) Scan(...any) error { return r.err }
+
+// release gives the connection back to the pool.
+func (t *pgTx) release() {
+	if t.conn != nil {
+		t.conn.Release()
+		t.conn = nil
+	}
+}

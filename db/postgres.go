@@ -18,6 +18,9 @@ import (
 // pgEngine is PostgreSQL through a pgx pool.
 type pgEngine struct {
 	pool *pgxpool.Pool
+	// group commits the writes that sent nothing before COMMIT
+	// (groupcommit.go).
+	group *groupCommitter
 	// timeout bounds every call (Options.CallTimeout).
 	timeout time.Duration
 }
@@ -54,7 +57,9 @@ func openPostgres(ctx context.Context, url string, o Options) (*sqlStore, error)
 		pool.Close()
 		return nil, err
 	}
-	return &sqlStore{e: &pgEngine{pool: pool, timeout: o.callTimeout()}, q: q, timeout: o.callTimeout()}, nil
+	e := &pgEngine{pool: pool, timeout: o.callTimeout()}
+	e.group = newGroupCommitter(pool, e.classify, groupCommitters)
+	return &sqlStore{e: e, q: q, timeout: o.callTimeout()}, nil
 }
 
 // migrationLock is the key of the PostgreSQL advisory lock held while
@@ -110,21 +115,22 @@ func (e *pgEngine) query(ctx context.Context, q string, args ...any) (rowsScanne
 // returns an error, pipelined to save round trips (pgTx). Each statement
 // that answers something (rows touched, rows read) reaches fn with its
 // error as it happens; bulk rows go out in one round trip inside it (COPY
-// for wells, a pipelined batch for curves). The transaction, every
-// statement in it included, ends within one call deadline.
+// for wells, a pipelined batch for curves). A write that sent nothing
+// before COMMIT is committed with others waiting at that moment, in one
+// transaction (groupcommit.go). The transaction, every statement in it
+// included, ends within one call deadline.
 func (e *pgEngine) inTx(ctx context.Context, fn func(querier) error) error {
 	at := deadline(e.timeout)
 	ctx, cancel := within(ctx, at)
 	defer cancel()
-	conn, err := e.pool.Acquire(ctx)
-	if err != nil {
-		return timedOut(ctx, err)
-	}
-	defer conn.Release()
-	t := &pgTx{conn: conn.Conn(), at: at, classify: e.classify}
+	t := &pgTx{pool: e.pool, at: at, classify: e.classify}
+	defer t.release()
 	if err := fn(t); err != nil {
 		t.rollback(ctx)
 		return err // fn's own, classified by the statement that failed
+	}
+	if t.tx == nil && len(t.held) > 0 {
+		return e.group.commit(ctx, t.held)
 	}
 	if err := t.commit(ctx); err != nil {
 		t.rollback(ctx)
@@ -139,7 +145,10 @@ func (e *pgEngine) ping(ctx context.Context) error {
 	return timedOut(ctx, e.pool.Ping(ctx))
 }
 
-func (e *pgEngine) close()                  { e.pool.Close() }
+func (e *pgEngine) close() {
+	e.group.stop()
+	e.pool.Close()
+}
 func (e *pgEngine) name() string            { return "postgres" }
 func (e *pgEngine) timeArg(t time.Time) any { return t.UTC() }
 

@@ -2,9 +2,12 @@ package db
 
 import (
 	"context"
+	"errors"
 	"sync"
 	"time"
 
+	"github.com/jackc/pgx/v5"
+	"github.com/jackc/pgx/v5/pgconn"
 	"github.com/jackc/pgx/v5/pgxpool"
 )
 
@@ -22,10 +25,10 @@ import (
 // group grows with the load and costs one transaction, one WAL flush and
 // one round trip; alone, a write waits for no one.
 //
-// A group is all or nothing, but its writes are not: when a group fails
-// (one write's key is taken, one is invalid), it is rolled back and each
-// of its writes is committed again on its own, so each gets its own
-// outcome and error. Writes in a group are independent by construction:
+// A group is all or nothing, but its writes are not: when PostgreSQL
+// refuses one of a group's statements (one write's key is taken, one is
+// invalid), the group is rolled back and each of its writes is committed
+// again on its own, so each gets its own outcome and error. Writes in a group are independent by construction:
 // none read anything, so running them in one transaction changes no
 // result.
 
@@ -144,7 +147,7 @@ func (g *groupCommitter) commitGroup(group []*groupWrite) {
 		return
 	}
 	err := g.send(live)
-	if err == nil || len(live) == 1 {
+	if err == nil || len(live) == 1 || !refused(err) {
 		for _, w := range live {
 			w.done <- err
 		}
@@ -153,6 +156,21 @@ func (g *groupCommitter) commitGroup(group []*groupWrite) {
 	for _, w := range live {
 		w.done <- g.send([]*groupWrite{w})
 	}
+}
+
+// refused reports whether a group's error is PostgreSQL refusing one of
+// its statements (or its COMMIT), so that nothing of the group was
+// committed and each write may be tried again on its own. After a lost
+// connection or a passed deadline the outcome is unknown: COMMIT may have
+// been applied, and trying again could store a write twice, so every
+// write of the group gets the error, as a single write would.
+func refused(err error) bool {
+	var se *Error
+	if errors.As(err, &se) && se.cause != nil {
+		err = se.cause
+	}
+	var pe *pgconn.PgError
+	return errors.As(err, &pe) || errors.Is(err, pgx.ErrTxCommitRollback)
 }
 
 // send commits ws in one transaction, within the earliest of their

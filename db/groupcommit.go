@@ -7,7 +7,6 @@ import (
 	"time"
 
 	"github.com/jackc/pgx/v5"
-	"github.com/jackc/pgx/v5/pgconn"
 	"github.com/jackc/pgx/v5/pgxpool"
 )
 
@@ -28,7 +27,8 @@ import (
 // A group is all or nothing, but its writes are not: when PostgreSQL
 // refuses one of a group's statements (one write's key is taken, one is
 // invalid), the group is rolled back and each of its writes is committed
-// again on its own, so each gets its own outcome and error. Writes in a group are independent by construction:
+// again on its own, so each gets its own outcome and error (send says
+// when that is safe). Writes in a group are independent by construction:
 // none read anything, so running them in one transaction changes no
 // result.
 
@@ -86,13 +86,18 @@ func (g *groupCommitter) commit(ctx context.Context, held []heldStmt) error {
 	select {
 	case g.queue <- w:
 	case <-ctx.Done():
-		return ctx.Err()
+		return timedOut(ctx, ctx.Err())
 	case <-g.quit:
 		return &Error{Op: "Write", Err: ErrUnavailable}
 	}
 	select {
 	case err := <-w.done:
 		return err
+	case <-ctx.Done():
+		// The write's own deadline passed (or its caller left) while its
+		// group was in flight: as for a single write cut off at COMMIT,
+		// it may or may not have been committed.
+		return timedOut(ctx, ctx.Err())
 	case <-g.stopped:
 		select {
 		case err := <-w.done:
@@ -146,57 +151,56 @@ func (g *groupCommitter) commitGroup(group []*groupWrite) {
 	if len(live) == 0 {
 		return
 	}
-	err := g.send(live)
-	if err == nil || len(live) == 1 || !refused(err) {
+	retry, err := g.send(live)
+	if err == nil || len(live) == 1 || !retry {
 		for _, w := range live {
 			w.done <- err
 		}
 		return
 	}
 	for _, w := range live {
-		w.done <- g.send([]*groupWrite{w})
+		_, err := g.send([]*groupWrite{w})
+		w.done <- err
 	}
 }
 
-// refused reports whether a group's error is PostgreSQL refusing one of
-// its statements (or its COMMIT), so that nothing of the group was
-// committed and each write may be tried again on its own. After a lost
-// connection or a passed deadline the outcome is unknown: COMMIT may have
-// been applied, and trying again could store a write twice, so every
-// write of the group gets the error, as a single write would.
-func refused(err error) bool {
-	var se *Error
-	if errors.As(err, &se) && se.cause != nil {
-		err = se.cause
-	}
-	var pe *pgconn.PgError
-	return errors.As(err, &pe) || errors.Is(err, pgx.ErrTxCommitRollback)
-}
-
-// send commits ws in one transaction, within the earliest of their
-// deadlines.
-func (g *groupCommitter) send(ws []*groupWrite) error {
-	at := time.Time{}
+// send commits ws in one transaction, within the latest of their
+// deadlines (a write whose own deadline passes first stops waiting; see
+// commit), so that one write queued late does not cut the others short.
+// On failure, retry says whether trying each write again on its own is
+// safe: only when nothing of the group was committed, that is, when
+// PostgreSQL refused a statement and the transaction is still open and
+// aborted, when COMMIT answered ROLLBACK, or when pgx could not encode the
+// batch and sent nothing. After a lost connection or a passed deadline
+// COMMIT may have been applied, and trying again could store a write
+// twice, so every write of the group gets the error, as a single write
+// would.
+func (g *groupCommitter) send(ws []*groupWrite) (retry bool, err error) {
+	var at time.Time
 	var held []heldStmt
 	for _, w := range ws {
-		if d, ok := w.ctx.Deadline(); ok && (at.IsZero() || d.Before(at)) {
+		d, ok := w.ctx.Deadline()
+		if !ok {
+			d = deadline(DefaultCallTimeout)
+		}
+		if d.After(at) {
 			at = d
 		}
 		held = append(held, w.held...)
-	}
-	if at.IsZero() {
-		at = deadline(DefaultCallTimeout)
 	}
 	ctx, cancel := within(context.Background(), at)
 	defer cancel()
 	conn, err := g.pool.Acquire(ctx)
 	if err != nil {
-		return timedOut(ctx, err)
+		return false, timedOut(ctx, err)
 	}
 	defer conn.Release()
 	tx, tags, err := pipeline(ctx, conn.Conn(), nil, held, []stmt{commitStmt}, g.classify)
 	if err = committed(tags, err); err != nil {
-		rollback(ctx, conn.Conn(), tx)
+		c := conn.Conn()
+		var unsent pgx.ErrPreprocessingBatch
+		retry = (!c.IsClosed() && c.PgConn().TxStatus() == 'E') || errors.Is(err, pgx.ErrTxCommitRollback) || errors.As(err, &unsent)
+		rollback(ctx, c, tx)
 	}
-	return err
+	return retry, err
 }

@@ -204,3 +204,54 @@ func TestGroupCommitStop(t *testing.T) {
 		t.Errorf("writes that never ran stored %d audit entries", rows)
 	}
 }
+
+// A write whose deadline is near does not cut its group short: the group
+// runs to the latest deadline among its writes, and the write with little
+// time left stops waiting on its own.
+func TestGroupCommitLatestDeadline(t *testing.T) {
+	b := newGroupBench(t)
+	ctx := context.Background()
+	first := b.commitBlocked(t)
+	// A second transaction holds key k2, which the long write's group
+	// will wait for.
+	blocker2, err := b.pool.Begin(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer blocker2.Rollback(ctx)
+	if _, err := blocker2.Exec(ctx, "INSERT INTO idempotency_keys (actor, key, request_sha256, status, content_type, body, location, omitted_bytes, created_at) "+
+		"VALUES ('a', 'k2', 'h', 201, 'application/json', '', '', 0, now())"); err != nil {
+		t.Fatal(err)
+	}
+	short, cancel := context.WithTimeout(ctx, 2*time.Second)
+	defer cancel()
+	shortDone, longDone := make(chan error, 1), make(chan error, 1)
+	go func() {
+		shortDone <- b.g.Commit(short, func(w db.Writer) error {
+			return w.InsertAudit(ctx, &db.AuditEntry{At: t0, Actor: "a", Action: "group", Target: "short"})
+		})
+	}()
+	go func() {
+		longDone <- b.g.Commit(ctx, func(w db.Writer) error {
+			rec := keyK
+			rec.Key = "k2"
+			return w.InsertIdempotent(ctx, &rec)
+		})
+	}()
+	b.await(t, "2 writes waiting", func() bool { return b.g.Waiting() == 2 })
+	if err := b.blocker.Rollback(ctx); err != nil { // the first group commits; the second waits for k2
+		t.Fatal(err)
+	}
+	if err := <-first; err != nil {
+		t.Fatalf("the first write: %v", err)
+	}
+	if err := <-shortDone; !errors.Is(err, context.DeadlineExceeded) {
+		t.Errorf("the write whose deadline passed while its group waited: %v, want its deadline", err)
+	}
+	if err := blocker2.Rollback(ctx); err != nil {
+		t.Fatal(err)
+	}
+	if err := <-longDone; err != nil {
+		t.Errorf("the write with time left, in the same group: %v", err)
+	}
+}

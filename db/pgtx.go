@@ -44,8 +44,8 @@ type pgTx struct {
 // heldStmt is a statement held back until the next round trip, with the
 // operation and key its error is reported under.
 type heldStmt struct {
-	op, key, q string
-	args       []any
+	op, key string
+	stmt
 }
 
 // stmt is one statement with its arguments.
@@ -58,7 +58,7 @@ func (t *pgTx) deadline() time.Time { return t.at }
 
 // hold queues a statement to go out with the next round trip.
 func (t *pgTx) hold(op, key, q string, args []any) {
-	t.held = append(t.held, heldStmt{op: op, key: key, q: q, args: args})
+	t.held = append(t.held, heldStmt{op: op, key: key, stmt: stmt{q: q, args: args}})
 }
 
 // send runs, in one round trip, BEGIN when the transaction has not begun,
@@ -241,16 +241,6 @@ func (t *pgTx) copyRows(ctx context.Context, table string, cols []string, rows [
 	defer cancel()
 	_, err := t.tx.CopyFrom(ctx, pgx.Identifier{table}, cols, pgx.CopyFromRows(rows))
 	return timedOut(ctx, err)
-}
-
-// copyWells bulk-loads wells with COPY.
-func (t *pgTx) copyWells(ctx context.Context, plateID string, wells []WellRow) error {
-	rows := make([][]any, len(wells))
-	for i, w := range wells {
-		rows[i] = []any{plateID, w.Well, w.Row, w.Col, w.Role, w.CompoundID, w.Conc, w.Value, w.AntagonistID, w.AntagonistConc}
-	}
-	return t.copyRows(ctx, "wells",
-		[]string{"plate_id", "well", "row_index", "col_index", "role", "compound_id", "conc", "value", "antagonist_id", "antagonist_conc"}, rows)
 }
 
 // failedRow is a row whose query could not be sent.

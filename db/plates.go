@@ -3,6 +3,7 @@ package db
 import (
 	"context"
 	"strconv"
+	"strings"
 	"time"
 )
 
@@ -113,14 +114,13 @@ func (w *sqlWriter) InsertPlate(ctx context.Context, p *Plate, wells []WellRow) 
 			return w.invalid(op, p.ID, "wells/"+wr.Well)
 		}
 	}
-	if cw, ok := w.q.(copier); ok {
-		if err := cw.copyWells(ctx, p.ID, wells); err != nil {
+	if c, ok := w.q.(bulkCopier); ok {
+		if err := c.copyRows(ctx, "wells", strings.Split(wellCols, ", "), rows); err != nil {
 			return w.abort(opError(op, p.ID, err, w.e.classify))
 		}
 		return nil
 	}
-	const q = "INSERT INTO wells (plate_id, well, row_index, col_index, role, compound_id, conc, value, antagonist_id, antagonist_conc) " +
-		"VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)"
+	const q = "INSERT INTO wells (" + wellCols + ") VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10)"
 	return w.execMany(ctx, op, p.ID, q, rows)
 }
 
@@ -154,11 +154,6 @@ func (w *sqlWriter) execMany(ctx context.Context, op, key, q string, rows [][]an
 // manyExecer runs one statement for many rows.
 type manyExecer interface {
 	execMany(ctx context.Context, q string, rows [][]any) error
-}
-
-// copier is a querier that can bulk-load wells (PostgreSQL COPY).
-type copier interface {
-	copyWells(ctx context.Context, plateID string, wells []WellRow) error
 }
 
 // FinishPlate stores the plate's curves as curve results (their assay,
